@@ -1,0 +1,65 @@
+// The whole analysis of one recording: ingest -> spectral -> loop -> analysis.
+// A pure function of the source and the options; it never prints.
+#pragma once
+
+#include <functional>
+#include <optional>
+#include <string>
+
+#include "loopmargin/analysis/margins.hpp"
+#include "loopmargin/loop/loop.hpp"
+#include "loopmargin/record/record.hpp"
+#include "loopmargin/spectral/response.hpp"
+#include "loopmargin/spectral/welch.hpp"
+
+namespace loopmargin {
+
+// Which channels play which part. The injection may be computed from the two
+// loop signals as z = x - y by naming it kInjectionFromDifference.
+struct ChannelRoles {
+  std::string injection = "z";
+  std::string x = "x";
+  std::string y = "y";
+};
+inline constexpr const char* kInjectionFromDifference = "x-y";
+
+struct AnalysisOptions {
+  ChannelRoles roles;
+  WelchOptions welch;
+  ResponseOptions response;
+  Convention convention = Convention::kSeriesInjection;
+  MarginOptions margins;
+};
+
+// Facts about the recording and the averaging, for the outputs.
+struct RecordFacts {
+  double sample_rate_hz = 0.0;
+  std::size_t sample_count = 0;
+  std::vector<std::string> channel_names;
+  ChannelRoles roles;
+  std::size_t segments = 0;
+  double effective_averages = 0.0;
+};
+
+struct AnalysisResult {
+  std::string origin;                 // the file analysed
+  std::optional<RecordFacts> record;  // absent for a frequency-response table
+  AnalysisOptions options;
+  LoopResponse loop;
+  Margins margins;
+  Diagnostics findings;  // from every stage, in stage order
+};
+
+// Called with the number of samples consumed so far.
+using ProgressFunction = std::function<void(std::size_t samples)>;
+
+// Throws InputError for missing channels or a record shorter than one
+// segment, ConfigError for bad options, NumericalError when no line is usable.
+AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& options,
+                                 const ProgressFunction& progress = {});
+
+// Margins of a response that is already in the frequency domain.
+AnalysisResult analyze_response(const std::string& origin, const Response& measured, Convention convention,
+                                const MarginOptions& options = {});
+
+}  // namespace loopmargin

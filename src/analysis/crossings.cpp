@@ -1,0 +1,173 @@
+#include "analysis/crossings.hpp"
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include "loopmargin/units.hpp"
+
+namespace loopmargin::detail {
+
+LineTable make_line_table(const std::vector<double>& frequency_hz, const std::vector<std::complex<double>>& value,
+                          const std::vector<double>& relative_sigma) {
+  LineTable table;
+  table.value = value;
+  double previous_rad = 0.0;
+  double unwrapped_deg = 0.0;
+  for (std::size_t k = 0; k < value.size(); ++k) {
+    const double angle_rad = std::arg(value[k]);
+    unwrapped_deg = (k == 0) ? deg_from_rad(angle_rad) : unwrapped_deg + wrap_deg(deg_from_rad(angle_rad - previous_rad));
+    previous_rad = angle_rad;
+    const double sigma = relative_sigma.empty() ? 0.0 : relative_sigma[k];
+    table.log_f.push_back(std::log10(frequency_hz[k]));
+    table.gain_db.push_back(db_from_ratio(std::abs(value[k])));
+    table.phase_deg.push_back(unwrapped_deg);
+    table.relative_sigma.push_back(sigma);
+    table.gain_sigma_db.push_back(db_from_nepers(sigma));
+    table.phase_sigma_deg.push_back(deg_from_rad(sigma));
+  }
+  return table;
+}
+
+std::vector<Bracket> gain_brackets(const LineTable& table) {
+  std::vector<Bracket> brackets;
+  for (std::size_t k = 0; k + 1 < table.size(); ++k) {
+    if ((table.gain_db[k] > 0.0) != (table.gain_db[k + 1] > 0.0)) brackets.push_back({k, 0.0});
+  }
+  return brackets;
+}
+
+std::vector<Bracket> phase_brackets(const LineTable& table) {
+  std::vector<Bracket> brackets;
+  for (std::size_t k = 0; k + 1 < table.size(); ++k) {
+    const double p0 = table.phase_deg[k];
+    const double p1 = table.phase_deg[k + 1];
+    const auto m_low = static_cast<long>(std::floor((std::min(p0, p1) + 180.0) / 360.0));
+    const auto m_high = static_cast<long>(std::ceil((std::max(p0, p1) + 180.0) / 360.0));
+    for (long m = m_low; m <= m_high; ++m) {
+      const double level = -180.0 + 360.0 * static_cast<double>(m);
+      if ((p0 > level) != (p1 > level)) brackets.push_back({k, level});
+    }
+  }
+  return brackets;
+}
+
+std::size_t modulus_minimum_index(const LineTable& table) {
+  std::size_t best = 0;
+  for (std::size_t k = 1; k < table.size(); ++k) {
+    if (std::abs(1.0 + table.value[k]) < std::abs(1.0 + table.value[best])) best = k;
+  }
+  return best;
+}
+
+double LocalFit::at(double log_f) const {
+  const double t = log_f - centre;
+  return a + t * (b + t * c);
+}
+
+double LocalFit::slope(double log_f) const { return b + 2.0 * c * (log_f - centre); }
+
+LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& values,
+                   const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree) {
+  const std::size_t count = last - first + 1;
+  degree = std::min<int>(degree, static_cast<int>(count) - 1);
+  const bool weighted = std::all_of(sigmas.begin() + first, sigmas.begin() + last + 1, [](double s) { return s > 0.0; });
+  LocalFit fit;
+  fit.centre = 0.5 * (log_f[first] + log_f[last]);
+  Eigen::MatrixXd design(count, degree + 1);
+  Eigen::VectorXd target(count);
+  for (std::size_t i = 0; i < count; ++i) {
+    const double weight = weighted ? 1.0 / sigmas[first + i] : 1.0;
+    const double t = log_f[first + i] - fit.centre;
+    double power = 1.0;
+    for (int d = 0; d <= degree; ++d, power *= t) design(i, d) = weight * power;
+    target(i) = weight * values[first + i];
+  }
+  const Eigen::VectorXd solution = design.colPivHouseholderQr().solve(target);
+  fit.a = solution(0);
+  fit.b = degree >= 1 ? solution(1) : 0.0;
+  fit.c = degree >= 2 ? solution(2) : 0.0;
+  return fit;
+}
+
+double solve_in_bracket(const LocalFit& fit, const std::vector<double>& log_f, const std::vector<double>& values,
+                        const Bracket& bracket) {
+  const double u0 = log_f[bracket.index];
+  const double u1 = log_f[bracket.index + 1];
+  const double t0 = u0 - fit.centre;
+  const double t1 = u1 - fit.centre;
+  const double constant = fit.a - bracket.level;
+  std::vector<double> roots;
+  if (std::abs(fit.c) > 1e-14 * (std::abs(fit.b) + std::abs(constant))) {
+    const double discriminant = fit.b * fit.b - 4.0 * fit.c * constant;
+    if (discriminant >= 0.0) {
+      // Numerically stable pair of roots.
+      const double q = -0.5 * (fit.b + std::copysign(std::sqrt(discriminant), fit.b));
+      if (q != 0.0) roots.push_back(constant / q);
+      roots.push_back(q / fit.c);
+    }
+  } else if (fit.b != 0.0) {
+    roots.push_back(-constant / fit.b);
+  }
+  for (double t : roots) {
+    if (t >= t0 && t <= t1) return fit.centre + t;
+  }
+  const double v0 = values[bracket.index] - bracket.level;
+  const double v1 = values[bracket.index + 1] - bracket.level;
+  return u0 + (u1 - u0) * v0 / (v0 - v1);
+}
+
+GainDirection direction_of(double gain_margin_db) {
+  return gain_margin_db >= 0.0 ? GainDirection::kIncrease : GainDirection::kDecrease;
+}
+
+MarginSummary summarize(const Margins& margins) {
+  MarginSummary summary;
+  for (const GainCrossover& c : margins.gain_crossovers) {
+    if (!summary.phase_margin_deg || c.phase_margin_deg < *summary.phase_margin_deg) {
+      summary.phase_margin_deg = c.phase_margin_deg;
+      summary.gain_crossover_hz = c.frequency_hz;
+    }
+    if (!summary.delay_margin_s || c.delay_margin_s < *summary.delay_margin_s) summary.delay_margin_s = c.delay_margin_s;
+  }
+  for (const PhaseCrossover& c : margins.phase_crossovers) {
+    const double gm = c.gain_margin_db;
+    if (!summary.gain_margin_db || std::abs(gm) < std::abs(*summary.gain_margin_db)) {
+      summary.gain_margin_db = gm;
+      summary.phase_crossover_hz = c.frequency_hz;
+    }
+    auto& directed = gm >= 0.0 ? summary.gain_increase_margin_db : summary.gain_reduction_margin_db;
+    if (!directed || std::abs(gm) < std::abs(*directed)) directed = gm;
+  }
+  if (margins.modulus) {
+    summary.modulus_margin = margins.modulus->modulus_margin;
+    summary.peak_sensitivity_db = margins.modulus->peak_sensitivity_db;
+    summary.modulus_frequency_hz = margins.modulus->frequency_hz;
+  }
+  return summary;
+}
+
+void add_absence_findings(const LineTable& table, Margins& margins) {
+  const Location band{.low_hz = margins.band_low_hz, .high_hz = margins.band_high_hz};
+  if (margins.gain_crossovers.empty()) {
+    const auto [low, high] = std::minmax_element(table.gain_db.begin(), table.gain_db.end());
+    std::ostringstream message;
+    message << "no gain crossover in the band: |L| stays " << (*low > 0.0 ? "above" : "below") << " 0 dB (from "
+            << std::round(*low * 10.0) / 10.0 << " to " << std::round(*high * 10.0) / 10.0 << " dB)";
+    margins.findings.push_back(make_note("margins.no-gain-crossover", message.str(), band));
+  }
+  if (margins.phase_crossovers.empty()) {
+    margins.findings.push_back(
+        make_note("margins.no-phase-crossover", "no phase crossover in the band: the phase never reaches -180 deg", band));
+  }
+  if (margins.modulus && margins.modulus->at_band_edge) {
+    margins.findings.push_back(make_warning("margins.modulus-at-edge",
+                                            "the smallest |1 + L| lies at the edge of the band; the true minimum "
+                                            "may lie outside it",
+                                            band));
+  }
+}
+
+}  // namespace loopmargin::detail

@@ -1,0 +1,65 @@
+// Shared machinery of the margin finders: lines in log frequency, brackets of
+// crossings between adjacent lines, local fits, and the summary.
+#pragma once
+
+#include <complex>
+#include <cstddef>
+#include <vector>
+
+#include "loopmargin/analysis/margins.hpp"
+
+namespace loopmargin::detail {
+
+// Lines as the crossing search sees them.
+struct LineTable {
+  std::vector<double> log_f;        // log10 of frequency in Hz
+  std::vector<double> gain_db;      // 20 log10 |L|
+  std::vector<double> phase_deg;    // unwrapped along frequency
+  std::vector<double> gain_sigma_db;
+  std::vector<double> phase_sigma_deg;
+  std::vector<double> relative_sigma;
+  std::vector<std::complex<double>> value;
+
+  std::size_t size() const { return log_f.size(); }
+};
+
+LineTable make_line_table(const std::vector<double>& frequency_hz, const std::vector<std::complex<double>>& value,
+                          const std::vector<double>& relative_sigma);
+
+// A crossing of `level` between line `index` and line `index + 1`.
+struct Bracket {
+  std::size_t index = 0;
+  double level = 0.0;
+};
+
+std::vector<Bracket> gain_brackets(const LineTable& table);   // level 0 dB
+std::vector<Bracket> phase_brackets(const LineTable& table);  // levels -180 + 360 m deg
+
+// Index of the line with the smallest |1 + L|.
+std::size_t modulus_minimum_index(const LineTable& table);
+
+// Quadratic a + b t + c t^2 in t = log_f - centre, fitted by weighted least
+// squares (weights 1/sigma^2 when every sigma is positive, else equal).
+struct LocalFit {
+  double centre = 0.0;
+  double a = 0.0;
+  double b = 0.0;
+  double c = 0.0;
+  double at(double log_f) const;
+  double slope(double log_f) const;
+};
+
+LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& values,
+                   const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree);
+
+// The log frequency in [log_f[index], log_f[index + 1]] where the fit equals
+// `level`; linear interpolation between the two lines when the fit has no
+// root there.
+double solve_in_bracket(const LocalFit& fit, const std::vector<double>& log_f, const std::vector<double>& values,
+                        const Bracket& bracket);
+
+GainDirection direction_of(double gain_margin_db);
+MarginSummary summarize(const Margins& margins);
+void add_absence_findings(const LineTable& table, Margins& margins);
+
+}  // namespace loopmargin::detail

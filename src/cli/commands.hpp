@@ -1,0 +1,25 @@
+// The loopmargin verbs. Each adds its subcommand to the app; the work runs in
+// the subcommand's callback and throws loopmargin::Error subclasses, which
+// main() turns into exit codes.
+#pragma once
+
+#include <CLI/CLI.hpp>
+
+namespace loopmargin::cli {
+
+// Documented in README.md, "Exit codes".
+enum ExitCode : int {
+  kOk = 0,
+  kInternal = 1,
+  kUsage = 2,
+  kInput = 3,
+  kConfig = 4,
+  kNoResult = 5,
+  kOutput = 6,
+};
+
+void add_analyze(CLI::App& app);
+void add_margins(CLI::App& app);
+void add_synth(CLI::App& app);
+
+}  // namespace loopmargin::cli

@@ -1,0 +1,42 @@
+// The only place where errors become messages and exit codes.
+#include <iostream>
+
+#include "cli/commands.hpp"
+#include "loopmargin/error.hpp"
+
+int main(int argc, char** argv) {
+  using namespace loopmargin;
+  CLI::App app{"loopmargin: loop frequency response and stability margins from bench injection recordings"};
+  app.set_version_flag("--version", std::string("loopmargin ") + LOOPMARGIN_VERSION);
+  app.require_subcommand(1);
+  cli::add_analyze(app);
+  cli::add_margins(app);
+  cli::add_synth(app);
+  try {
+    app.parse(argc, argv);
+    return cli::kOk;
+  } catch (const CLI::Success& e) {
+    return app.exit(e);
+  } catch (const CLI::ParseError& e) {
+    app.exit(e);
+    return cli::kUsage;
+  } catch (const InputError& e) {
+    std::cerr << "loopmargin: input: " << e.what() << "\n";
+    return cli::kInput;
+  } catch (const ConfigError& e) {
+    std::cerr << "loopmargin: settings: " << e.what() << "\n";
+    return cli::kConfig;
+  } catch (const NumericalError& e) {
+    std::cerr << "loopmargin: no result: " << e.what() << "\n";
+    return cli::kNoResult;
+  } catch (const OutputError& e) {
+    std::cerr << "loopmargin: output: " << e.what() << "\n";
+    return cli::kOutput;
+  } catch (const std::bad_alloc&) {
+    std::cerr << "loopmargin: out of memory\n";
+    return cli::kInternal;
+  } catch (const std::exception& e) {
+    std::cerr << "loopmargin: internal error: " << e.what() << "\n";
+    return cli::kInternal;
+  }
+}

@@ -1,0 +1,186 @@
+#include <algorithm>
+#include <array>
+#include <cctype>
+#include <cmath>
+#include <sstream>
+
+#include "ingest/line_reader.hpp"
+#include "ingest/number_text.hpp"
+#include "ingest/stamp_check.hpp"
+#include "loopmargin/error.hpp"
+#include "loopmargin/ingest/delimited.hpp"
+
+namespace loopmargin {
+namespace {
+
+using detail::LineReader;
+using detail::detect_delimiter;
+using detail::parse_number;
+using detail::split_names;
+using detail::trim;
+
+bool is_blank_line(std::string_view line) { return trim(line).empty(); }
+
+std::string lowercase(std::string text) {
+  std::transform(text.begin(), text.end(), text.begin(), [](unsigned char c) { return std::tolower(c); });
+  return text;
+}
+
+std::optional<std::size_t> find_time_column(const std::vector<std::string>& names, const std::string& wanted,
+                                            const std::string& path) {
+  if (!wanted.empty()) {
+    const auto it = std::find(names.begin(), names.end(), wanted);
+    if (it == names.end()) throw ConfigError(path + ": no column named '" + wanted + "' for the time");
+    return static_cast<std::size_t>(it - names.begin());
+  }
+  for (std::size_t i = 0; i < names.size(); ++i) {
+    const std::string name = lowercase(names[i]);
+    if (name == "t" || name == "time" || name == "time_s") return i;
+  }
+  return std::nullopt;
+}
+
+class DelimitedReader final : public SampleSource {
+ public:
+  DelimitedReader(const std::string& path, const DelimitedOptions& options)
+      : path_(path), options_(options), lines_(path), stamps_(path) {
+    read_header();
+  }
+
+  const std::vector<std::string>& channel_names() const override { return channel_names_; }
+  const std::string& origin() const override { return path_; }
+  bool next(SampleBlock& block) override;
+  SourceSummary summary() const override { return summary_; }
+
+ private:
+  void read_header();
+  void parse_row(std::string_view line, SampleBlock& block);
+  [[noreturn]] void fail_cell(std::size_t column, std::string_view cell, const char* what) const;
+  void finish();
+
+  std::string path_;
+  DelimitedOptions options_;
+  LineReader lines_;
+  detail::StampChecker stamps_;
+  char delimiter_ = ',';
+  std::vector<std::string> column_names_;
+  std::vector<std::string> channel_names_;
+  std::optional<std::size_t> time_column_;
+  std::size_t rows_ = 0;
+  bool finished_ = false;
+  SourceSummary summary_;
+};
+
+void DelimitedReader::read_header() {
+  std::string_view header;
+  do {
+    if (!lines_.next(header)) throw InputError(path_ + ": the file is empty; a header line naming the columns is needed");
+  } while (is_blank_line(header));
+  delimiter_ = options_.delimiter.value_or(detect_delimiter(header));
+  column_names_ = split_names(header, delimiter_);
+  for (std::size_t i = 0; i < column_names_.size(); ++i) {
+    const std::string& name = column_names_[i];
+    if (name.empty() || parse_number(name)) {
+      std::ostringstream message;
+      message << path_ << ": line " << lines_.line_number() << ", column " << i + 1
+              << ": the header must name every column, found '" << name << "'";
+      throw InputError(message.str());
+    }
+  }
+  time_column_ = find_time_column(column_names_, options_.time_column, path_);
+  if (!time_column_ && !options_.sample_rate_hz) {
+    throw ConfigError(path_ + ": no time column (t, time or time_s) and no sample rate given; state the sample rate");
+  }
+  for (std::size_t i = 0; i < column_names_.size(); ++i) {
+    if (i != time_column_) channel_names_.push_back(column_names_[i]);
+  }
+  if (channel_names_.empty()) throw InputError(path_ + ": the header names no channel besides the time");
+}
+
+void DelimitedReader::fail_cell(std::size_t column, std::string_view cell, const char* what) const {
+  std::ostringstream message;
+  message << path_ << ": line " << lines_.line_number() << ", column " << column + 1 << " ('"
+          << column_names_.at(std::min(column, column_names_.size() - 1)) << "'): " << what << " '" << trim(cell)
+          << "'";
+  throw InputError(message.str());
+}
+
+void DelimitedReader::parse_row(std::string_view line, SampleBlock& block) {
+  std::size_t start = 0;
+  std::size_t channel = 0;
+  for (std::size_t column = 0; column < column_names_.size(); ++column) {
+    if (start > line.size()) {
+      std::ostringstream message;
+      message << path_ << ": line " << lines_.line_number() << ": " << column << " cells where the header names "
+              << column_names_.size();
+      throw InputError(message.str());
+    }
+    const auto stop = std::min(line.find(delimiter_, start), line.size());
+    const std::string_view cell = line.substr(start, stop - start);
+    start = stop + 1;
+    const auto value = parse_number(cell);
+    if (!value) fail_cell(column, cell, "not a number:");
+    if (!std::isfinite(*value)) fail_cell(column, cell, "not a finite number:");
+    if (column == time_column_) {
+      stamps_.add(*value, detail::printed_resolution(cell), lines_.line_number());
+    } else {
+      block.channels[channel++].push_back(*value);
+    }
+  }
+  if (start <= line.size()) {
+    std::ostringstream message;
+    message << path_ << ": line " << lines_.line_number() << ": more cells than the " << column_names_.size()
+            << " columns the header names";
+    throw InputError(message.str());
+  }
+}
+
+bool DelimitedReader::next(SampleBlock& block) {
+  if (finished_) return false;
+  block.first_sample = rows_;
+  block.channels.resize(channel_names_.size());
+  for (auto& samples : block.channels) {
+    samples.clear();
+    samples.reserve(options_.block_size);
+  }
+  std::string_view line;
+  while (block.size() < options_.block_size && lines_.next(line)) {
+    if (is_blank_line(line)) continue;
+    parse_row(line, block);
+    ++rows_;
+  }
+  if (block.size() == 0) {
+    finish();
+    return false;
+  }
+  return true;
+}
+
+void DelimitedReader::finish() {
+  finished_ = true;
+  if (rows_ == 0) throw InputError(path_ + ": no data rows after the header");
+  summary_.sample_count = rows_;
+  if (!time_column_) {
+    summary_.sample_rate_hz = *options_.sample_rate_hz;
+    return;
+  }
+  const double from_stamps = stamps_.finish();
+  summary_.sample_rate_hz = options_.sample_rate_hz.value_or(from_stamps);
+  if (options_.sample_rate_hz && std::abs(from_stamps / *options_.sample_rate_hz - 1.0) > 1e-3) {
+    std::ostringstream message;
+    message << "the stated sample rate " << *options_.sample_rate_hz << " Hz is used; the time column gives "
+            << from_stamps << " Hz";
+    summary_.findings.push_back(make_warning("ingest.rate-disagrees", message.str(), {column_names_[*time_column_]}));
+  }
+}
+
+}  // namespace
+
+std::unique_ptr<SampleSource> open_delimited(const std::string& path, const DelimitedOptions& options) {
+  if (options.sample_rate_hz && !(*options.sample_rate_hz > 0.0)) {
+    throw ConfigError("the sample rate must be positive");
+  }
+  return std::make_unique<DelimitedReader>(path, options);
+}
+
+}  // namespace loopmargin

@@ -1,0 +1,73 @@
+#include "ingest/number_text.hpp"
+
+#include <algorithm>
+#include <array>
+#include <charconv>
+#include <cmath>
+#include <cstdlib>
+
+namespace loopmargin::detail {
+
+std::string_view trim(std::string_view text) {
+  const auto is_blank = [](char c) { return c == ' ' || c == '\t' || c == '\r' || c == '"'; };
+  while (!text.empty() && is_blank(text.front())) text.remove_prefix(1);
+  while (!text.empty() && is_blank(text.back())) text.remove_suffix(1);
+  return text;
+}
+
+std::optional<double> parse_number(std::string_view cell) {
+  cell = trim(cell);
+  if (!cell.empty() && cell.front() == '+') cell.remove_prefix(1);
+  if (cell.empty()) return std::nullopt;
+  double value = 0.0;
+  const char* end = cell.data() + cell.size();
+  const auto [stop, error] = std::from_chars(cell.data(), end, value);
+  if (error != std::errc{} || stop != end) return std::nullopt;
+  return value;
+}
+
+double printed_resolution(std::string_view cell) {
+  cell = trim(cell);
+  int decimals = 0;
+  int exponent = 0;
+  const auto point = cell.find('.');
+  const auto mark = cell.find_first_of("eE");
+  if (point != std::string_view::npos) {
+    const auto mantissa_end = (mark == std::string_view::npos) ? cell.size() : mark;
+    decimals = static_cast<int>(mantissa_end - point - 1);
+  }
+  if (mark != std::string_view::npos) {
+    std::string_view digits = cell.substr(mark + 1);
+    if (!digits.empty() && digits.front() == '+') digits.remove_prefix(1);
+    std::from_chars(digits.data(), digits.data() + digits.size(), exponent);
+  }
+  return std::pow(10.0, exponent - decimals);
+}
+
+char detect_delimiter(std::string_view header) {
+  constexpr std::array<char, 3> kCandidates{',', ';', '\t'};
+  char best = ',';
+  std::ptrdiff_t best_count = 0;
+  for (char c : kCandidates) {
+    const auto count = std::count(header.begin(), header.end(), c);
+    if (count > best_count) {
+      best = c;
+      best_count = count;
+    }
+  }
+  return best;
+}
+
+std::vector<std::string> split_names(std::string_view header, char delimiter) {
+  std::vector<std::string> names;
+  std::size_t start = 0;
+  for (;;) {
+    const auto stop = header.find(delimiter, start);
+    names.emplace_back(trim(header.substr(start, stop - start)));
+    if (stop == std::string_view::npos) break;
+    start = stop + 1;
+  }
+  return names;
+}
+
+}  // namespace loopmargin::detail

@@ -1,0 +1,27 @@
+// Numbers as printed in text files.
+#pragma once
+
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace loopmargin::detail {
+
+// Parses a whole cell (surrounding blanks allowed, a leading '+' allowed) as a
+// double; nullopt when the cell is not entirely a number.
+std::optional<double> parse_number(std::string_view cell);
+
+// The step between adjacent values at the precision the cell was printed with:
+// "0.00125" -> 1e-5, "1.234567e+00" -> 1e-6, "42" -> 1.
+double printed_resolution(std::string_view cell);
+
+std::string_view trim(std::string_view text);
+
+// The most frequent of ',', ';' and tab in a header line (',' if none).
+char detect_delimiter(std::string_view header);
+
+// Cells of a header line, trimmed.
+std::vector<std::string> split_names(std::string_view header, char delimiter);
+
+}  // namespace loopmargin::detail

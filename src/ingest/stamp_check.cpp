@@ -1,0 +1,84 @@
+#include "ingest/stamp_check.hpp"
+
+#include <cmath>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+
+namespace loopmargin::detail {
+namespace {
+
+// Steps may differ from the expected one by this fraction plus twice the
+// printed resolution (one unit of rounding on each of the two stamps).
+constexpr double kStepTolerance = 0.25;
+// Stamps kept before the expected step is fixed: enough for the span to be
+// large against the printed resolution.
+constexpr std::size_t kMinReferenceStamps = 16;
+constexpr double kReferenceSpanInResolutions = 200.0;
+constexpr std::size_t kMaxReferenceStamps = 1 << 20;
+
+}  // namespace
+
+void StampChecker::add(double stamp_s, double resolution_s, std::size_t line) {
+  resolution_s_ = std::max(resolution_s_, resolution_s);
+  if (count_ == 0) first_s_ = stamp_s;
+  const double previous_s = last_s_;
+  last_s_ = stamp_s;
+  ++count_;
+  if (reference_step_s_ > 0.0) {
+    check_step(previous_s, stamp_s, line);
+    return;
+  }
+  early_stamps_.push_back(stamp_s);
+  early_lines_.push_back(line);
+  const double span = stamp_s - first_s_;
+  if ((early_stamps_.size() >= kMinReferenceStamps && span >= kReferenceSpanInResolutions * resolution_s_) ||
+      early_stamps_.size() >= kMaxReferenceStamps) {
+    fix_reference_step();
+  }
+}
+
+void StampChecker::fix_reference_step() {
+  const std::size_t n = early_stamps_.size();
+  if (n < 2) return;
+  reference_step_s_ = (early_stamps_.back() - early_stamps_.front()) / static_cast<double>(n - 1);
+  if (!(reference_step_s_ > 0.0)) {
+    std::ostringstream message;
+    message << origin_ << ": line " << early_lines_.back() << ": the time column does not increase over its first "
+            << n << " rows";
+    throw InputError(message.str());
+  }
+  for (std::size_t i = 1; i < n; ++i) check_step(early_stamps_[i - 1], early_stamps_[i], early_lines_[i]);
+  early_stamps_.clear();
+  early_stamps_.shrink_to_fit();
+  early_lines_.clear();
+  early_lines_.shrink_to_fit();
+}
+
+void StampChecker::check_step(double previous_s, double stamp_s, std::size_t line) const {
+  const double step = stamp_s - previous_s;
+  const bool rounding_hides_step = resolution_s_ >= 0.5 * reference_step_s_;
+  if (step < 0.0 || (step == 0.0 && !rounding_hides_step)) {
+    std::ostringstream message;
+    message << origin_ << ": line " << line << ": time " << stamp_s << " s does not increase (previous row " << previous_s
+            << " s)";
+    throw InputError(message.str());
+  }
+  const double tolerance = kStepTolerance * reference_step_s_ + 2.0 * resolution_s_;
+  if (std::abs(step - reference_step_s_) > tolerance) {
+    std::ostringstream message;
+    message << origin_ << ": line " << line << ": time step " << step << " s where " << reference_step_s_
+            << " s is expected (tolerance " << tolerance << " s); the time column is not uniform";
+    throw InputError(message.str());
+  }
+}
+
+double StampChecker::finish() {
+  if (count_ < 2) throw InputError(origin_ + ": fewer than two rows of data");
+  if (reference_step_s_ == 0.0) fix_reference_step();
+  const double span = last_s_ - first_s_;
+  if (!(span > 0.0)) throw InputError(origin_ + ": the time column spans no time");
+  return static_cast<double>(count_ - 1) / span;
+}
+
+}  // namespace loopmargin::detail

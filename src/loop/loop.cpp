@@ -1,0 +1,87 @@
+#include "loopmargin/loop/loop.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+#include <string>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/units.hpp"
+
+namespace loopmargin {
+namespace {
+
+// The plausibility check looks at lines with |L| above this gain in the
+// lowest tenth of the band (in log frequency), at least this many of them.
+constexpr double kHighGain = 2.0;
+constexpr std::size_t kMinLowLines = 3;
+constexpr double kSuspectPhaseLowDeg = 30.0;
+constexpr double kSuspectPhaseHighDeg = 179.0;
+
+void check_sign(const Response& loop, Diagnostics& findings) {
+  if (loop.size() < kMinLowLines) return;
+  const double low_end = loop.frequency_hz.front() * std::pow(loop.frequency_hz.back() / loop.frequency_hz.front(), 0.1);
+  std::vector<double> phases_deg;
+  for (std::size_t k = 0; k < loop.size() && loop.frequency_hz[k] <= low_end; ++k) {
+    if (std::abs(loop.value[k]) > kHighGain) phases_deg.push_back(deg_from_rad(std::arg(loop.value[k])));
+  }
+  if (phases_deg.size() < kMinLowLines) return;
+  std::nth_element(phases_deg.begin(), phases_deg.begin() + phases_deg.size() / 2, phases_deg.end());
+  const double median = phases_deg[phases_deg.size() / 2];
+  if (median > kSuspectPhaseLowDeg && median < kSuspectPhaseHighDeg) {
+    std::ostringstream message;
+    message << "at the low end of the band |L| is high and its phase is " << std::lround(median)
+            << " deg: a negative-feedback loop does not do that; check the probe polarity, the x/y channel roles "
+               "and the convention";
+    findings.push_back(make_warning("loop.sign-suspect", message.str(),
+                                    {.low_hz = loop.frequency_hz.front(), .high_hz = low_end}));
+  }
+}
+
+}  // namespace
+
+Convention convention_from_name(std::string_view name) {
+  if (name == "series-injection") return Convention::kSeriesInjection;
+  if (name == "direct") return Convention::kDirect;
+  if (name == "closed-loop") return Convention::kClosedLoop;
+  throw ConfigError("unknown convention '" + std::string(name) +
+                    "'; choose one of series-injection, direct, closed-loop");
+}
+
+const char* convention_name(Convention convention) {
+  switch (convention) {
+    case Convention::kSeriesInjection: return "series-injection";
+    case Convention::kDirect: return "direct";
+    case Convention::kClosedLoop: return "closed-loop";
+  }
+  return "series-injection";
+}
+
+const char* convention_formula(Convention convention) {
+  switch (convention) {
+    case Convention::kSeriesInjection: return "L = -Y/X";
+    case Convention::kDirect: return "L = H";
+    case Convention::kClosedLoop: return "L = T/(1-T)";
+  }
+  return "";
+}
+
+LoopResponse to_loop(const Response& measured, Convention convention, Diagnostics& findings) {
+  LoopResponse loop{measured, convention};
+  for (std::size_t k = 0; k < measured.size(); ++k) {
+    const std::complex<double> h = measured.value[k];
+    switch (convention) {
+      case Convention::kSeriesInjection: loop.lines.value[k] = -h; break;
+      case Convention::kDirect: break;
+      case Convention::kClosedLoop:
+        loop.lines.value[k] = h / (1.0 - h);
+        // d ln L = d ln T / (1 - T): the relative error grows near T = 1.
+        loop.lines.relative_sigma[k] = measured.relative_sigma[k] / std::abs(1.0 - h);
+        break;
+    }
+  }
+  check_sign(loop.lines, findings);
+  return loop;
+}
+
+}  // namespace loopmargin

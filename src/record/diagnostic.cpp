@@ -1,0 +1,24 @@
+#include "loopmargin/record/diagnostic.hpp"
+
+#include <utility>
+
+namespace loopmargin {
+
+const char* severity_name(Severity severity) {
+  switch (severity) {
+    case Severity::kNote: return "note";
+    case Severity::kWarning: return "warning";
+    case Severity::kError: return "error";
+  }
+  return "note";
+}
+
+Diagnostic make_note(std::string code, std::string message, Location where) {
+  return {Severity::kNote, std::move(code), std::move(message), std::move(where)};
+}
+
+Diagnostic make_warning(std::string code, std::string message, Location where) {
+  return {Severity::kWarning, std::move(code), std::move(message), std::move(where)};
+}
+
+}  // namespace loopmargin

@@ -1,0 +1,176 @@
+#include "loopmargin/report/json_report.hpp"
+
+#include <cmath>
+#include <fstream>
+#include <nlohmann/json.hpp>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/units.hpp"
+
+namespace loopmargin {
+namespace {
+
+using Json = nlohmann::ordered_json;
+
+Json optional_number(const std::optional<double>& value) { return value ? Json(*value) : Json(nullptr); }
+
+Json summary_json(const MarginSummary& s) {
+  return {{"gain_crossover_hz", optional_number(s.gain_crossover_hz)},
+          {"phase_margin_deg", optional_number(s.phase_margin_deg)},
+          {"phase_crossover_hz", optional_number(s.phase_crossover_hz)},
+          {"gain_margin_db", optional_number(s.gain_margin_db)},
+          {"gain_increase_margin_db", optional_number(s.gain_increase_margin_db)},
+          {"gain_reduction_margin_db", optional_number(s.gain_reduction_margin_db)},
+          {"delay_margin_s", optional_number(s.delay_margin_s)},
+          {"modulus_margin", optional_number(s.modulus_margin)},
+          {"peak_sensitivity_db", optional_number(s.peak_sensitivity_db)},
+          {"modulus_freq_hz", optional_number(s.modulus_frequency_hz)}};
+}
+
+void put_margins(Json& out, const Margins& m) {
+  out["band"] = {{"low_hz", m.band_low_hz}, {"high_hz", m.band_high_hz}, {"lines", m.line_count}};
+  out["gain_crossovers"] = Json::array();
+  for (const auto& c : m.gain_crossovers) {
+    out["gain_crossovers"].push_back({{"freq_hz", c.frequency_hz},
+                                      {"phase_margin_deg", c.phase_margin_deg},
+                                      {"delay_margin_s", c.delay_margin_s},
+                                      {"merged_crossings", c.merged_crossings}});
+  }
+  out["phase_crossovers"] = Json::array();
+  for (const auto& c : m.phase_crossovers) {
+    out["phase_crossovers"].push_back({{"freq_hz", c.frequency_hz},
+                                       {"gain_margin_db", c.gain_margin_db},
+                                       {"limits", direction_name(c.limits)},
+                                       {"merged_crossings", c.merged_crossings}});
+  }
+  out["modulus"] = m.modulus ? Json{{"freq_hz", m.modulus->frequency_hz},
+                                    {"modulus_margin", m.modulus->modulus_margin},
+                                    {"peak_sensitivity_db", m.modulus->peak_sensitivity_db},
+                                    {"at_band_edge", m.modulus->at_band_edge}}
+                             : Json(nullptr);
+  out["summary"] = summary_json(m.summary);
+}
+
+Json diagnostic_json(const Diagnostic& d) {
+  Json out{{"severity", severity_name(d.severity)}, {"code", d.code}, {"message", d.message}};
+  if (!d.where.channel.empty()) out["channel"] = d.where.channel;
+  if (d.where.first_sample) out["first_sample"] = *d.where.first_sample;
+  if (d.where.last_sample) out["last_sample"] = *d.where.last_sample;
+  if (d.where.low_hz) out["low_hz"] = *d.where.low_hz;
+  if (d.where.high_hz) out["high_hz"] = *d.where.high_hz;
+  return out;
+}
+
+Json response_json(const Response& r) {
+  Json out{{"freq_hz", r.frequency_hz}, {"re", Json::array()}, {"im", Json::array()}};
+  for (const auto& v : r.value) {
+    out["re"].push_back(v.real());
+    out["im"].push_back(v.imag());
+  }
+  if (!r.coherence.empty()) out["coherence"] = r.coherence;
+  if (r.relative_sigma.empty()) return out;
+  Json mag_sigma = Json::array();
+  Json phase_sigma = Json::array();
+  for (double s : r.relative_sigma) {
+    mag_sigma.push_back(db_from_nepers(s));
+    phase_sigma.push_back(deg_from_rad(s));
+  }
+  out["mag_sigma_db"] = mag_sigma;
+  out["phase_sigma_deg"] = phase_sigma;
+  return out;
+}
+
+Json method_json(const AnalysisResult& result) {
+  Json out{{"convention", convention_name(result.loop.convention)},
+           {"formula", convention_formula(result.loop.convention)}};
+  if (!result.record) {
+    out["estimator"] = "table";
+    return out;
+  }
+  const auto& o = result.options;
+  out["estimator"] = o.response.estimator == Estimator::kReference ? "reference" : "two-channel";
+  out["window"] = window_name(o.welch.window);
+  out["segment_length"] = o.welch.segment_length;
+  out["overlap"] = o.welch.overlap;
+  out["segments"] = result.record->segments;
+  out["effective_averages"] = result.record->effective_averages;
+  out["injection_floor_db"] = o.response.injection_floor_db;
+  return out;
+}
+
+Json input_json(const AnalysisResult& result) {
+  Json out{{"path", result.origin}, {"kind", result.record ? "recording" : "table"}};
+  if (result.record) {
+    const auto& r = *result.record;
+    out["sample_rate_hz"] = r.sample_rate_hz;
+    out["samples"] = r.sample_count;
+    out["channels"] = r.channel_names;
+    out["roles"] = {{"z", r.roles.injection}, {"x", r.roles.x}, {"y", r.roles.y}};
+  }
+  return out;
+}
+
+Json tool_json() { return {{"name", "loopmargin"}, {"version", LOOPMARGIN_VERSION}}; }
+
+}  // namespace
+
+std::string analysis_json(const AnalysisResult& result) {
+  Json out{{"schema_version", kSchemaVersion}, {"tool", tool_json()}};
+  out["input"] = input_json(result);
+  out["method"] = method_json(result);
+  put_margins(out, result.margins);
+  out["diagnostics"] = Json::array();
+  for (const auto& d : result.findings) out["diagnostics"].push_back(diagnostic_json(d));
+  out["response"] = response_json(result.loop.lines);
+  return out.dump(2) + "\n";
+}
+
+std::string truth_json(const Scenario& scenario, const Synthesis& synthesis, std::size_t grid_lines) {
+  Json out{{"schema_version", kSchemaVersion}, {"tool", tool_json()}, {"kind", "truth"}};
+  out["scenario"] = {{"name", scenario.name},
+                     {"sample_rate_hz", scenario.sample_rate_hz},
+                     {"samples", scenario.sample_count()},
+                     {"seed", scenario.seed},
+                     {"delay_samples", scenario.delay_samples}};
+  put_margins(out, synthesis.truth);
+  const DiscreteLoop loop(scenario);
+  Response grid;
+  const double span = std::log10(synthesis.truth_high_hz / synthesis.truth_low_hz);
+  for (std::size_t k = 0; k < grid_lines; ++k) {
+    const double f = synthesis.truth_low_hz * std::pow(10.0, span * static_cast<double>(k) / static_cast<double>(grid_lines - 1));
+    grid.frequency_hz.push_back(f);
+    grid.value.push_back(loop(f));
+  }
+  out["response"] = response_json(grid);
+  return out.dump(2) + "\n";
+}
+
+MarginSummary read_truth_summary(const std::string& path) {
+  std::ifstream in(path);
+  if (!in) throw InputError(path + ": cannot open the truth file");
+  Json root;
+  try {
+    root = Json::parse(in);
+  } catch (const Json::exception& e) {
+    throw InputError(path + ": not a JSON truth file: " + e.what());
+  }
+  if (!root.contains("summary") || !root["summary"].is_object()) throw InputError(path + ": no 'summary' in the truth file");
+  const Json& s = root["summary"];
+  const auto get = [&](const char* key) -> std::optional<double> {
+    return s.contains(key) && s[key].is_number() ? std::optional(s[key].get<double>()) : std::nullopt;
+  };
+  MarginSummary summary;
+  summary.gain_crossover_hz = get("gain_crossover_hz");
+  summary.phase_margin_deg = get("phase_margin_deg");
+  summary.phase_crossover_hz = get("phase_crossover_hz");
+  summary.gain_margin_db = get("gain_margin_db");
+  summary.gain_increase_margin_db = get("gain_increase_margin_db");
+  summary.gain_reduction_margin_db = get("gain_reduction_margin_db");
+  summary.delay_margin_s = get("delay_margin_s");
+  summary.modulus_margin = get("modulus_margin");
+  summary.peak_sensitivity_db = get("peak_sensitivity_db");
+  summary.modulus_frequency_hz = get("modulus_freq_hz");
+  return summary;
+}
+
+}  // namespace loopmargin

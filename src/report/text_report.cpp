@@ -1,0 +1,126 @@
+#include "loopmargin/report/text_report.hpp"
+
+#include <cmath>
+#include <cstdio>
+#include <vector>
+
+namespace loopmargin {
+namespace {
+
+std::string printf_string(const char* format, double value, const char* unit = "") {
+  char buffer[64];
+  std::snprintf(buffer, sizeof buffer, format, value, unit);
+  return buffer;
+}
+
+std::string engineering(double value, const char* unit, const std::vector<std::pair<double, const char*>>& prefixes) {
+  for (const auto& [scale, prefix] : prefixes) {
+    if (std::abs(value) >= scale * 0.9995) {
+      const std::string prefixed = std::string(prefix) + unit;
+      return printf_string("%.3g %s", value / scale, prefixed.c_str());
+    }
+  }
+  const auto& [scale, prefix] = prefixes.back();
+  return printf_string("%.3g %s", value / scale, (std::string(prefix) + unit).c_str());
+}
+
+std::string number_or_dash(const std::optional<double>& value, const char* format) {
+  return value ? printf_string(format, *value) : std::string("none in band");
+}
+
+std::string frequency_or_dash(const std::optional<double>& value) {
+  return value ? format_frequency(*value) : std::string("none in band");
+}
+
+std::string time_or_dash(const std::optional<double>& value) {
+  return value ? format_time(*value) : std::string("none in band");
+}
+
+struct Row {
+  std::string label;
+  std::string measured;
+  std::string truth;
+};
+
+std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
+  return {
+      {"gain crossover", frequency_or_dash(m.gain_crossover_hz), frequency_or_dash(t.gain_crossover_hz)},
+      {"phase margin", number_or_dash(m.phase_margin_deg, "%.1f deg"), number_or_dash(t.phase_margin_deg, "%.1f deg")},
+      {"delay margin", time_or_dash(m.delay_margin_s), time_or_dash(t.delay_margin_s)},
+      {"phase crossover", frequency_or_dash(m.phase_crossover_hz), frequency_or_dash(t.phase_crossover_hz)},
+      {"gain margin", number_or_dash(m.gain_margin_db, "%+.1f dB"), number_or_dash(t.gain_margin_db, "%+.1f dB")},
+      {"modulus margin", number_or_dash(m.modulus_margin, "%.3f"), number_or_dash(t.modulus_margin, "%.3f")},
+      {"peak sensitivity", number_or_dash(m.peak_sensitivity_db, "%.1f dB"), number_or_dash(t.peak_sensitivity_db, "%.1f dB")},
+  };
+}
+
+void write_method(std::ostream& out, const AnalysisResult& r) {
+  out << "loopmargin " << LOOPMARGIN_VERSION << "  " << r.origin << "\n";
+  if (r.record) {
+    const auto& rec = *r.record;
+    const auto& w = r.options.welch;
+    out << "  recording   " << rec.sample_count << " samples at " << format_frequency(rec.sample_rate_hz) << " ("
+        << format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) << "); z = " << rec.roles.injection
+        << ", x = " << rec.roles.x << ", y = " << rec.roles.y << "\n";
+    out << "  estimate    "
+        << (r.options.response.estimator == Estimator::kReference ? "reference method S_zy/S_zx"
+                                                                  : "two-channel S_xy/S_xx (biased in closed loop)")
+        << ", " << window_name(w.window) << " window, " << w.segment_length << "-sample segments, "
+        << std::lround(w.overlap * 100.0) << " % overlap, " << rec.segments << " segments ("
+        << printf_string("%.1f", rec.effective_averages) << " independent)\n";
+  }
+  out << "  loop        " << convention_formula(r.loop.convention) << " (" << convention_name(r.loop.convention)
+      << "), " << r.margins.line_count << " lines from " << format_frequency(r.margins.band_low_hz) << " to "
+      << format_frequency(r.margins.band_high_hz) << "\n\n";
+}
+
+void write_crossings(std::ostream& out, const Margins& m) {
+  out << "  gain crossovers (|L| = 1)\n";
+  if (m.gain_crossovers.empty()) out << "    none in band\n";
+  for (const auto& c : m.gain_crossovers) {
+    char line[160];
+    std::snprintf(line, sizeof line, "    %-12s phase margin %7.1f deg   delay margin %s%s\n",
+                  format_frequency(c.frequency_hz).c_str(), c.phase_margin_deg, format_time(c.delay_margin_s).c_str(),
+                  c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
+    out << line;
+  }
+  out << "  phase crossovers (angle L = -180 deg)\n";
+  if (m.phase_crossovers.empty()) out << "    none in band\n";
+  for (const auto& c : m.phase_crossovers) {
+    char line[160];
+    std::snprintf(line, sizeof line, "    %-12s gain margin  %+7.1f dB    limits gain %s\n",
+                  format_frequency(c.frequency_hz).c_str(), c.gain_margin_db, direction_name(c.limits));
+    out << line;
+  }
+  out << "\n";
+}
+
+}  // namespace
+
+std::string format_frequency(double frequency_hz) {
+  return engineering(frequency_hz, "Hz", {{1e9, "G"}, {1e6, "M"}, {1e3, "k"}, {1.0, ""}, {1e-3, "m"}});
+}
+
+std::string format_time(double seconds) {
+  return engineering(seconds, "s", {{1.0, ""}, {1e-3, "m"}, {1e-6, "u"}, {1e-9, "n"}});
+}
+
+void write_text_report(std::ostream& out, const AnalysisResult& result, const std::optional<MarginSummary>& truth) {
+  write_method(out, result);
+  write_crossings(out, result.margins);
+  const auto rows = summary_rows(result.margins.summary, truth.value_or(MarginSummary{}));
+  char line[200];
+  std::snprintf(line, sizeof line, "  %-18s %-16s%s\n", "summary", "measured", truth ? "truth" : "");
+  out << line;
+  for (const Row& row : rows) {
+    std::snprintf(line, sizeof line, "  %-18s %-16s%s\n", row.label.c_str(), row.measured.c_str(),
+                  truth ? row.truth.c_str() : "");
+    out << line;
+  }
+  if (!result.findings.empty()) out << "\n  findings\n";
+  for (const auto& d : result.findings) {
+    out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
+  }
+}
+
+}  // namespace loopmargin

@@ -1,0 +1,96 @@
+#include "loopmargin/spectral/response.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/units.hpp"
+
+namespace loopmargin {
+namespace {
+
+using Complex = std::complex<double>;
+
+// Lines at or below this coherence are counted in a finding.
+constexpr double kLowCoherence = 0.5;
+
+double coherence_of(const CrossSpectra& s, std::size_t i, std::size_t j, std::size_t k) {
+  const double denominator = s.at(i, i)[k].real() * s.at(j, j)[k].real();
+  return denominator > 0.0 ? std::norm(s.at(i, j)[k]) / denominator : 0.0;
+}
+
+struct Line {
+  Complex value;
+  double coherence;
+  double relative_sigma;
+};
+
+Line reference_line(const CrossSpectra& s, std::size_t k) {
+  const Complex s_rx = s.at(kReferenceChannel, kInputChannel)[k];
+  const Complex s_ry = s.at(kReferenceChannel, kOutputChannel)[k];
+  const Complex h = s_ry / s_rx;
+  const double s_rr = s.at(kReferenceChannel, kReferenceChannel)[k].real();
+  const double s_xx = s.at(kInputChannel, kInputChannel)[k].real();
+  const double s_yy = s.at(kOutputChannel, kOutputChannel)[k].real();
+  const Complex s_xy = s.at(kInputChannel, kOutputChannel)[k];
+  const double s_ee = std::max(0.0, s_yy - 2.0 * (std::conj(h) * s_xy).real() + std::norm(h) * s_xx);
+  const double relative_variance = s_rr * s_ee / (s.effective_averages * std::norm(s_rx) * std::norm(h));
+  const double coherence = std::min(coherence_of(s, kReferenceChannel, kInputChannel, k),
+                                    coherence_of(s, kReferenceChannel, kOutputChannel, k));
+  return {h, coherence, std::sqrt(relative_variance / 2.0)};
+}
+
+Line two_channel_line(const CrossSpectra& s, std::size_t k) {
+  const Complex s_xy = s.at(kInputChannel, kOutputChannel)[k];
+  const double s_xx = s.at(kInputChannel, kInputChannel)[k].real();
+  const double coherence = coherence_of(s, kInputChannel, kOutputChannel, k);
+  return {s_xy / s_xx, coherence, bendat_piersol_random_error(coherence, s.effective_averages)};
+}
+
+}  // namespace
+
+double bendat_piersol_random_error(double coherence, double averages) {
+  if (coherence <= 0.0) return INFINITY;
+  return std::sqrt(1.0 - coherence) / (std::sqrt(coherence) * std::sqrt(2.0 * averages));
+}
+
+Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& options, Diagnostics& findings) {
+  const auto& reference_power = spectra.at(kReferenceChannel, kReferenceChannel);
+  // DC and the Nyquist line of a real signal carry no phase: never reported.
+  const std::size_t last_line = (spectra.segment_length - 1) / 2;
+  double peak = 0.0;
+  for (std::size_t k = 1; k <= last_line; ++k) peak = std::max(peak, reference_power[k].real());
+  if (!(peak > 0.0)) throw NumericalError("the reference channel is flat: it carries no injection at any frequency");
+  const double floor = peak * std::pow(10.0, -options.injection_floor_db / 10.0);
+
+  Response response;
+  response.effective_averages = spectra.effective_averages;
+  std::size_t low_coherence = 0;
+  for (std::size_t k = 1; k <= last_line; ++k) {
+    if (reference_power[k].real() < floor) continue;
+    const Line line = options.estimator == Estimator::kReference ? reference_line(spectra, k)
+                                                                 : two_channel_line(spectra, k);
+    if (!std::isfinite(line.value.real()) || !std::isfinite(line.value.imag()) || std::abs(line.value) == 0.0) continue;
+    response.frequency_hz.push_back(spectra.frequency_hz(k));
+    response.value.push_back(line.value);
+    response.coherence.push_back(line.coherence);
+    response.relative_sigma.push_back(line.relative_sigma);
+    if (line.coherence <= kLowCoherence) ++low_coherence;
+  }
+  if (response.size() == 0) throw NumericalError("no line carries injection power above the floor");
+  if (options.estimator == Estimator::kTwoChannel) {
+    findings.push_back(make_warning("spectral.two-channel-bias",
+                                    "the two-channel estimate S_xy/S_xx is biased when the loop is closed; "
+                                    "use the reference method unless x is driven from outside the loop"));
+  }
+  if (low_coherence > 0) {
+    std::ostringstream message;
+    message << low_coherence << " of " << response.size() << " lines have coherence at or below " << kLowCoherence
+            << "; their values are uncertain";
+    findings.push_back(make_warning("spectral.low-coherence", message.str()));
+  }
+  return response;
+}
+
+}  // namespace loopmargin

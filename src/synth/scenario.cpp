@@ -1,0 +1,177 @@
+#include "loopmargin/synth/scenario.hpp"
+
+#include <cmath>
+#include <filesystem>
+#include <set>
+#include <sstream>
+#include <toml++/toml.h>
+
+#include "loopmargin/error.hpp"
+
+namespace loopmargin {
+namespace {
+
+// Rejects keys not in `allowed`: a typo must not pass silently.
+void check_keys(const toml::table& table, const std::set<std::string>& allowed, const std::string& where) {
+  for (const auto& [key, value] : table) {
+    if (!allowed.count(std::string(key.str()))) {
+      std::ostringstream message;
+      message << where << ": unknown key '" << key.str() << "'; known keys:";
+      for (const auto& name : allowed) message << ' ' << name;
+      throw ConfigError(message.str());
+    }
+  }
+}
+
+const toml::table& sub_table(const toml::table& parent, const char* key, const std::string& where) {
+  const auto* table = parent[key].as_table();
+  if (table == nullptr) throw ConfigError(where + ": missing table [" + key + "]");
+  return *table;
+}
+
+double number(const toml::table& table, const char* key, const std::string& where, std::optional<double> fallback = {}) {
+  const auto node = table[key];
+  if (!node) {
+    if (fallback) return *fallback;
+    throw ConfigError(where + ": missing key '" + key + "'");
+  }
+  const auto value = node.value<double>();
+  if (!value || !std::isfinite(*value)) throw ConfigError(where + ": '" + key + "' must be a number");
+  return *value;
+}
+
+std::string text(const toml::table& table, const char* key, const std::string& fallback) {
+  return table[key].value_or(fallback);
+}
+
+std::vector<Factor> factors(const toml::table& stage, const char* key, const std::string& where) {
+  std::vector<Factor> result;
+  const auto node = stage[key];
+  if (!node) return result;
+  const auto* list = node.as_array();
+  if (list == nullptr) throw ConfigError(where + ": '" + key + "' must be a list of { hz = ..., q = ... }");
+  for (std::size_t i = 0; i < list->size(); ++i) {
+    const std::string item_where = where + "." + key + "[" + std::to_string(i) + "]";
+    const auto* item = list->get(i)->as_table();
+    if (item == nullptr) throw ConfigError(item_where + ": must be a table { hz = ..., q = ... }");
+    check_keys(*item, {"hz", "q"}, item_where);
+    Factor f{number(*item, "hz", item_where), std::nullopt};
+    if ((*item)["q"]) f.quality = number(*item, "q", item_where);
+    result.push_back(f);
+  }
+  return result;
+}
+
+Stage read_stage(const toml::table& table, const std::string& where) {
+  check_keys(table, {"name", "gain", "integrators", "zeros", "poles", "discretize"}, where);
+  Stage stage;
+  stage.name = text(table, "name", where);
+  stage.gain = number(table, "gain", where, 1.0);
+  stage.integrators = static_cast<int>(number(table, "integrators", where, 0.0));
+  stage.zeros = factors(table, "zeros", where);
+  stage.poles = factors(table, "poles", where);
+  const std::string method = text(table, "discretize", "zoh");
+  if (method == "zoh") {
+    stage.discretization = Discretization::kZeroOrderHold;
+  } else if (method == "bilinear") {
+    stage.discretization = Discretization::kBilinear;
+  } else {
+    throw ConfigError(where + ": discretize = '" + method + "'; choose zoh or bilinear");
+  }
+  return stage;
+}
+
+Injection read_injection(const toml::table& table, const std::string& where) {
+  check_keys(table, {"kind", "rms", "low_hz", "high_hz", "period_samples"}, where);
+  Injection injection;
+  const std::string kind = text(table, "kind", "noise");
+  if (kind == "noise") {
+    injection.kind = InjectionKind::kNoise;
+  } else if (kind == "multisine") {
+    injection.kind = InjectionKind::kMultisine;
+  } else {
+    throw ConfigError(where + ": kind = '" + kind + "'; choose noise or multisine");
+  }
+  injection.rms = number(table, "rms", where);
+  injection.low_hz = number(table, "low_hz", where, 0.0);
+  injection.high_hz = number(table, "high_hz", where, 0.0);
+  injection.period_samples = static_cast<std::size_t>(number(table, "period_samples", where, 8192.0));
+  return injection;
+}
+
+NoiseSettings read_noise(const toml::table& table, const std::string& where) {
+  check_keys(table, {"x_rms", "y_rms", "disturbance_rms", "disturbance_corner_hz"}, where);
+  return {number(table, "x_rms", where, 0.0), number(table, "y_rms", where, 0.0),
+          number(table, "disturbance_rms", where, 0.0), number(table, "disturbance_corner_hz", where, 0.0)};
+}
+
+void require(bool condition, const std::string& message) {
+  if (!condition) throw ConfigError(message);
+}
+
+}  // namespace
+
+std::size_t Scenario::sample_count() const {
+  return static_cast<std::size_t>(std::llround(duration_s * sample_rate_hz));
+}
+
+void Scenario::validate() const {
+  const std::string where = name.empty() ? "scenario" : name;
+  require(sample_rate_hz > 0.0, where + ": [recording] sample_rate_hz must be positive");
+  require(duration_s > 0.0 && sample_count() >= 16, where + ": [recording] duration_s gives fewer than 16 samples");
+  require(injection.rms > 0.0, where + ": [injection] rms must be positive");
+  require(injection.period_samples >= 16, where + ": [injection] period_samples must be at least 16");
+  require(noise.x_rms >= 0.0 && noise.y_rms >= 0.0 && noise.disturbance_rms >= 0.0,
+          where + ": [noise] levels must not be negative");
+  require(!stages.empty(), where + ": [loop] needs at least one [[loop.stage]]");
+  require(delay_samples >= 0, where + ": [loop] delay_samples must not be negative");
+  for (const Stage& stage : stages) {
+    require(stage.integrators >= 0, where + ": stage '" + stage.name + "': integrators must not be negative");
+    for (const auto* list : {&stage.zeros, &stage.poles}) {
+      for (const Factor& f : *list) {
+        require(f.frequency_hz > 0.0, where + ": stage '" + stage.name + "': every hz must be positive");
+        require(!f.quality || *f.quality > 0.0, where + ": stage '" + stage.name + "': every q must be positive");
+      }
+    }
+  }
+}
+
+Scenario load_scenario(const std::string& path) {
+  std::error_code ec;
+  if (!std::filesystem::is_regular_file(path, ec)) throw InputError(path + ": no such scenario file");
+  toml::table root;
+  try {
+    root = toml::parse_file(path);
+  } catch (const toml::parse_error& e) {
+    std::ostringstream message;
+    message << path << ": line " << e.source().begin.line << ", column " << e.source().begin.column << ": "
+            << e.description();
+    throw InputError(message.str());
+  }
+  check_keys(root, {"name", "description", "recording", "injection", "noise", "loop"}, path);
+  Scenario s;
+  s.name = text(root, "name", "scenario");
+  s.description = text(root, "description", "");
+  const auto& recording = sub_table(root, "recording", path);
+  check_keys(recording, {"sample_rate_hz", "duration_s", "seed"}, path + " [recording]");
+  s.sample_rate_hz = number(recording, "sample_rate_hz", path + " [recording]");
+  s.duration_s = number(recording, "duration_s", path + " [recording]");
+  s.seed = static_cast<std::uint64_t>(number(recording, "seed", path + " [recording]", 1.0));
+  s.injection = read_injection(sub_table(root, "injection", path), path + " [injection]");
+  if (root["noise"]) s.noise = read_noise(sub_table(root, "noise", path), path + " [noise]");
+  const auto& loop = sub_table(root, "loop", path);
+  check_keys(loop, {"delay_samples", "stage"}, path + " [loop]");
+  s.delay_samples = static_cast<int>(number(loop, "delay_samples", path + " [loop]", 0.0));
+  if (const auto* stages = loop["stage"].as_array()) {
+    for (std::size_t i = 0; i < stages->size(); ++i) {
+      const auto* table = stages->get(i)->as_table();
+      const std::string where = path + " [[loop.stage]] #" + std::to_string(i + 1);
+      if (table == nullptr) throw ConfigError(where + ": must be a table");
+      s.stages.push_back(read_stage(*table, where));
+    }
+  }
+  s.validate();
+  return s;
+}
+
+}  // namespace loopmargin

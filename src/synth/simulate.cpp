@@ -1,0 +1,168 @@
+#include "loopmargin/synth/simulate.hpp"
+
+#include <cmath>
+#include <deque>
+#include <numbers>
+#include <random>
+
+#include "synth/state_space.hpp"
+
+namespace loopmargin {
+namespace {
+
+using detail::StateRunner;
+using detail::StateSpace;
+
+// The truth band starts where the record holds ten cycles and ends just
+// below Nyquist, where a discrete loop's response turns real.
+constexpr double kTruthCyclesInRecord = 10.0;
+constexpr double kTruthNyquistFraction = 0.499;
+
+std::vector<double> scaled_to_rms(std::vector<double> signal, double rms) {
+  double sum = 0.0;
+  for (double v : signal) sum += v * v;
+  const double current = std::sqrt(sum / static_cast<double>(signal.size()));
+  if (current > 0.0) {
+    for (double& v : signal) v *= rms / current;
+  }
+  return signal;
+}
+
+std::vector<double> white_noise(std::size_t count, double rms, std::mt19937_64& rng) {
+  std::vector<double> out(count, 0.0);
+  if (rms == 0.0) return out;
+  std::normal_distribution<double> normal(0.0, rms);
+  for (double& v : out) v = normal(rng);
+  return out;
+}
+
+// Random-phase multisine with every DFT line of the period inside the band.
+std::vector<double> multisine(const Scenario& s, std::mt19937_64& rng) {
+  const std::size_t period = s.injection.period_samples;
+  const double spacing_hz = s.sample_rate_hz / static_cast<double>(period);
+  const double high_hz = s.injection.high_hz > 0.0 ? s.injection.high_hz : 0.45 * s.sample_rate_hz;
+  std::uniform_real_distribution<double> phase(0.0, 2.0 * std::numbers::pi);
+  std::vector<double> one_period(period, 0.0);
+  for (std::size_t k = 1; k < period / 2; ++k) {
+    const double f = static_cast<double>(k) * spacing_hz;
+    if (f < s.injection.low_hz || f > high_hz) continue;
+    const double p = phase(rng);
+    for (std::size_t n = 0; n < period; ++n) {
+      one_period[n] += std::cos(2.0 * std::numbers::pi * static_cast<double>(k * n % period) / static_cast<double>(period) + p);
+    }
+  }
+  one_period = scaled_to_rms(std::move(one_period), s.injection.rms);
+  std::vector<double> out(s.sample_count());
+  for (std::size_t n = 0; n < out.size(); ++n) out[n] = one_period[n % period];
+  return out;
+}
+
+std::vector<double> disturbance(const Scenario& s, std::mt19937_64& rng) {
+  std::vector<double> d = white_noise(s.sample_count(), 1.0, rng);
+  if (s.noise.disturbance_corner_hz > 0.0) {
+    const double a = std::exp(-2.0 * std::numbers::pi * s.noise.disturbance_corner_hz / s.sample_rate_hz);
+    double state = 0.0;
+    for (double& v : d) v = state = a * state + (1.0 - a) * v;
+  }
+  return scaled_to_rms(std::move(d), s.noise.disturbance_rms);
+}
+
+std::vector<StateSpace> discrete_stages(const Scenario& s) {
+  std::vector<StateSpace> stages;
+  for (const Stage& stage : s.stages) {
+    stages.push_back(detail::discretize(detail::continuous_stage(stage), stage.discretization, 1.0 / s.sample_rate_hz));
+  }
+  return stages;
+}
+
+// The stages in series, one sample at a time.
+class Chain {
+ public:
+  explicit Chain(const std::vector<StateSpace>& stages) {
+    for (const auto& m : stages) {
+      runners_.emplace_back(m);
+      feedthrough_ *= m.d;
+    }
+  }
+  double free_output() const {  // output for a zero input now
+    double signal = 0.0;
+    for (const auto& r : runners_) signal = r.output(signal);
+    return signal;
+  }
+  double step(double input) {
+    for (auto& r : runners_) input = r.step(input);
+    return input;
+  }
+  double feedthrough() const { return feedthrough_; }
+
+ private:
+  std::vector<StateRunner> runners_;
+  double feedthrough_ = 1.0;
+};
+
+}  // namespace
+
+struct DiscreteLoop::Impl {
+  std::vector<StateSpace> stages;
+  int delay_samples = 0;
+};
+
+DiscreteLoop::DiscreteLoop(const Scenario& scenario) : sample_rate_hz_(scenario.sample_rate_hz) {
+  scenario.validate();
+  auto impl = std::make_shared<Impl>();
+  impl->stages = discrete_stages(scenario);
+  impl->delay_samples = scenario.delay_samples;
+  impl_ = std::move(impl);
+}
+
+std::complex<double> DiscreteLoop::operator()(double frequency_hz) const {
+  const double theta = 2.0 * std::numbers::pi * frequency_hz / sample_rate_hz_;
+  std::complex<double> value = std::polar(1.0, -theta * impl_->delay_samples);
+  for (const auto& m : impl_->stages) value *= detail::discrete_response(m, theta);
+  return value;
+}
+
+Synthesis synthesize(const Scenario& s) {
+  s.validate();
+  std::mt19937_64 rng(s.seed);
+  const std::size_t count = s.sample_count();
+  const std::vector<double> z = s.injection.kind == InjectionKind::kNoise ? white_noise(count, s.injection.rms, rng)
+                                                                          : multisine(s, rng);
+  const std::vector<double> d = disturbance(s, rng);
+  Chain chain(discrete_stages(s));
+  std::deque<double> delay_line(static_cast<std::size_t>(s.delay_samples), 0.0);
+
+  Synthesis out;
+  out.record.channel_names = {"z", "x", "y"};
+  out.record.channels.assign(3, std::vector<double>(count));
+  out.record.sample_rate_hz = s.sample_rate_hz;
+  auto& z_out = out.record.channels[0];
+  auto& x_out = out.record.channels[1];
+  auto& y_out = out.record.channels[2];
+  for (std::size_t n = 0; n < count; ++n) {
+    double x = 0.0;
+    if (s.delay_samples > 0) {
+      x = -delay_line.front() + d[n] + z[n];
+      delay_line.pop_front();
+      delay_line.push_back(chain.step(x));
+    } else {  // x = y + z with y = -(free + D x) + d, solved for x
+      x = (z[n] + d[n] - chain.free_output()) / (1.0 + chain.feedthrough());
+      chain.step(x);
+    }
+    z_out[n] = z[n];
+    x_out[n] = x;
+    y_out[n] = x - z[n];
+  }
+  const auto x_noise = white_noise(count, s.noise.x_rms, rng);
+  const auto y_noise = white_noise(count, s.noise.y_rms, rng);
+  for (std::size_t n = 0; n < count; ++n) {
+    x_out[n] += x_noise[n];
+    y_out[n] += y_noise[n];
+  }
+  out.truth_low_hz = kTruthCyclesInRecord * s.sample_rate_hz / static_cast<double>(count);
+  out.truth_high_hz = kTruthNyquistFraction * s.sample_rate_hz;
+  out.truth = exact_margins(DiscreteLoop(s), out.truth_low_hz, out.truth_high_hz);
+  return out;
+}
+
+}  // namespace loopmargin
