@@ -64,10 +64,15 @@ std::size_t modulus_minimum_index(const LineTable& table) {
 
 double LocalFit::at(double log_f) const {
   const double t = log_f - centre;
-  return a + t * (b + t * c);
+  double value = 0.0;
+  for (auto c = coefficients.rbegin(); c != coefficients.rend(); ++c) value = value * t + *c;
+  return value;
 }
 
-double LocalFit::slope(double log_f) const { return b + 2.0 * c * (log_f - centre); }
+int fit_degree(const std::vector<double>& sigmas, std::size_t first, std::size_t last) {
+  const bool exact = std::all_of(sigmas.begin() + first, sigmas.begin() + last + 1, [](double s) { return s == 0.0; });
+  return exact ? 3 : 2;
+}
 
 LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& values,
                    const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree) {
@@ -86,9 +91,7 @@ LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& 
     target(i) = weight * values[first + i];
   }
   const Eigen::VectorXd solution = design.colPivHouseholderQr().solve(target);
-  fit.a = solution(0);
-  fit.b = degree >= 1 ? solution(1) : 0.0;
-  fit.c = degree >= 2 ? solution(2) : 0.0;
+  fit.coefficients.assign(solution.data(), solution.data() + solution.size());
   return fit;
 }
 
@@ -96,27 +99,45 @@ double solve_in_bracket(const LocalFit& fit, const std::vector<double>& log_f, c
                         const Bracket& bracket) {
   const double u0 = log_f[bracket.index];
   const double u1 = log_f[bracket.index + 1];
-  const double t0 = u0 - fit.centre;
-  const double t1 = u1 - fit.centre;
-  const double constant = fit.a - bracket.level;
-  std::vector<double> roots;
-  if (std::abs(fit.c) > 1e-14 * (std::abs(fit.b) + std::abs(constant))) {
-    const double discriminant = fit.b * fit.b - 4.0 * fit.c * constant;
-    if (discriminant >= 0.0) {
-      // Numerically stable pair of roots.
-      const double q = -0.5 * (fit.b + std::copysign(std::sqrt(discriminant), fit.b));
-      if (q != 0.0) roots.push_back(constant / q);
-      roots.push_back(q / fit.c);
-    }
-  } else if (fit.b != 0.0) {
-    roots.push_back(-constant / fit.b);
-  }
-  for (double t : roots) {
-    if (t >= t0 && t <= t1) return fit.centre + t;
-  }
+  const auto offset = [&](double u) { return fit.at(u) - bracket.level; };
+  if ((offset(u0) > 0.0) != (offset(u1) > 0.0)) return bisect(offset, u0, u1);
   const double v0 = values[bracket.index] - bracket.level;
   const double v1 = values[bracket.index + 1] - bracket.level;
   return u0 + (u1 - u0) * v0 / (v0 - v1);
+}
+
+double bisect(const std::function<double(double)>& g, double a, double b) {
+  const bool a_positive = g(a) > 0.0;
+  for (int i = 0; i < 200; ++i) {
+    const double mid = 0.5 * (a + b);
+    if (mid == a || mid == b) break;
+    ((g(mid) > 0.0) == a_positive ? a : b) = mid;
+  }
+  return 0.5 * (a + b);
+}
+
+double golden_minimum(const std::function<double(double)>& g, double a, double b) {
+  const double ratio = (std::sqrt(5.0) - 1.0) / 2.0;
+  double c = b - ratio * (b - a);
+  double d = a + ratio * (b - a);
+  double gc = g(c);
+  double gd = g(d);
+  for (int i = 0; i < 200 && std::abs(b - a) > 1e-15 * std::max(1.0, std::abs(a)); ++i) {
+    if (gc < gd) {
+      b = d;
+      d = c;
+      gd = gc;
+      c = b - ratio * (b - a);
+      gc = g(c);
+    } else {
+      a = c;
+      c = d;
+      gc = gd;
+      d = a + ratio * (b - a);
+      gd = g(d);
+    }
+  }
+  return 0.5 * (a + b);
 }
 
 GainDirection direction_of(double gain_margin_db) {

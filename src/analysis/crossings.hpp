@@ -4,6 +4,7 @@
 
 #include <complex>
 #include <cstddef>
+#include <functional>
 #include <vector>
 
 #include "loopmargin/analysis/margins.hpp"
@@ -38,25 +39,35 @@ std::vector<Bracket> phase_brackets(const LineTable& table);  // levels -180 + 3
 // Index of the line with the smallest |1 + L|.
 std::size_t modulus_minimum_index(const LineTable& table);
 
-// Quadratic a + b t + c t^2 in t = log_f - centre, fitted by weighted least
-// squares (weights 1/sigma^2 when every sigma is positive, else equal).
+// A polynomial in t = log_f - centre fitted by weighted least squares
+// (weights 1/sigma when every sigma is positive, else equal).
 struct LocalFit {
   double centre = 0.0;
-  double a = 0.0;
-  double b = 0.0;
-  double c = 0.0;
+  std::vector<double> coefficients;  // constant term first
   double at(double log_f) const;
-  double slope(double log_f) const;
+  double slope() const { return coefficients.size() > 1 ? coefficients[1] : 0.0; }  // at the centre
 };
 
 LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& values,
                    const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree);
 
+// Lines with no stated uncertainty are exact: an interpolating cubic places
+// crossings between them. Measured lines get a least-squares quadratic,
+// which smooths their noise.
+int fit_degree(const std::vector<double>& sigmas, std::size_t first, std::size_t last);
+
 // The log frequency in [log_f[index], log_f[index + 1]] where the fit equals
-// `level`; linear interpolation between the two lines when the fit has no
-// root there.
+// `level`; linear interpolation between the two lines when the fit does not
+// cross the level there.
 double solve_in_bracket(const LocalFit& fit, const std::vector<double>& log_f, const std::vector<double>& values,
                         const Bracket& bracket);
+
+// Root of g on [a, b], where g(a) and g(b) differ in sign, by bisection to
+// the last bit.
+double bisect(const std::function<double(double)>& g, double a, double b);
+
+// Minimum of a unimodal g on [a, b] by golden-section search.
+double golden_minimum(const std::function<double(double)>& g, double a, double b);
 
 GainDirection direction_of(double gain_margin_db);
 MarginSummary summarize(const Margins& margins);

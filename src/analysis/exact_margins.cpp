@@ -10,40 +10,11 @@
 namespace loopmargin {
 namespace {
 
-constexpr int kBisectionSteps = 200;
-constexpr int kGoldenSteps = 200;
-
 double at_log_f(const LoopFunction& loop, double log_f, auto&& measure) { return measure(loop(std::pow(10.0, log_f))); }
-
-// Root of `g` on [a, b] where g(a) and g(b) differ in sign, to the last bit.
-template <typename G>
-double bisect(G&& g, double a, double b) {
-  const bool a_positive = g(a) > 0.0;
-  for (int i = 0; i < kBisectionSteps; ++i) {
-    const double mid = 0.5 * (a + b);
-    if (mid == a || mid == b) break;
-    ((g(mid) > 0.0) == a_positive ? a : b) = mid;
-  }
-  return 0.5 * (a + b);
-}
-
-// Minimum of a unimodal `g` on [a, b] by golden-section search.
-template <typename G>
-double golden_minimum(G&& g, double a, double b) {
-  const double ratio = (std::sqrt(5.0) - 1.0) / 2.0;
-  double c = b - ratio * (b - a);
-  double d = a + ratio * (b - a);
-  for (int i = 0; i < kGoldenSteps && std::abs(b - a) > 1e-15 * std::max(1.0, std::abs(a)); ++i) {
-    if (g(c) < g(d)) b = d; else a = c;
-    c = b - ratio * (b - a);
-    d = a + ratio * (b - a);
-  }
-  return 0.5 * (a + b);
-}
 
 GainCrossover refine_gain(const LoopFunction& loop, const detail::LineTable& table, const detail::Bracket& bracket) {
   const auto log_gain = [&](double u) { return at_log_f(loop, u, [](auto l) { return std::log(std::abs(l)); }); };
-  const double u = bisect(log_gain, table.log_f[bracket.index], table.log_f[bracket.index + 1]);
+  const double u = detail::bisect(log_gain, table.log_f[bracket.index], table.log_f[bracket.index + 1]);
   GainCrossover c;
   c.frequency_hz = std::pow(10.0, u);
   c.phase_margin_deg = wrap_deg(180.0 + deg_from_rad(std::arg(loop(c.frequency_hz))));
@@ -55,7 +26,7 @@ PhaseCrossover refine_phase(const LoopFunction& loop, const detail::LineTable& t
   // Near a crossing of the negative real axis the angle of -L is small and
   // continuous; its sign tells the side.
   const auto angle_from_axis = [&](double u) { return at_log_f(loop, u, [](auto l) { return std::arg(-l); }); };
-  const double u = bisect(angle_from_axis, table.log_f[bracket.index], table.log_f[bracket.index + 1]);
+  const double u = detail::bisect(angle_from_axis, table.log_f[bracket.index], table.log_f[bracket.index + 1]);
   PhaseCrossover c;
   c.frequency_hz = std::pow(10.0, u);
   c.gain_margin_db = -db_from_ratio(std::abs(loop(c.frequency_hz)));
@@ -69,7 +40,7 @@ ModulusPoint refine_modulus(const LoopFunction& loop, const detail::LineTable& t
   const double a = table.log_f[k == 0 ? 0 : k - 1];
   const double b = table.log_f[std::min(k + 1, table.size() - 1)];
   const auto distance = [&](double u) { return at_log_f(loop, u, [](auto l) { return std::abs(1.0 + l); }); };
-  const double u = golden_minimum(distance, a, b);
+  const double u = detail::golden_minimum(distance, a, b);
   const double s_m = distance(u);
   return {std::pow(10.0, u), s_m, -db_from_ratio(s_m), at_edge};
 }

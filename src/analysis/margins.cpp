@@ -6,6 +6,7 @@
 #include "analysis/crossings.hpp"
 #include "loopmargin/analysis/margins.hpp"
 #include "loopmargin/error.hpp"
+#include "loopmargin/format.hpp"
 #include "loopmargin/units.hpp"
 
 namespace loopmargin {
@@ -37,25 +38,34 @@ double bracket_sigma(const std::vector<double>& sigmas, const Bracket& bracket) 
   return 0.5 * (sigmas[bracket.index] + sigmas[bracket.index + 1]);
 }
 
-// Brackets whose lines are too uncertain to place a crossing, removed from
-// `brackets` and reported in one finding.
-void drop_unresolved(std::vector<Bracket>& brackets, const LineTable& table, const char* what,
-                     const MarginOptions& options, Diagnostics& findings) {
-  const double limit = options.max_line_sigma;
-  std::vector<Bracket> dropped;
-  std::erase_if(brackets, [&](const Bracket& b) {
-    const bool unresolved = bracket_sigma(table.relative_sigma, b) > limit;
-    if (unresolved) dropped.push_back(b);
-    return unresolved;
-  });
-  if (dropped.empty()) return;
-  const double low_hz = std::pow(10.0, table.log_f[dropped.front().index]);
-  const double high_hz = std::pow(10.0, table.log_f[dropped.back().index + 1]);
+void report_unresolved(const std::vector<Bracket>& run, const LineTable& table, const char* what, double limit,
+                       Diagnostics& findings) {
+  const double low_hz = std::pow(10.0, table.log_f[run.front().index]);
+  const double high_hz = std::pow(10.0, table.log_f[run.back().index + 1]);
   std::ostringstream message;
-  message << dropped.size() << " " << what << " between " << std::lround(low_hz) << " Hz and " << std::lround(high_hz)
-          << " Hz fall where the lines are too noisy to place them (relative uncertainty above " << limit
+  message << run.size() << " " << what << " from " << format_frequency(low_hz) << " to " << format_frequency(high_hz)
+          << " fall where the lines are too noisy to place them (relative uncertainty above " << limit
           << "); they are not listed. Raise the injection or average longer if a crossover may lie there";
   findings.push_back(make_warning("margins.unresolved-crossings", message.str(), {.low_hz = low_hz, .high_hz = high_hz}));
+}
+
+// Removes the brackets whose lines are too uncertain to place a crossing and
+// reports each run of them between placeable ones in one finding.
+void drop_unresolved(std::vector<Bracket>& brackets, const LineTable& table, const char* what,
+                     const MarginOptions& options, Diagnostics& findings) {
+  std::vector<Bracket> kept;
+  std::vector<Bracket> run;
+  for (const Bracket& b : brackets) {
+    if (bracket_sigma(table.relative_sigma, b) > options.max_line_sigma) {
+      run.push_back(b);
+      continue;
+    }
+    if (!run.empty()) report_unresolved(run, table, what, options.max_line_sigma, findings);
+    run.clear();
+    kept.push_back(b);
+  }
+  if (!run.empty()) report_unresolved(run, table, what, options.max_line_sigma, findings);
+  brackets = std::move(kept);
 }
 
 std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, const LineTable& table,
@@ -64,10 +74,11 @@ std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, cons
   std::vector<Crossing> crossings;
   for (const Bracket& bracket : brackets) {
     const Window w = window_around(bracket.index, bracket.index, options.fit_half_width, table.size());
-    const LocalFit fit = detail::fit_local(table.log_f, values, sigmas, w.first, w.last, 2);
+    const LocalFit fit =
+        detail::fit_local(table.log_f, values, sigmas, w.first, w.last, detail::fit_degree(sigmas, w.first, w.last));
     const double log_f = detail::solve_in_bracket(fit, table.log_f, values, bracket);
     const Window wide = window_around(bracket.index, bracket.index, options.slope_half_width, table.size());
-    const double slope = std::abs(detail::fit_local(table.log_f, values, sigmas, wide.first, wide.last, 1).b);
+    const double slope = std::abs(detail::fit_local(table.log_f, values, sigmas, wide.first, wide.last, 1).slope());
     crossings.push_back({bracket, log_f, slope > 0.0 ? bracket_sigma(sigmas, bracket) / slope : 0.0});
   }
   return crossings;
@@ -99,7 +110,7 @@ double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, 
                                  table.size());
   const LocalFit fit = detail::fit_local(table.log_f, values, sigmas, w.first, w.last, 1);
   const double level = group.front().bracket.level;
-  const double root = fit.b != 0.0 ? fit.centre + (level - fit.a) / fit.b : fit.centre;
+  const double root = fit.slope() != 0.0 ? fit.centre + (level - fit.coefficients[0]) / fit.slope() : fit.centre;
   return std::clamp(root, group.front().log_f, group.back().log_f);
 }
 
@@ -107,7 +118,7 @@ double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, 
 double value_at(const LineTable& table, const std::vector<double>& values, const std::vector<double>& sigmas,
                 std::size_t first_index, std::size_t last_index, double log_f, const MarginOptions& options) {
   const Window w = window_around(first_index, last_index, options.fit_half_width, table.size());
-  const int degree = first_index == last_index ? 2 : 1;
+  const int degree = first_index == last_index ? detail::fit_degree(sigmas, w.first, w.last) : 1;
   return detail::fit_local(table.log_f, values, sigmas, w.first, w.last, degree).at(log_f);
 }
 
@@ -151,23 +162,30 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
   return result;
 }
 
-// Vertex of the parabola through the smallest |1 + L| and its neighbours.
-ModulusPoint modulus_point(const LineTable& table) {
+// The smallest |1 + L| between the neighbours of the smallest line, on local
+// fits of Re L and Im L (interpolating for exact lines, smoothing for
+// measured ones).
+ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options) {
   const std::size_t k = detail::modulus_minimum_index(table);
   const auto distance = [&](std::size_t i) { return std::abs(1.0 + table.value[i]); };
   ModulusPoint point{std::pow(10.0, table.log_f[k]), distance(k), 0.0, k == 0 || k + 1 == table.size()};
-  if (!point.at_band_edge) {
-    const double u0 = table.log_f[k - 1], u1 = table.log_f[k], u2 = table.log_f[k + 1];
-    const double d0 = distance(k - 1), d1 = distance(k), d2 = distance(k + 1);
-    const double denominator = (u0 - u1) * (u0 - u2) * (u1 - u2);
-    const double a = (u2 * (d1 - d0) + u1 * (d0 - d2) + u0 * (d2 - d1)) / denominator;
-    const double b = (u2 * u2 * (d0 - d1) + u1 * u1 * (d2 - d0) + u0 * u0 * (d1 - d2)) / denominator;
-    if (a > 0.0) {
-      const double vertex = std::clamp(-b / (2.0 * a), u0, u2);
-      const double c = d1 - a * u1 * u1 - b * u1;
-      point.frequency_hz = std::pow(10.0, vertex);
-      point.modulus_margin = std::min(d1, a * vertex * vertex + b * vertex + c);
+  if (!point.at_band_edge && table.size() >= 4) {
+    const Window w = window_around(k, k, options.fit_half_width, table.size());
+    std::vector<double> re, im;
+    for (const auto& v : table.value) {
+      re.push_back(v.real());
+      im.push_back(v.imag());
     }
+    const int degree = detail::fit_degree(table.relative_sigma, w.first, w.last);
+    // Absolute sigma of each part: relative sigma times |L|.
+    std::vector<double> sigmas(table.size());
+    for (std::size_t i = w.first; i <= w.last; ++i) sigmas[i] = table.relative_sigma[i] * std::abs(table.value[i]);
+    const LocalFit fit_re = detail::fit_local(table.log_f, re, sigmas, w.first, w.last, degree);
+    const LocalFit fit_im = detail::fit_local(table.log_f, im, sigmas, w.first, w.last, degree);
+    const auto fitted = [&](double u) { return std::hypot(1.0 + fit_re.at(u), fit_im.at(u)); };
+    const double u = detail::golden_minimum(fitted, table.log_f[k - 1], table.log_f[k + 1]);
+    point.frequency_hz = std::pow(10.0, u);
+    point.modulus_margin = fitted(u);
   }
   point.peak_sensitivity_db = -db_from_ratio(point.modulus_margin);
   return point;
@@ -190,7 +208,7 @@ Margins find_margins(const Response& loop, const MarginOptions& options) {
   margins.line_count = loop.size();
   margins.gain_crossovers = gain_crossovers(table, options, margins.findings);
   margins.phase_crossovers = phase_crossovers(table, options, margins.findings);
-  margins.modulus = modulus_point(table);
+  margins.modulus = modulus_point(table, options);
   margins.summary = detail::summarize(margins);
   detail::add_absence_findings(table, margins);
   return margins;

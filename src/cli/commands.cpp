@@ -184,7 +184,7 @@ void add_synth(CLI::App& app) {
     truth_view.loop.convention = Convention::kDirect;
     truth_view.margins = synthesis.truth;
     truth_view.findings = synthesis.truth.findings;
-    write_text_report(std::cout, truth_view);
+    write_text_report(std::cout, truth_view, std::nullopt, "exact");
     std::cout << "\n  wrote " << stem << ".csv and " << stem << ".truth.json\n";
   });
 }

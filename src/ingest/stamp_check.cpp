@@ -8,8 +8,8 @@
 namespace loopmargin::detail {
 namespace {
 
-// Steps may differ from the expected one by this fraction plus twice the
-// printed resolution (one unit of rounding on each of the two stamps).
+// Steps may differ from the expected one by this fraction (clock jitter)
+// plus the printed resolution (half a unit of rounding on each stamp).
 constexpr double kStepTolerance = 0.25;
 // Stamps kept before the expected step is fixed: enough for the span to be
 // large against the printed resolution.
@@ -20,8 +20,15 @@ constexpr std::size_t kMaxReferenceStamps = 1 << 20;
 }  // namespace
 
 void StampChecker::add(double stamp_s, double resolution_s, std::size_t line) {
-  resolution_s_ = std::max(resolution_s_, resolution_s);
-  if (count_ == 0) first_s_ = stamp_s;
+  // Trailing zeros are not printed ("0.05" beside "0.051", "0" at the start),
+  // so a cell may look coarser than its column: a step is as fine as the
+  // finer of its two stamps.
+  if (count_ == 0) {
+    first_s_ = stamp_s;
+  } else {
+    resolution_s_ = std::max(resolution_s_, std::min(resolution_s, previous_resolution_s_));
+  }
+  previous_resolution_s_ = resolution_s;
   const double previous_s = last_s_;
   last_s_ = stamp_s;
   ++count_;
@@ -57,6 +64,8 @@ void StampChecker::fix_reference_step() {
 
 void StampChecker::check_step(double previous_s, double stamp_s, std::size_t line) const {
   const double step = stamp_s - previous_s;
+  // Two stamps one step apart can print alike once the resolution reaches
+  // about the step (a value at a rounding half-point goes either way).
   const bool rounding_hides_step = resolution_s_ >= 0.5 * reference_step_s_;
   if (step < 0.0 || (step == 0.0 && !rounding_hides_step)) {
     std::ostringstream message;
@@ -64,7 +73,7 @@ void StampChecker::check_step(double previous_s, double stamp_s, std::size_t lin
             << " s)";
     throw InputError(message.str());
   }
-  const double tolerance = kStepTolerance * reference_step_s_ + 2.0 * resolution_s_;
+  const double tolerance = kStepTolerance * reference_step_s_ + resolution_s_;
   if (std::abs(step - reference_step_s_) > tolerance) {
     std::ostringstream message;
     message << origin_ << ": line " << line << ": time step " << step << " s where " << reference_step_s_

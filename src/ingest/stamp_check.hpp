@@ -31,7 +31,8 @@ class StampChecker {
   std::size_t count_ = 0;
   double first_s_ = 0.0;
   double last_s_ = 0.0;
-  double resolution_s_ = 0.0;
+  double resolution_s_ = 0.0;           // the column's, from the steps seen
+  double previous_resolution_s_ = 0.0;  // of the last stamp's text
   double reference_step_s_ = 0.0;  // 0 until enough stamps are seen
   std::vector<double> early_stamps_;
   std::vector<std::size_t> early_lines_;

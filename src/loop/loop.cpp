@@ -12,7 +12,8 @@ namespace loopmargin {
 namespace {
 
 // The plausibility check looks at lines with |L| above this gain in the
-// lowest tenth of the band (in log frequency), at least this many of them.
+// lowest fifth of the band (in log frequency), or the lowest few lines, and
+// needs at least this many of them.
 constexpr double kHighGain = 2.0;
 constexpr std::size_t kMinLowLines = 3;
 constexpr double kSuspectPhaseLowDeg = 30.0;
@@ -20,7 +21,8 @@ constexpr double kSuspectPhaseHighDeg = 179.0;
 
 void check_sign(const Response& loop, Diagnostics& findings) {
   if (loop.size() < kMinLowLines) return;
-  const double low_end = loop.frequency_hz.front() * std::pow(loop.frequency_hz.back() / loop.frequency_hz.front(), 0.1);
+  const double low_end = std::max(loop.frequency_hz[kMinLowLines - 1],
+                                  loop.frequency_hz.front() * std::pow(loop.frequency_hz.back() / loop.frequency_hz.front(), 0.2));
   std::vector<double> phases_deg;
   for (std::size_t k = 0; k < loop.size() && loop.frequency_hz[k] <= low_end; ++k) {
     if (std::abs(loop.value[k]) > kHighGain) phases_deg.push_back(deg_from_rad(std::arg(loop.value[k])));

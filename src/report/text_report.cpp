@@ -1,5 +1,7 @@
 #include "loopmargin/report/text_report.hpp"
 
+#include "loopmargin/format.hpp"
+
 #include <cmath>
 #include <cstdio>
 #include <vector>
@@ -11,17 +13,6 @@ std::string printf_string(const char* format, double value, const char* unit = "
   char buffer[64];
   std::snprintf(buffer, sizeof buffer, format, value, unit);
   return buffer;
-}
-
-std::string engineering(double value, const char* unit, const std::vector<std::pair<double, const char*>>& prefixes) {
-  for (const auto& [scale, prefix] : prefixes) {
-    if (std::abs(value) >= scale * 0.9995) {
-      const std::string prefixed = std::string(prefix) + unit;
-      return printf_string("%.3g %s", value / scale, prefixed.c_str());
-    }
-  }
-  const auto& [scale, prefix] = prefixes.back();
-  return printf_string("%.3g %s", value / scale, (std::string(prefix) + unit).c_str());
 }
 
 std::string number_or_dash(const std::optional<double>& value, const char* format) {
@@ -97,20 +88,13 @@ void write_crossings(std::ostream& out, const Margins& m) {
 
 }  // namespace
 
-std::string format_frequency(double frequency_hz) {
-  return engineering(frequency_hz, "Hz", {{1e9, "G"}, {1e6, "M"}, {1e3, "k"}, {1.0, ""}, {1e-3, "m"}});
-}
-
-std::string format_time(double seconds) {
-  return engineering(seconds, "s", {{1.0, ""}, {1e-3, "m"}, {1e-6, "u"}, {1e-9, "n"}});
-}
-
-void write_text_report(std::ostream& out, const AnalysisResult& result, const std::optional<MarginSummary>& truth) {
+void write_text_report(std::ostream& out, const AnalysisResult& result, const std::optional<MarginSummary>& truth,
+                       const std::string& value_heading) {
   write_method(out, result);
   write_crossings(out, result.margins);
   const auto rows = summary_rows(result.margins.summary, truth.value_or(MarginSummary{}));
   char line[200];
-  std::snprintf(line, sizeof line, "  %-18s %-16s%s\n", "summary", "measured", truth ? "truth" : "");
+  std::snprintf(line, sizeof line, "  %-18s %-16s%s\n", "summary", value_heading.c_str(), truth ? "truth" : "");
   out << line;
   for (const Row& row : rows) {
     std::snprintf(line, sizeof line, "  %-18s %-16s%s\n", row.label.c_str(), row.measured.c_str(),

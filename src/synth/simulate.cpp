@@ -5,6 +5,7 @@
 #include <numbers>
 #include <random>
 
+#include "loopmargin/error.hpp"
 #include "synth/state_space.hpp"
 
 namespace loopmargin {
@@ -17,6 +18,9 @@ using detail::StateSpace;
 // below Nyquist, where a discrete loop's response turns real.
 constexpr double kTruthCyclesInRecord = 10.0;
 constexpr double kTruthNyquistFraction = 0.499;
+// A stable loop keeps x within a modest multiple of its inputs; past this
+// factor the closed loop is taken to be unstable.
+constexpr double kUnboundedFactor = 1e6;
 
 std::vector<double> scaled_to_rms(std::vector<double> signal, double rms) {
   double sum = 0.0;
@@ -36,8 +40,18 @@ std::vector<double> white_noise(std::size_t count, double rms, std::mt19937_64& 
   return out;
 }
 
+// Samples simulated before the recording starts, so that it opens in steady
+// state as a bench recording does (the injection was running before the
+// acquisition was armed). A whole number of multisine periods.
+std::size_t warm_up_samples(const Scenario& s) {
+  constexpr std::size_t kMinWarmUp = 16384;
+  if (s.injection.kind != InjectionKind::kMultisine) return kMinWarmUp;
+  const std::size_t period = s.injection.period_samples;
+  return (kMinWarmUp + period - 1) / period * period;
+}
+
 // Random-phase multisine with every DFT line of the period inside the band.
-std::vector<double> multisine(const Scenario& s, std::mt19937_64& rng) {
+std::vector<double> multisine(const Scenario& s, std::size_t count, std::mt19937_64& rng) {
   const std::size_t period = s.injection.period_samples;
   const double spacing_hz = s.sample_rate_hz / static_cast<double>(period);
   const double high_hz = s.injection.high_hz > 0.0 ? s.injection.high_hz : 0.45 * s.sample_rate_hz;
@@ -52,13 +66,13 @@ std::vector<double> multisine(const Scenario& s, std::mt19937_64& rng) {
     }
   }
   one_period = scaled_to_rms(std::move(one_period), s.injection.rms);
-  std::vector<double> out(s.sample_count());
+  std::vector<double> out(count);
   for (std::size_t n = 0; n < out.size(); ++n) out[n] = one_period[n % period];
   return out;
 }
 
-std::vector<double> disturbance(const Scenario& s, std::mt19937_64& rng) {
-  std::vector<double> d = white_noise(s.sample_count(), 1.0, rng);
+std::vector<double> disturbance(const Scenario& s, std::size_t count, std::mt19937_64& rng) {
+  std::vector<double> d = white_noise(count, 1.0, rng);
   if (s.noise.disturbance_corner_hz > 0.0) {
     const double a = std::exp(-2.0 * std::numbers::pi * s.noise.disturbance_corner_hz / s.sample_rate_hz);
     double state = 0.0;
@@ -122,42 +136,55 @@ std::complex<double> DiscreteLoop::operator()(double frequency_hz) const {
   return value;
 }
 
+namespace {
+
+// x at every sample of the closed loop driven by z and d.
+std::vector<double> run_closed_loop(const Scenario& s, const std::vector<double>& z, const std::vector<double>& d) {
+  Chain chain(discrete_stages(s));
+  std::deque<double> delay_line(static_cast<std::size_t>(s.delay_samples), 0.0);
+  const double bound = kUnboundedFactor * (s.injection.rms + s.noise.disturbance_rms);
+  std::vector<double> x(z.size());
+  for (std::size_t n = 0; n < z.size(); ++n) {
+    if (s.delay_samples > 0) {
+      x[n] = -delay_line.front() + d[n] + z[n];
+      delay_line.pop_front();
+      delay_line.push_back(chain.step(x[n]));
+    } else {  // x = y + z with y = -(free + D x) + d, solved for x
+      x[n] = (z[n] + d[n] - chain.free_output()) / (1.0 + chain.feedthrough());
+      chain.step(x[n]);
+    }
+    if (!(std::abs(x[n]) < bound)) {
+      throw ConfigError(s.name + ": the simulated closed loop is unstable (x grows without bound by sample " +
+                        std::to_string(n) + "); check the stage gains and the delay");
+    }
+  }
+  return x;
+}
+
+}  // namespace
+
 Synthesis synthesize(const Scenario& s) {
   s.validate();
   std::mt19937_64 rng(s.seed);
   const std::size_t count = s.sample_count();
-  const std::vector<double> z = s.injection.kind == InjectionKind::kNoise ? white_noise(count, s.injection.rms, rng)
-                                                                          : multisine(s, rng);
-  const std::vector<double> d = disturbance(s, rng);
-  Chain chain(discrete_stages(s));
-  std::deque<double> delay_line(static_cast<std::size_t>(s.delay_samples), 0.0);
+  const std::size_t warm_up = warm_up_samples(s);
+  const std::size_t total = warm_up + count;
+  const std::vector<double> z = s.injection.kind == InjectionKind::kNoise ? white_noise(total, s.injection.rms, rng)
+                                                                          : multisine(s, total, rng);
+  const std::vector<double> d = disturbance(s, total, rng);
+  const std::vector<double> x = run_closed_loop(s, z, d);
+  const auto x_noise = white_noise(count, s.noise.x_rms, rng);
+  const auto y_noise = white_noise(count, s.noise.y_rms, rng);
 
   Synthesis out;
   out.record.channel_names = {"z", "x", "y"};
   out.record.channels.assign(3, std::vector<double>(count));
   out.record.sample_rate_hz = s.sample_rate_hz;
-  auto& z_out = out.record.channels[0];
-  auto& x_out = out.record.channels[1];
-  auto& y_out = out.record.channels[2];
-  for (std::size_t n = 0; n < count; ++n) {
-    double x = 0.0;
-    if (s.delay_samples > 0) {
-      x = -delay_line.front() + d[n] + z[n];
-      delay_line.pop_front();
-      delay_line.push_back(chain.step(x));
-    } else {  // x = y + z with y = -(free + D x) + d, solved for x
-      x = (z[n] + d[n] - chain.free_output()) / (1.0 + chain.feedthrough());
-      chain.step(x);
-    }
-    z_out[n] = z[n];
-    x_out[n] = x;
-    y_out[n] = x - z[n];
-  }
-  const auto x_noise = white_noise(count, s.noise.x_rms, rng);
-  const auto y_noise = white_noise(count, s.noise.y_rms, rng);
-  for (std::size_t n = 0; n < count; ++n) {
-    x_out[n] += x_noise[n];
-    y_out[n] += y_noise[n];
+  for (std::size_t n = 0; n < count; ++n) {  // the recording starts after the warm-up
+    const std::size_t m = n + warm_up;
+    out.record.channels[0][n] = z[m];
+    out.record.channels[1][n] = x[m] + x_noise[n];
+    out.record.channels[2][n] = x[m] - z[m] + y_noise[n];
   }
   out.truth_low_hz = kTruthCyclesInRecord * s.sample_rate_hz / static_cast<double>(count);
   out.truth_high_hz = kTruthNyquistFraction * s.sample_rate_hz;

@@ -9,14 +9,11 @@
 
 namespace loopmargin {
 
-// Frequencies in engineering units with three significant digits: "4.83 kHz".
-std::string format_frequency(double frequency_hz);
-// Times in engineering units: "31.2 us".
-std::string format_time(double seconds);
-
 // The margins table, the method line and the findings. With `truth`, a
-// second column shows the truth of a synthetic recording.
+// second column shows the truth of a synthetic recording. `value_heading`
+// names the column of results ("measured", or "exact" for a model).
 void write_text_report(std::ostream& out, const AnalysisResult& result,
-                       const std::optional<MarginSummary>& truth = std::nullopt);
+                       const std::optional<MarginSummary>& truth = std::nullopt,
+                       const std::string& value_heading = "measured");
 
 }  // namespace loopmargin

@@ -1,0 +1,53 @@
+// Test helper: prints what loopmargin computes, for comparison with scipy.
+//   welch_dump spectra FILE SAMPLE_RATE SEGMENT OVERLAP WINDOW
+//     -> freq_hz, then re and im of S_ij for every pair i <= j
+//   welch_dump window WINDOW LENGTH  -> one coefficient a line
+#include <cstdio>
+#include <iostream>
+#include <string>
+
+#include "loopmargin/ingest/delimited.hpp"
+#include "loopmargin/spectral/welch.hpp"
+
+using namespace loopmargin;
+
+namespace {
+
+int dump_spectra(char** argv) {
+  DelimitedOptions ingest;
+  ingest.sample_rate_hz = std::stod(argv[3]);
+  const auto source = open_delimited(argv[2], ingest);
+  WelchOptions options;
+  options.segment_length = std::stoul(argv[4]);
+  options.overlap = std::stod(argv[5]);
+  options.window = window_from_name(argv[6]);
+  const std::size_t channels = source->channel_names().size();
+  WelchAccumulator welch(channels, options);
+  SampleBlock block;
+  while (source->next(block)) {
+    std::vector<std::span<const double>> views(block.channels.begin(), block.channels.end());
+    welch.push(views);
+  }
+  const CrossSpectra s = welch.finish(source->summary().sample_rate_hz);
+  for (std::size_t k = 0; k < s.line_count(); ++k) {
+    std::printf("%.17g", s.frequency_hz(k));
+    for (const auto& pair : s.pairs) std::printf(",%.17g,%.17g", pair[k].real(), pair[k].imag());
+    std::printf("\n");
+  }
+  return 0;
+}
+
+int dump_window(char** argv) {
+  for (double w : make_window(window_from_name(argv[2]), std::stoul(argv[3]))) std::printf("%.17g\n", w);
+  return 0;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  const std::string mode = argc > 1 ? argv[1] : "";
+  if (mode == "spectra" && argc == 7) return dump_spectra(argv);
+  if (mode == "window" && argc == 4) return dump_window(argv);
+  std::cerr << "usage: welch_dump spectra FILE SAMPLE_RATE SEGMENT OVERLAP WINDOW | window WINDOW LENGTH\n";
+  return 2;
+}

@@ -1,0 +1,205 @@
+#include <catch2/catch.hpp>
+#include <random>
+
+#include "analysis/known_loops.hpp"
+#include "loopmargin/error.hpp"
+#include "loopmargin/units.hpp"
+
+using namespace loopmargin;
+
+namespace {
+
+// 400 lines a decade (0.58 % spacing), noise-free. The local quadratic fit
+// leaves an error of order (spacing)^3 against the closed forms; these
+// bounds hold that with a margin of about ten.
+constexpr int kLinesPerDecade = 400;
+constexpr double kFrequencyRel = 2e-6;
+constexpr double kAngleDeg = 1e-3;
+constexpr double kGainDb = 1e-4;
+// The modulus margin is refined by a parabola through three lines; its error
+// is of order spacing^2 times the curvature.
+constexpr double kModulusRel = 1e-4;
+
+void check_against(const known::KnownLoop& k, const Margins& m) {
+  INFO(k.name);
+  const MarginSummary& s = m.summary;
+  REQUIRE(s.gain_crossover_hz.has_value());
+  CHECK(rad_per_s_from_hz(*s.gain_crossover_hz) == Approx(*k.gain_crossover_rad_s).epsilon(kFrequencyRel));
+  CHECK(*s.phase_margin_deg == Approx(*k.phase_margin_deg).margin(kAngleDeg));
+  CHECK(*s.delay_margin_s == Approx(*k.delay_margin_s).epsilon(1e-5));
+  REQUIRE(s.phase_crossover_hz.has_value());
+  CHECK(rad_per_s_from_hz(*s.phase_crossover_hz) == Approx(*k.phase_crossover_rad_s).epsilon(kFrequencyRel));
+  CHECK(*s.gain_margin_db == Approx(*k.gain_margin_db).margin(kGainDb));
+  REQUIRE(s.modulus_margin.has_value());
+  CHECK(*s.modulus_margin == Approx(k.modulus_margin).epsilon(kModulusRel));
+  CHECK(*s.peak_sensitivity_db == Approx(-db_from_ratio(k.modulus_margin)).margin(1e-3));
+}
+
+}  // namespace
+
+TEST_CASE("margins of sampled known loops match the closed forms", "[analysis][margins]") {
+  for (const auto& k : known::table()) {
+    const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
+    check_against(k, m);
+  }
+}
+
+TEST_CASE("K/(s(s+1)(s+2)) crosses -180 deg at sqrt(2) rad/s with GM = 20 log10(6/K)", "[analysis][margins]") {
+  // Closed form (REFERENCES.md section 5): L(j sqrt 2) = -K/6 for every K.
+  for (double gain : {0.5, 1.0, 2.4, 4.0}) {
+    const LoopFunction loop = [gain](double f) { auto s = known::s_of(f); return gain / (s * (s + 1.0) * (s + 2.0)); };
+    const Margins m = find_margins(known::sample(loop, known::hz(0.01), known::hz(100.0), kLinesPerDecade));
+    REQUIRE(m.phase_crossovers.size() == 1);
+    CHECK(rad_per_s_from_hz(m.phase_crossovers[0].frequency_hz) == Approx(std::sqrt(2.0)).epsilon(kFrequencyRel));
+    CHECK(m.phase_crossovers[0].gain_margin_db == Approx(db_from_ratio(6.0 / gain)).margin(kGainDb));
+  }
+  // Common practice: a Nyquist curve crossing the negative real axis at -0.4
+  // means a gain margin of -20 log10(0.4) = 7.96 dB (K = 2.4 puts it there).
+  const LoopFunction loop = [](double f) { auto s = known::s_of(f); return 2.4 / (s * (s + 1.0) * (s + 2.0)); };
+  const Margins m = find_margins(known::sample(loop, known::hz(0.01), known::hz(100.0), kLinesPerDecade));
+  CHECK(*m.summary.gain_margin_db == Approx(7.96).margin(0.005));
+  CHECK(m.phase_crossovers[0].limits == GainDirection::kIncrease);
+}
+
+TEST_CASE("K e^(-sT)/s: crossover at K; PM = 90 - (180/pi) K T; delay margin PM/K", "[analysis][margins]") {
+  // Closed form (REFERENCES.md section 5); phase crossovers at (4k+1) pi / (2T)
+  // with GM_k = omega_k / K, the smallest first.
+  for (const auto& [gain, delay] : {std::pair{1.0, 0.5}, std::pair{2.0, 0.1}, std::pair{0.5, 1.2}}) {
+    const LoopFunction loop = [gain, delay](double f) { auto s = known::s_of(f); return gain * std::exp(-delay * s) / s; };
+    const double top = 9.5 * std::numbers::pi / (2.0 * delay);
+    const Margins m = find_margins(known::sample(loop, known::hz(gain / 100.0), known::hz(top), kLinesPerDecade));
+    INFO("K = " << gain << ", T = " << delay);
+    const double pm = 90.0 - deg_from_rad(gain * delay);
+    REQUIRE(m.gain_crossovers.size() == 1);
+    CHECK(rad_per_s_from_hz(m.gain_crossovers[0].frequency_hz) == Approx(gain).epsilon(kFrequencyRel));
+    CHECK(m.gain_crossovers[0].phase_margin_deg == Approx(pm).margin(kAngleDeg));
+    CHECK(m.gain_crossovers[0].delay_margin_s == Approx(rad_from_deg(pm) / gain).epsilon(1e-5));
+    REQUIRE(m.phase_crossovers.size() == 3);  // (4k+1) pi / (2T) for k = 0, 1, 2 lie below `top`
+    for (std::size_t k = 0; k < 3; ++k) {
+      const double omega = (4.0 * static_cast<double>(k) + 1.0) * std::numbers::pi / (2.0 * delay);
+      CHECK(rad_per_s_from_hz(m.phase_crossovers[k].frequency_hz) == Approx(omega).epsilon(kFrequencyRel));
+      CHECK(m.phase_crossovers[k].gain_margin_db == Approx(db_from_ratio(omega / gain)).margin(kGainDb));
+    }
+    CHECK(*m.summary.gain_margin_db == Approx(m.phase_crossovers[0].gain_margin_db));
+  }
+  // Common practice: a unit-circle crossing at 210 deg (-150 deg) is a 30 deg
+  // phase margin; K = 1, T = pi/3 puts it there.
+  const LoopFunction loop = [](double f) { auto s = known::s_of(f); return std::exp(-std::numbers::pi / 3.0 * s) / s; };
+  const Margins m = find_margins(known::sample(loop, known::hz(0.01), known::hz(10.0), kLinesPerDecade));
+  CHECK(*m.summary.phase_margin_deg == Approx(30.0).margin(kAngleDeg));
+}
+
+TEST_CASE("a conditionally stable loop reports both phase crossovers and their directions", "[analysis][margins]") {
+  // 3(s+6)^2/(s(s+1)^2): L(j2) = -12, L(j3) = -4.5 (REFERENCES.md section 5).
+  const auto k = known::table()[6];
+  const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
+  REQUIRE(m.phase_crossovers.size() == 2);
+  CHECK(rad_per_s_from_hz(m.phase_crossovers[0].frequency_hz) == Approx(2.0).epsilon(kFrequencyRel));
+  CHECK(m.phase_crossovers[0].gain_margin_db == Approx(-db_from_ratio(12.0)).margin(kGainDb));
+  CHECK(rad_per_s_from_hz(m.phase_crossovers[1].frequency_hz) == Approx(3.0).epsilon(kFrequencyRel));
+  CHECK(m.phase_crossovers[1].gain_margin_db == Approx(-db_from_ratio(4.5)).margin(kGainDb));
+  for (const auto& c : m.phase_crossovers) CHECK(c.limits == GainDirection::kDecrease);
+  // Stable for gain scale above 2/9: the margin against reduction is -13.064 dB, no upper limit.
+  CHECK(*m.summary.gain_reduction_margin_db == Approx(db_from_ratio(2.0 / 9.0)).margin(kGainDb));
+  CHECK_FALSE(m.summary.gain_increase_margin_db.has_value());
+}
+
+TEST_CASE("a loop with three gain crossovers lists all three", "[analysis][margins]") {
+  const auto k = known::table()[7];
+  const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
+  REQUIRE(m.gain_crossovers.size() == 3);
+  const double omegas[] = {0.7436481752, 9.451119214, 9.838826013};
+  const double pms[] = {36.73682917, 72.17946244, 39.11002464};
+  for (std::size_t i = 0; i < 3; ++i) {
+    CHECK(rad_per_s_from_hz(m.gain_crossovers[i].frequency_hz) == Approx(omegas[i]).epsilon(kFrequencyRel));
+    CHECK(m.gain_crossovers[i].phase_margin_deg == Approx(pms[i]).margin(kAngleDeg));
+  }
+  // The delay margin comes from the third crossover, not the smallest PM.
+  CHECK(*m.summary.delay_margin_s == Approx(rad_from_deg(pms[2]) / omegas[2]).epsilon(1e-5));
+  CHECK(rad_per_s_from_hz(*m.summary.modulus_frequency_hz) == Approx(10.2727).epsilon(1e-4));
+}
+
+TEST_CASE("the discrete hold loop K T/(z(z-1)) matches its closed form", "[analysis][margins]") {
+  // REFERENCES.md section 5: phase crossover at f = fs/6, GM = 1/(K T);
+  // PM = pi/2 - 1.5 theta_c with theta_c = 2 asin(K T / 2).
+  const Margins m = find_margins(known::sample(known::discrete_hold_loop, 1e-4, 0.4999, kLinesPerDecade));
+  const double theta_c = 2.0 * std::asin(0.25);
+  REQUIRE(m.gain_crossovers.size() == 1);
+  CHECK(m.gain_crossovers[0].frequency_hz == Approx(theta_c / known::kTwoPi).epsilon(kFrequencyRel));
+  CHECK(m.gain_crossovers[0].phase_margin_deg == Approx(46.56746344).margin(kAngleDeg));
+  CHECK(m.gain_crossovers[0].delay_margin_s == Approx(1.60826884).epsilon(1e-5));
+  REQUIRE(m.phase_crossovers.size() == 1);
+  CHECK(m.phase_crossovers[0].frequency_hz == Approx(1.0 / 6.0).epsilon(kFrequencyRel));
+  CHECK(m.phase_crossovers[0].gain_margin_db == Approx(db_from_ratio(2.0)).margin(kGainDb));
+  CHECK(*m.summary.modulus_margin == Approx(0.45508986).epsilon(kModulusRel));
+}
+
+TEST_CASE("modulus margin bounds the classical margins", "[analysis][margins]") {
+  // Astrom and Murray, "Feedback Systems": GM >= 1/(1 - s_m), PM >= 2 asin(s_m/2).
+  for (const auto& k : known::table()) {
+    INFO(k.name);
+    const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
+    const double s_m = *m.summary.modulus_margin;
+    for (const auto& c : m.gain_crossovers) CHECK(rad_from_deg(c.phase_margin_deg) >= 2.0 * std::asin(s_m / 2.0));
+    for (const auto& c : m.phase_crossovers) {
+      if (c.gain_margin_db > 0.0) CHECK(ratio_from_db(c.gain_margin_db) >= 1.0 / (1.0 - s_m));
+    }
+  }
+}
+
+TEST_CASE("noise crossings near one crossover merge into one", "[analysis][margins]") {
+  // 1/(s(s+1)(s+2)) with complex-Gaussian line errors of relative sigma 0.03
+  // on 2000 lines a decade: |L| crosses 1 many times near 0.4457 rad/s.
+  const auto k = known::table()[0];
+  Response r = known::sample(k.loop, k.low_hz, k.high_hz, 2000);
+  std::mt19937_64 rng(7);
+  std::normal_distribution<double> normal(0.0, 0.03);
+  for (std::size_t i = 0; i < r.size(); ++i) {
+    r.value[i] *= std::exp(std::complex<double>(normal(rng), normal(rng)));
+    r.relative_sigma[i] = 0.03;
+  }
+  const Margins m = find_margins(r);
+  REQUIRE(m.gain_crossovers.size() == 1);
+  CHECK(m.gain_crossovers[0].merged_crossings > 1);
+  // A 0.03 relative error on lines whose gain falls about 0.45 nepers per
+  // 0.1 decade moves the crossing by well under 1 %.
+  CHECK(rad_per_s_from_hz(m.gain_crossovers[0].frequency_hz) == Approx(*k.gain_crossover_rad_s).epsilon(0.01));
+  CHECK(m.gain_crossovers[0].phase_margin_deg == Approx(*k.phase_margin_deg).margin(1.0));
+  REQUIRE(m.phase_crossovers.size() == 1);
+  CHECK(m.phase_crossovers[0].gain_margin_db == Approx(*k.gain_margin_db).margin(0.3));
+}
+
+TEST_CASE("crossings among lines too noisy to place are not listed but reported", "[analysis][margins]") {
+  const auto k = known::table()[0];
+  Response r = known::sample(k.loop, k.low_hz, k.high_hz, 200);
+  for (double& s : r.relative_sigma) s = 1.0;
+  const Margins m = find_margins(r);
+  CHECK(m.gain_crossovers.empty());
+  CHECK(m.phase_crossovers.empty());
+  bool reported = false;
+  for (const auto& d : m.findings) reported = reported || d.code == "margins.unresolved-crossings";
+  CHECK(reported);
+}
+
+TEST_CASE("none in band is a result and not a number", "[analysis][margins]") {
+  // 1/(s(s+1)(s+2)) between 0.01 and 0.1 rad/s: |L| > 1 and phase above -180 deg.
+  const auto k = known::table()[0];
+  const Margins m = find_margins(known::sample(k.loop, known::hz(0.01), known::hz(0.1), 100));
+  CHECK(m.gain_crossovers.empty());
+  CHECK(m.phase_crossovers.empty());
+  CHECK_FALSE(m.summary.phase_margin_deg.has_value());
+  CHECK_FALSE(m.summary.gain_margin_db.has_value());
+  CHECK_FALSE(m.summary.delay_margin_s.has_value());
+  REQUIRE(m.findings.size() >= 2);
+  CHECK(m.findings[0].code == "margins.no-gain-crossover");
+  CHECK_THAT(m.findings[0].message, Catch::Contains("above 0 dB"));
+  CHECK(m.modulus->at_band_edge);
+}
+
+TEST_CASE("fewer than two lines are refused", "[analysis][margins]") {
+  Response r;
+  r.frequency_hz = {1.0};
+  r.value = {{-2.0, 0.0}};
+  r.relative_sigma = {0.0};
+  CHECK_THROWS_AS(find_margins(r), NumericalError);
+}

@@ -1,0 +1,122 @@
+#include <catch2/catch.hpp>
+#include <cstdio>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/ingest/delimited.hpp"
+#include "temp_file.hpp"
+
+using namespace loopmargin;
+using testing::TempFile;
+
+namespace {
+
+Record read(const std::string& content, DelimitedOptions options = {}) {
+  TempFile file(content);
+  const auto source = open_delimited(file.path(), options);
+  return read_all(*source);
+}
+
+std::string message_of(const std::string& content, DelimitedOptions options = {}) {
+  try {
+    read(content, options);
+  } catch (const Error& e) {
+    return e.what();
+  }
+  return "no error";
+}
+
+}  // namespace
+
+TEST_CASE("a CSV with a time column gives channels and the sample rate", "[ingest]") {
+  const Record r = read("t,z,x,y\n0,1,2,3\n0.001,4,5,6\n0.002,7,8,9\n");
+  REQUIRE(r.channel_names == std::vector<std::string>{"z", "x", "y"});
+  CHECK(r.sample_rate_hz == Approx(1000.0));
+  CHECK(r.channels[1] == std::vector<double>{2, 5, 8});
+}
+
+TEST_CASE("delimiters are detected: tab and semicolon", "[ingest]") {
+  CHECK(read("time\tz\tx\n0\t1\t2\n0.5\t3\t4\n").sample_rate_hz == Approx(2.0));
+  CHECK(read("time_s;a;b\n0;1;2\n0.25;3;4\n").channel_names == std::vector<std::string>{"a", "b"});
+}
+
+TEST_CASE("without a time column the stated sample rate is used", "[ingest]") {
+  DelimitedOptions options;
+  options.sample_rate_hz = 48000.0;
+  const Record r = read("z,x,y\n1,2,3\n4,5,6\n", options);
+  CHECK(r.sample_rate_hz == 48000.0);
+  CHECK(r.sample_count() == 2);
+  CHECK_THAT(message_of("z,x,y\n1,2,3\n"), Catch::Contains("no time column"));
+}
+
+TEST_CASE("stamps printed to 7 significant digits are accepted past 10^6 samples", "[ingest]") {
+  // At 1 MHz, %.7g stamps past t = 1 s step by 0 or 2 us: rounding, not a fault.
+  std::ostringstream text;
+  text << "t,z\n";
+  const std::size_t count = 1'200'000;
+  char stamp[32];
+  for (std::size_t n = 0; n < count; ++n) {
+    std::snprintf(stamp, sizeof stamp, "%.7g", static_cast<double>(n) * 1e-6);
+    text << stamp << ",1\n";
+  }
+  const Record r = read(text.str());
+  CHECK(r.sample_count() == count);
+  // Rate from the whole span: the last stamp is rounded by at most 5e-7 s.
+  CHECK(r.sample_rate_hz == Approx(1e6).epsilon(1e-6));
+}
+
+TEST_CASE("bad cells name the file and line and column", "[ingest]") {
+  const std::string message = message_of("t,z,x\n0,1,2\n0.1,abc,3\n");
+  CHECK_THAT(message, Catch::Contains("line 3, column 2 ('z')"));
+  CHECK_THAT(message, Catch::Contains("'abc'"));
+  CHECK_THAT(message_of("t,z,x\n0,1,2\n0.1,nan,3\n"), Catch::Contains("not a finite number"));
+  CHECK_THAT(message_of("t,z,x\n0,1,2\n0.1,inf,3\n"), Catch::Contains("line 3, column 2"));
+  CHECK_THAT(message_of("t,z,x\n0,1\n"), Catch::Contains("line 2: 2 cells where the header names 3"));
+  CHECK_THAT(message_of("t,z,x\n0,1,2,3\n"), Catch::Contains("more cells"));
+}
+
+TEST_CASE("time columns that go back and stall or jump are refused", "[ingest]") {
+  CHECK_THAT(message_of("t,z\n0,1\n0.1,1\n0.2,1\n0.15,1\n"), Catch::Contains("line 5"));
+  CHECK_THAT(message_of("t,z\n0.00,1\n0.10,1\n0.10,1\n0.30,1\n"), Catch::Contains("does not increase"));
+  std::ostringstream gap;
+  gap << "t,z\n";
+  for (int n = 0; n < 100; ++n) gap << (n < 50 ? n : n + 3) * 0.001 << ",0\n";
+  CHECK_THAT(message_of(gap.str()), Catch::Contains("line 52") && Catch::Contains("not uniform"));
+}
+
+TEST_CASE("headers and files that cannot be used are refused", "[ingest]") {
+  CHECK_THAT(message_of(""), Catch::Contains("empty"));
+  CHECK_THAT(message_of("t,z\n"), Catch::Contains("no data rows"));
+  CHECK_THAT(message_of("0,1,2\n1,2,3\n"), Catch::Contains("must name every column"));
+  CHECK_THAT(message_of("t,z\n0,1\n"), Catch::Contains("fewer than two rows"));
+  CHECK_THROWS_AS(open_delimited("/nonexistent/rec.csv", {}), InputError);
+  DelimitedOptions options;
+  options.time_column = "clock";
+  CHECK_THROWS_AS(read("t,z\n0,1\n1,1\n", options), ConfigError);
+}
+
+TEST_CASE("Windows line ends and blank lines and a missing last newline are fine", "[ingest]") {
+  const Record r = read("t,z\r\n\r\n0,1\r\n0.5,2\r\n\r\n1.0,3");
+  CHECK(r.channels[0] == std::vector<double>{1, 2, 3});
+  CHECK(r.sample_rate_hz == Approx(2.0));
+}
+
+TEST_CASE("blocks are handed out in order and sized as asked", "[ingest]") {
+  std::ostringstream text;
+  text << "t,a\n";
+  for (int n = 0; n < 1000; ++n) text << n * 0.01 << ',' << n << '\n';
+  TempFile file(text.str());
+  DelimitedOptions options;
+  options.block_size = 64;
+  const auto source = open_delimited(file.path(), options);
+  SampleBlock block;
+  std::size_t expected_first = 0;
+  while (source->next(block)) {
+    CHECK(block.first_sample == expected_first);
+    CHECK(block.channels[0].front() == static_cast<double>(expected_first));
+    CHECK(block.size() <= 64);
+    expected_first += block.size();
+  }
+  CHECK(expected_first == 1000);
+  CHECK(source->summary().sample_rate_hz == Approx(100.0));
+}

@@ -1,0 +1,84 @@
+#include <catch2/catch.hpp>
+#include <filesystem>
+#include <fstream>
+#include <nlohmann/json.hpp>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/ingest/response_table.hpp"
+#include "loopmargin/report/atomic_file.hpp"
+#include "loopmargin/report/csv_report.hpp"
+#include "loopmargin/report/json_report.hpp"
+#include "temp_file.hpp"
+
+using namespace loopmargin;
+
+namespace {
+std::string read_text(const std::string& path) {
+  std::ifstream in(path);
+  return {std::istreambuf_iterator<char>(in), {}};
+}
+
+Response small_response() {
+  Response r;
+  r.frequency_hz = {10.0, 20.0, 40.0};
+  r.value = {{3.0, -1.0}, {-0.5, -0.8}, {-0.2, 0.05}};
+  r.coherence = {0.99, 0.9, 0.5};
+  r.relative_sigma = {0.01, 0.02, 0.1};
+  return r;
+}
+}  // namespace
+
+TEST_CASE("a failed write leaves the old file as it was and no temporary behind", "[report]") {
+  testing::TempFile target("good content\n", ".json");
+  CHECK_THROWS_AS(write_atomically(target.path(),
+                                    [](std::ostream& out) {
+                                      out << "half";
+                                      throw OutputError("stopped");
+                                    }),
+                  OutputError);
+  CHECK(read_text(target.path()) == "good content\n");
+  const auto folder = std::filesystem::path(target.path()).parent_path();
+  for (const auto& entry : std::filesystem::directory_iterator(folder)) {
+    CHECK(entry.path().string().find(target.path() + ".tmp.") == std::string::npos);
+  }
+  CHECK_THROWS_AS(write_atomically("/nonexistent-folder/x.json", [](std::ostream&) {}), OutputError);
+}
+
+TEST_CASE("the response CSV reads back as the same lines", "[report]") {
+  const Response r = small_response();
+  testing::TempFile file("");
+  write_atomically(file.path(), [&](std::ostream& out) { write_response_csv(out, r); });
+  const Response back = read_response_table(file.path());
+  REQUIRE(back.size() == r.size());
+  for (std::size_t k = 0; k < r.size(); ++k) {
+    CHECK(back.frequency_hz[k] == r.frequency_hz[k]);
+    CHECK(back.value[k] == r.value[k]);
+    CHECK(back.coherence[k] == r.coherence[k]);
+    CHECK(back.relative_sigma[k] == Approx(r.relative_sigma[k]).epsilon(1e-12));
+  }
+}
+
+TEST_CASE("the JSON has the documented keys with null where none is in band", "[report]") {
+  AnalysisResult result = analyze_response("table.csv", small_response(), Convention::kDirect);
+  const auto json = nlohmann::json::parse(analysis_json(result));
+  CHECK(json["schema_version"] == kSchemaVersion);
+  for (const char* key : {"gain_crossover_hz", "phase_margin_deg", "phase_crossover_hz", "gain_margin_db",
+                          "delay_margin_s", "modulus_margin", "peak_sensitivity_db"}) {
+    CHECK(json["summary"].contains(key));
+  }
+  REQUIRE(json["gain_crossovers"].size() == 1);
+  CHECK(json["gain_crossovers"][0].contains("freq_hz"));
+  CHECK(json["gain_crossovers"][0].contains("phase_margin_deg"));
+  CHECK(json["phase_crossovers"].size() == 1);
+  CHECK(json["phase_crossovers"][0].contains("gain_margin_db"));
+  CHECK(json["input"]["kind"] == "table");
+  CHECK(json["response"]["freq_hz"].size() == 3);
+
+  Response no_crossing = small_response();
+  no_crossing.value = {{3.0, 0.0}, {2.0, -0.1}, {1.5, -0.2}};
+  const auto empty = nlohmann::json::parse(analysis_json(analyze_response("t", no_crossing, Convention::kDirect)));
+  CHECK(empty["summary"]["phase_margin_deg"].is_null());
+  CHECK(empty["summary"]["gain_margin_db"].is_null());
+  CHECK(empty["gain_crossovers"].empty());
+}
