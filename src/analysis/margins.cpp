@@ -38,48 +38,25 @@ double bracket_sigma(const std::vector<double>& sigmas, const Bracket& bracket) 
   return 0.5 * (sigmas[bracket.index] + sigmas[bracket.index + 1]);
 }
 
-void report_unresolved(const std::vector<Bracket>& run, const LineTable& table, const char* what, double limit,
-                       Diagnostics& findings) {
-  const double low_hz = std::pow(10.0, table.log_f[run.front().index]);
-  const double high_hz = std::pow(10.0, table.log_f[run.back().index + 1]);
-  std::ostringstream message;
-  message << run.size() << " " << what << " from " << format_frequency(low_hz) << " to " << format_frequency(high_hz)
-          << " fall where the lines are too noisy to place them (relative uncertainty above " << limit
-          << "); they are not listed. Raise the injection or average longer if a crossover may lie there";
-  findings.push_back(make_warning("margins.unresolved-crossings", message.str(), {.low_hz = low_hz, .high_hz = high_hz}));
-}
+// One curve of the table (gain in dB or unwrapped phase in deg) with the
+// standard deviation of each line, in the same unit.
+struct Curve {
+  const std::vector<double>& values;
+  const std::vector<double>& sigmas;
+};
 
-// Removes the brackets whose lines are too uncertain to place a crossing and
-// reports each run of them between placeable ones in one finding.
-void drop_unresolved(std::vector<Bracket>& brackets, const LineTable& table, const char* what,
-                     const MarginOptions& options, Diagnostics& findings) {
-  std::vector<Bracket> kept;
-  std::vector<Bracket> run;
-  for (const Bracket& b : brackets) {
-    if (bracket_sigma(table.relative_sigma, b) > options.max_line_sigma) {
-      run.push_back(b);
-      continue;
-    }
-    if (!run.empty()) report_unresolved(run, table, what, options.max_line_sigma, findings);
-    run.clear();
-    kept.push_back(b);
-  }
-  if (!run.empty()) report_unresolved(run, table, what, options.max_line_sigma, findings);
-  brackets = std::move(kept);
-}
-
-std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, const LineTable& table,
-                                      const std::vector<double>& values, const std::vector<double>& sigmas,
+std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
                                       const MarginOptions& options) {
   std::vector<Crossing> crossings;
   for (const Bracket& bracket : brackets) {
     const Window w = window_around(bracket.index, bracket.index, options.fit_half_width, table.size());
-    const LocalFit fit =
-        detail::fit_local(table.log_f, values, sigmas, w.first, w.last, detail::fit_degree(sigmas, w.first, w.last));
-    const double log_f = detail::solve_in_bracket(fit, table.log_f, values, bracket);
+    const int degree = detail::fit_degree(curve.sigmas, w.first, w.last);
+    const LocalFit fit = detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree);
+    const double log_f = detail::solve_in_bracket(fit, table.log_f, curve.values, bracket);
     const Window wide = window_around(bracket.index, bracket.index, options.slope_half_width, table.size());
-    const double slope = std::abs(detail::fit_local(table.log_f, values, sigmas, wide.first, wide.last, 1).slope());
-    crossings.push_back({bracket, log_f, slope > 0.0 ? bracket_sigma(sigmas, bracket) / slope : 0.0});
+    const double slope =
+        std::abs(detail::fit_local(table.log_f, curve.values, curve.sigmas, wide.first, wide.last, 1).slope());
+    crossings.push_back({bracket, log_f, slope > 0.0 ? bracket_sigma(curve.sigmas, bracket) / slope : 0.0});
   }
   return crossings;
 }
@@ -101,41 +78,111 @@ std::vector<std::vector<Crossing>> cluster(const std::vector<Crossing>& crossing
   return groups;
 }
 
+Location group_band(const std::vector<Crossing>& group, const LineTable& table) {
+  return {.low_hz = std::pow(10.0, table.log_f[group.front().bracket.index]),
+          .high_hz = std::pow(10.0, table.log_f[group.back().bracket.index + 1])};
+}
+
 // The log frequency where a merged group crosses its level: a straight line
 // fitted to all lines the group spans.
-double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, const std::vector<double>& values,
-                    const std::vector<double>& sigmas, const MarginOptions& options) {
+double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, const Curve& curve,
+                    const MarginOptions& options) {
   if (group.size() == 1) return group.front().log_f;
   const Window w = window_around(group.front().bracket.index, group.back().bracket.index, options.fit_half_width,
                                  table.size());
-  const LocalFit fit = detail::fit_local(table.log_f, values, sigmas, w.first, w.last, 1);
+  const LocalFit fit = detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 1);
   const double level = group.front().bracket.level;
   const double root = fit.slope() != 0.0 ? fit.centre + (level - fit.coefficients[0]) / fit.slope() : fit.centre;
   return std::clamp(root, group.front().log_f, group.back().log_f);
 }
 
-// The value of `values` at log frequency `log_f`, from a local fit around `index`.
-double value_at(const LineTable& table, const std::vector<double>& values, const std::vector<double>& sigmas,
-                std::size_t first_index, std::size_t last_index, double log_f, const MarginOptions& options) {
-  const Window w = window_around(first_index, last_index, options.fit_half_width, table.size());
-  const int degree = first_index == last_index ? detail::fit_degree(sigmas, w.first, w.last) : 1;
-  return detail::fit_local(table.log_f, values, sigmas, w.first, w.last, degree).at(log_f);
+// The value of a curve at log frequency `log_f`, from a local fit over the
+// lines a group spans.
+double value_at(const LineTable& table, const Curve& curve, const std::vector<Crossing>& group, double log_f,
+                const MarginOptions& options) {
+  const std::size_t first = group.front().bracket.index;
+  const std::size_t last = group.back().bracket.index;
+  const Window w = window_around(first, last, options.fit_half_width, table.size());
+  const int degree = first == last ? detail::fit_degree(curve.sigmas, w.first, w.last) : 1;
+  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree).at(log_f);
+}
+
+// What a group of merged crossings says.
+enum class Verdict {
+  kCrossover,    // an odd number of crossings: the curve passes the level once on balance
+  kNearMiss,     // an even number: it comes back to the side it started on, within noise
+  kUnresolved,   // a member lies between lines too noisy to place it
+};
+
+struct Group {
+  std::vector<Crossing> members;
+  Verdict verdict = Verdict::kCrossover;
+  double log_f = 0.0;
+};
+
+std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
+                                   const MarginOptions& options) {
+  std::vector<Group> groups;
+  for (auto& members : cluster(place_crossings(brackets, table, curve, options), options.merge_sigmas)) {
+    Group g{std::move(members)};
+    const bool noisy = std::any_of(g.members.begin(), g.members.end(), [&](const Crossing& c) {
+      return bracket_sigma(table.relative_sigma, c.bracket) > options.max_line_sigma;
+    });
+    g.verdict = noisy ? Verdict::kUnresolved : (g.members.size() % 2 == 0 ? Verdict::kNearMiss : Verdict::kCrossover);
+    g.log_f = merged_log_f(g.members, table, curve, options);
+    groups.push_back(std::move(g));
+  }
+  return groups;
+}
+
+// One finding for each run of unresolved groups between resolved ones.
+void report_unresolved(const std::vector<Group>& groups, const LineTable& table, const char* what,
+                       const MarginOptions& options, Diagnostics& findings) {
+  for (std::size_t i = 0; i < groups.size();) {
+    if (groups[i].verdict != Verdict::kUnresolved) {
+      ++i;
+      continue;
+    }
+    std::size_t end = i;
+    std::size_t count = 0;
+    for (; end < groups.size() && groups[end].verdict == Verdict::kUnresolved; ++end) count += groups[end].members.size();
+    const Location band{.low_hz = group_band(groups[i].members, table).low_hz,
+                        .high_hz = group_band(groups[end - 1].members, table).high_hz};
+    std::ostringstream message;
+    message << count << " " << what << " from " << format_frequency(*band.low_hz) << " to "
+            << format_frequency(*band.high_hz) << " fall where the lines are too noisy to place them (relative "
+            << "uncertainty above " << options.max_line_sigma << "); they are not listed. Raise the injection or "
+            << "average longer if a crossover may lie there";
+    findings.push_back(make_warning("margins.unresolved-crossings", message.str(), band));
+    i = end;
+  }
+}
+
+void report_near_miss(const Group& g, const LineTable& table, const std::string& what, Diagnostics& findings) {
+  std::ostringstream message;
+  message << what << " near " << format_frequency(std::pow(10.0, g.log_f)) << " without crossing on balance ("
+          << g.members.size() << " noise crossings); the data cannot tell whether it crosses";
+  findings.push_back(make_warning("margins.near-crossing", message.str(), group_band(g.members, table)));
 }
 
 std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginOptions& options, Diagnostics& findings) {
-  auto brackets = detail::gain_brackets(table);
-  drop_unresolved(brackets, table, "gain crossings", options, findings);
-  const auto crossings = place_crossings(brackets, table, table.gain_db, table.gain_sigma_db, options);
+  const Curve gain{table.gain_db, table.gain_sigma_db};
+  const Curve phase{table.phase_deg, table.phase_sigma_deg};
+  const auto groups = crossing_groups(detail::gain_brackets(table), table, gain, options);
+  report_unresolved(groups, table, "gain crossings", options, findings);
   std::vector<GainCrossover> result;
-  for (const auto& group : cluster(crossings, options.merge_sigmas)) {
-    const double log_f = merged_log_f(group, table, table.gain_db, table.gain_sigma_db, options);
-    const double phase_deg = value_at(table, table.phase_deg, table.phase_sigma_deg, group.front().bracket.index,
-                                      group.back().bracket.index, log_f, options);
+  for (const Group& g : groups) {
+    const double phase_margin_deg = wrap_deg(180.0 + value_at(table, phase, g.members, g.log_f, options));
+    if (g.verdict == Verdict::kNearMiss) {
+      report_near_miss(g, table, "|L| comes within noise of 0 dB (phase margin there about " +
+                                     std::to_string(std::lround(phase_margin_deg)) + " deg)", findings);
+    }
+    if (g.verdict != Verdict::kCrossover) continue;
     GainCrossover c;
-    c.frequency_hz = std::pow(10.0, log_f);
-    c.phase_margin_deg = wrap_deg(180.0 + phase_deg);
-    c.delay_margin_s = rad_from_deg(c.phase_margin_deg) / rad_per_s_from_hz(c.frequency_hz);
-    c.merged_crossings = group.size();
+    c.frequency_hz = std::pow(10.0, g.log_f);
+    c.phase_margin_deg = phase_margin_deg;
+    c.delay_margin_s = rad_from_deg(phase_margin_deg) / rad_per_s_from_hz(c.frequency_hz);
+    c.merged_crossings = g.members.size();
     result.push_back(c);
   }
   return result;
@@ -143,19 +190,23 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
 
 std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const MarginOptions& options,
                                              Diagnostics& findings) {
-  auto brackets = detail::phase_brackets(table);
-  drop_unresolved(brackets, table, "phase crossings", options, findings);
-  const auto crossings = place_crossings(brackets, table, table.phase_deg, table.phase_sigma_deg, options);
+  const Curve gain{table.gain_db, table.gain_sigma_db};
+  const Curve phase{table.phase_deg, table.phase_sigma_deg};
+  const auto groups = crossing_groups(detail::phase_brackets(table), table, phase, options);
+  report_unresolved(groups, table, "phase crossings", options, findings);
   std::vector<PhaseCrossover> result;
-  for (const auto& group : cluster(crossings, options.merge_sigmas)) {
-    const double log_f = merged_log_f(group, table, table.phase_deg, table.phase_sigma_deg, options);
-    const double gain_db = value_at(table, table.gain_db, table.gain_sigma_db, group.front().bracket.index,
-                                    group.back().bracket.index, log_f, options);
+  for (const Group& g : groups) {
+    const double gain_db = value_at(table, gain, g.members, g.log_f, options);
+    if (g.verdict == Verdict::kNearMiss) {
+      report_near_miss(g, table, "the phase comes within noise of -180 deg (|L| there about " +
+                                     std::to_string(std::lround(gain_db)) + " dB)", findings);
+    }
+    if (g.verdict != Verdict::kCrossover) continue;
     PhaseCrossover c;
-    c.frequency_hz = std::pow(10.0, log_f);
+    c.frequency_hz = std::pow(10.0, g.log_f);
     c.gain_margin_db = -gain_db;
     c.limits = detail::direction_of(c.gain_margin_db);
-    c.merged_crossings = group.size();
+    c.merged_crossings = g.members.size();
     result.push_back(c);
   }
   std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz < b.frequency_hz; });

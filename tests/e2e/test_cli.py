@@ -1,0 +1,320 @@
+"""End-to-end tests: the loopmargin CLI as a user runs it.
+
+Environment: LOOPMARGIN (the binary) and LOOPMARGIN_DEMO (data/demo), set by
+CTest. Recordings are made with `loopmargin synth`; each check names its source.
+"""
+import json
+import math
+import os
+import shutil
+import subprocess
+import tempfile
+import unittest
+
+import numpy as np
+
+BINARY = os.environ.get("LOOPMARGIN", "loopmargin")
+DEMO = os.environ.get("LOOPMARGIN_DEMO", "../../data/demo")
+
+# Exit codes documented in README.md.
+USAGE, INPUT, SETTINGS, NO_RESULT, OUTPUT = 2, 3, 4, 5, 6
+# Tolerances from the per-line standard deviations the tool reports: a bound
+# of this many standard deviations is exceeded by chance with probability
+# below 1e-4 for Gaussian errors (and the scenarios' seeds are fixed).
+SIGMAS = 4.0
+
+
+def run(*args, check=True):
+    result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300)
+    if check and result.returncode != 0:
+        raise AssertionError(f"loopmargin {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
+    return result
+
+
+def load(path):
+    with open(path) as f:
+        return json.load(f)
+
+
+def nearest(freqs, f):
+    return int(np.argmin(np.abs(np.log(np.asarray(freqs)) - math.log(f))))
+
+
+def slope_per_decade(response, f, quantity):
+    """d quantity / d log10 f of the truth response near f."""
+    freq = np.asarray(response["freq_hz"])
+    value = np.asarray(response["re"]) + 1j * np.asarray(response["im"])
+    curve = 20 * np.log10(np.abs(value)) if quantity == "gain" else np.degrees(np.unwrap(np.angle(value)))
+    k = min(max(nearest(freq, f), 1), len(freq) - 2)
+    return (curve[k + 1] - curve[k - 1]) / (math.log10(freq[k + 1]) - math.log10(freq[k - 1]))
+
+
+class DemoScenarios(unittest.TestCase):
+    """synth then analyze recovers the truth's margins within the noise."""
+
+    @classmethod
+    def setUpClass(cls):
+        cls.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        cls.results = {}
+        for name in ("buck_48v_12v", "servo_velocity"):
+            run("synth", os.path.join(DEMO, name + ".toml"), "--out-dir", cls.folder)
+            stem = os.path.join(cls.folder, name)
+            run("analyze", stem + ".csv", "--json", stem + ".json", "--csv", stem + ".lines.csv",
+                "--truth", stem + ".truth.json")
+            cls.results[name] = (load(stem + ".json"), load(stem + ".truth.json"))
+
+    @classmethod
+    def tearDownClass(cls):
+        shutil.rmtree(cls.folder, ignore_errors=True)
+
+    def check_scenario(self, name):
+        measured, truth = self.results[name]
+        m, t = measured["summary"], truth["summary"]
+        lines = measured["response"]
+        # Gain crossover and phase margin: the crossing moves by the gain's
+        # standard deviation over the slope of |L|; the phase by its own.
+        k = nearest(lines["freq_hz"], t["gain_crossover_hz"])
+        sigma_db, sigma_deg = lines["mag_sigma_db"][k], lines["phase_sigma_deg"][k]
+        gain_slope = slope_per_decade(truth["response"], t["gain_crossover_hz"], "gain")
+        phase_slope = slope_per_decade(truth["response"], t["gain_crossover_hz"], "phase")
+        decades = SIGMAS * sigma_db / abs(gain_slope)
+        self.assertLess(abs(math.log10(m["gain_crossover_hz"] / t["gain_crossover_hz"])), decades)
+        self.assertLess(abs(m["phase_margin_deg"] - t["phase_margin_deg"]),
+                        SIGMAS * math.hypot(sigma_deg, phase_slope * sigma_db / gain_slope))
+        # Delay margin: relative errors of PM and of the crossover add.
+        relative = (SIGMAS * math.hypot(sigma_deg, phase_slope * sigma_db / gain_slope) / m["phase_margin_deg"]
+                    + (10 ** decades - 1))
+        self.assertLess(abs(m["delay_margin_s"] / t["delay_margin_s"] - 1), relative)
+        # Gain margin: the gain's own error plus the gain change over the shift
+        # of the phase crossover.
+        k = nearest(lines["freq_hz"], t["phase_crossover_hz"])
+        sigma_db, sigma_deg = lines["mag_sigma_db"][k], lines["phase_sigma_deg"][k]
+        gain_slope = slope_per_decade(truth["response"], t["phase_crossover_hz"], "gain")
+        phase_slope = slope_per_decade(truth["response"], t["phase_crossover_hz"], "phase")
+        self.assertLess(abs(m["gain_margin_db"] - t["gain_margin_db"]),
+                        SIGMAS * math.hypot(sigma_db, gain_slope * sigma_deg / phase_slope))
+        # Modulus margin: |1 + L| moves by about |L| times its relative error.
+        k = nearest(lines["freq_hz"], t["modulus_freq_hz"])
+        relative_sigma = lines["mag_sigma_db"][k] / (20 / math.log(10))
+        value = complex(lines["re"][k], lines["im"][k])
+        self.assertLess(abs(m["modulus_margin"] - t["modulus_margin"]), SIGMAS * abs(value) * relative_sigma)
+        self.assertEqual(len(measured["gain_crossovers"]), len(truth["gain_crossovers"]))
+        self.assertEqual(len(measured["phase_crossovers"]), len(truth["phase_crossovers"]))
+
+    def test_buck_margins_match_truth(self):
+        self.check_scenario("buck_48v_12v")
+
+    def test_servo_margins_match_truth(self):
+        self.check_scenario("servo_velocity")
+
+    def test_json_has_documented_keys(self):
+        measured, _ = self.results["buck_48v_12v"]
+        self.assertEqual(measured["schema_version"], 1)
+        for key in ("gain_crossover_hz", "phase_margin_deg", "phase_crossover_hz", "gain_margin_db",
+                    "delay_margin_s", "modulus_margin", "peak_sensitivity_db"):
+            self.assertIn(key, measured["summary"])
+        self.assertEqual(measured["method"]["formula"], "L = -Y/X")
+
+    def test_response_csv_feeds_the_margins_command(self):
+        # Round trip: the lines written by analyze give the same margins.
+        stem = os.path.join(self.folder, "servo_velocity")
+        run("margins", stem + ".lines.csv", "--json", stem + ".again.json")
+        again = load(stem + ".again.json")["summary"]
+        first = self.results["servo_velocity"][0]["summary"]
+        for key, value in first.items():
+            if value is None:
+                self.assertIsNone(again[key], key)
+            else:
+                self.assertAlmostEqual(again[key], value, delta=1e-9 * max(1.0, abs(value)), msg=key)
+
+    def test_text_report_prints_truth_beside_measurement(self):
+        stem = os.path.join(self.folder, "buck_48v_12v")
+        out = run("analyze", stem + ".csv", "--truth", stem + ".truth.json").stdout
+        self.assertIn("phase margin", out)
+        self.assertIn("truth", out)
+
+
+class FrequencyDomainTables(unittest.TestCase):
+    def setUp(self):
+        self.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+
+    def tearDown(self):
+        shutil.rmtree(self.folder, ignore_errors=True)
+
+    def table(self, loop, low, high, polar, name="table.csv"):
+        omega = np.logspace(math.log10(low), math.log10(high), 2000)
+        value = loop(1j * omega)
+        path = os.path.join(self.folder, name)
+        with open(path, "w") as f:
+            if polar:
+                f.write("freq_hz,mag_db,phase_deg\n")
+                for w, v in zip(omega, value):
+                    f.write(f"{w / (2 * math.pi)!r},{20 * math.log10(abs(v))!r},{math.degrees(np.angle(v))!r}\n")
+            else:
+                f.write("freq_hz,re,im\n")
+                for w, v in zip(omega, value):
+                    f.write(f"{w / (2 * math.pi)!r},{v.real!r},{v.imag!r}\n")
+        return path
+
+    def test_third_order_loop_from_a_simulator_sweep(self):
+        # K/(s(s+1)(s+2)), K = 1: phase crossover sqrt(2) rad/s, GM 20 log10 6 = 15.563025 dB;
+        # gain crossover 0.4457479596 rad/s, PM 53.41078618 deg (REFERENCES.md section 5).
+        path = self.table(lambda s: 1 / (s * (s + 1) * (s + 2)), 0.01, 100, polar=True)
+        out = os.path.join(self.folder, "m.json")
+        run("margins", path, "--json", out)
+        s = load(out)["summary"]
+        self.assertAlmostEqual(s["phase_crossover_hz"] * 2 * math.pi, math.sqrt(2), delta=1e-5)
+        self.assertAlmostEqual(s["gain_margin_db"], 15.563025, delta=1e-4)
+        self.assertAlmostEqual(s["gain_crossover_hz"] * 2 * math.pi, 0.4457479596, delta=1e-5)
+        self.assertAlmostEqual(s["phase_margin_deg"], 53.41078618, delta=1e-3)
+
+    def test_series_injection_table_is_negated(self):
+        # A table of the measured ratio Y/X = -L gives the margins of L.
+        path = self.table(lambda s: -2 / (s * (s + 1) * (s + 2)), 0.01, 100, polar=False)
+        out = os.path.join(self.folder, "m.json")
+        run("margins", path, "--convention", "series-injection", "--json", out)
+        # 2/(s(s+1)(s+2)): GM 3 = 9.542425 dB, PM 32.61309705 deg (REFERENCES.md section 5).
+        s = load(out)["summary"]
+        self.assertAlmostEqual(s["gain_margin_db"], 9.542425, delta=1e-4)
+        self.assertAlmostEqual(s["phase_margin_deg"], 32.61309705, delta=1e-3)
+
+    def test_no_crossover_in_band_is_null(self):
+        path = self.table(lambda s: 1 / (s * (s + 1) * (s + 2)), 0.01, 0.1, polar=False)
+        out = os.path.join(self.folder, "m.json")
+        result = run("margins", path, "--json", out)
+        s = load(out)["summary"]
+        self.assertIsNone(s["phase_margin_deg"])
+        self.assertIsNone(s["gain_crossover_hz"])
+        self.assertIn("none in band", result.stdout)
+
+
+class BadInput(unittest.TestCase):
+    """Each bad input: one clear message, a documented exit code, no output written."""
+
+    def setUp(self):
+        self.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+
+    def tearDown(self):
+        shutil.rmtree(self.folder, ignore_errors=True)
+
+    def write(self, text, name="rec.csv"):
+        path = os.path.join(self.folder, name)
+        with open(path, "w") as f:
+            f.write(text)
+        return path
+
+    def good_recording(self, rows=4096, columns="t,z,x,y"):
+        rng = np.random.default_rng(1)
+        z = rng.standard_normal(rows)
+        lines = [columns]
+        for n in range(rows):
+            lines.append(f"{n * 1e-4:.6f},{z[n]:.6f},{0.5 * z[n]:.6f},{-0.5 * z[n]:.6f}")
+        return "\n".join(lines) + "\n"
+
+    def expect(self, code, *args, contains=()):
+        result = run(*args, check=False)
+        self.assertEqual(result.returncode, code, result.stderr)
+        self.assertEqual(result.stderr.count("\n"), 1, "one line of message: " + result.stderr)
+        for text in contains:
+            self.assertIn(text, result.stderr)
+        return result
+
+    def test_missing_file(self):
+        self.expect(INPUT, "analyze", os.path.join(self.folder, "none.csv"), contains=("none.csv", "cannot open"))
+
+    def test_unreadable_header(self):
+        self.expect(INPUT, "analyze", self.write("1,2,3\n4,5,6\n"), contains=("line 1", "must name every column"))
+
+    def test_missing_channel(self):
+        path = self.write(self.good_recording(columns="t,inj,x,y"))
+        self.expect(INPUT, "analyze", path, contains=("no channel named 'z'", "'inj'", "x-y"))
+
+    def test_misnamed_channel_option(self):
+        path = self.write(self.good_recording())
+        self.expect(INPUT, "analyze", path, "--y", "vout", contains=("no channel named 'vout'",))
+
+    def test_non_numeric_cell(self):
+        text = self.good_recording().splitlines()
+        text[7] = text[7].replace(text[7].split(",")[2], "1.2.3")
+        self.expect(INPUT, "analyze", self.write("\n".join(text) + "\n"), contains=("line 8, column 3 ('x')", "1.2.3"))
+
+    def test_nan_cell(self):
+        text = self.good_recording().splitlines()
+        text[9] = text[9].rsplit(",", 1)[0] + ",NaN"
+        self.expect(INPUT, "analyze", self.write("\n".join(text) + "\n"), contains=("line 10, column 4", "finite"))
+
+    def test_time_not_increasing(self):
+        text = self.good_recording().splitlines()
+        text[100], text[101] = text[101], text[100]
+        self.expect(INPUT, "analyze", self.write("\n".join(text) + "\n"), contains=("line 101", "time"))
+
+    def test_time_not_uniform(self):
+        text = self.good_recording().splitlines()
+        del text[2000:2010]
+        self.expect(INPUT, "analyze", self.write("\n".join(text) + "\n"), contains=("line 2001", "not uniform"))
+
+    def test_record_shorter_than_a_segment(self):
+        self.expect(INPUT, "analyze", self.write(self.good_recording(rows=1000)),
+                    contains=("1000 samples", "fewer than one segment of 4096"))
+
+    def test_flat_reference(self):
+        text = "t,z,x,y\n" + "".join(f"{n * 1e-4:.6f},1,{math.sin(n):.6f},{math.cos(n):.6f}\n" for n in range(5000))
+        self.expect(NO_RESULT, "analyze", self.write(text), contains=("reference channel is flat",))
+
+    def test_bad_setting(self):
+        self.expect(SETTINGS, "analyze", self.write(self.good_recording()), "--window", "kaiser",
+                    contains=("unknown window 'kaiser'",))
+        self.expect(SETTINGS, "analyze", self.write(self.good_recording()), "--overlap", "0.99",
+                    contains=("overlap",))
+
+    def test_usage_error(self):
+        result = run("analyze", check=False)
+        self.assertEqual(result.returncode, USAGE)
+        self.assertEqual(run("frobnicate", check=False).returncode, USAGE)
+
+    def test_unwritable_output(self):
+        path = self.write(self.good_recording())
+        self.expect(OUTPUT, "analyze", path, "--json", os.path.join(self.folder, "no", "such", "dir", "r.json"),
+                    contains=("r.json", "cannot write"))
+
+    def test_failed_run_keeps_the_old_output(self):
+        out = self.write("previous results\n", name="r.json")
+        self.expect(INPUT, "analyze", self.write("t,z\n"), "--json", out)
+        with open(out) as f:
+            self.assertEqual(f.read(), "previous results\n")
+        self.assertEqual(sorted(os.listdir(self.folder)), ["r.json", "rec.csv"])
+
+    def test_bad_scenario(self):
+        path = self.write('name = "x"\n[recording]\nsample_rate_hz = -1\nduration_s = 1\n', name="s.toml")
+        self.expect(SETTINGS, "synth", path, "--out-dir", self.folder, contains=("[injection]",))
+
+    def test_quiet_when_not_a_terminal(self):
+        result = run("analyze", self.write(self.good_recording()))
+        self.assertEqual(result.stderr, "")
+
+
+class ReferenceFromDifference(unittest.TestCase):
+    def test_injection_computed_as_x_minus_y(self):
+        # Without probe noise, z = x - y exactly (DESIGN.md, series injection),
+        # so the two ways give the same margins to rounding of the printed samples.
+        folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        try:
+            scenario = os.path.join(folder, "quiet.toml")
+            with open(os.path.join(DEMO, "servo_velocity.toml")) as f:
+                text = f.read().replace("x_rms = 0.1", "x_rms = 0.0").replace("y_rms = 0.1", "y_rms = 0.0")
+            with open(scenario, "w") as f:
+                f.write(text)
+            run("synth", scenario, "--out-dir", folder)
+            rec = os.path.join(folder, "servo_velocity.csv")
+            run("analyze", rec, "--json", os.path.join(folder, "a.json"))
+            run("analyze", rec, "--z", "x-y", "--json", os.path.join(folder, "b.json"))
+            a = load(os.path.join(folder, "a.json"))["summary"]
+            b = load(os.path.join(folder, "b.json"))["summary"]
+            self.assertAlmostEqual(a["phase_margin_deg"], b["phase_margin_deg"], delta=0.01)
+            self.assertAlmostEqual(a["gain_margin_db"], b["gain_margin_db"], delta=0.01)
+        finally:
+            shutil.rmtree(folder, ignore_errors=True)
+
+
+if __name__ == "__main__":
+    unittest.main(verbosity=2)
