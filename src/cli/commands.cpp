@@ -104,32 +104,42 @@ void run_analyze(AnalyzeArgs& a) {
 void add_analyze(CLI::App& app) {
   auto args = std::make_shared<AnalyzeArgs>();
   auto* cmd = app.add_subcommand("analyze", "Loop response and margins from a series-injection recording (CSV/TSV)");
-  cmd->add_option("recording", args->recording, "Recording: delimited text with a header")->required();
-  cmd->add_option("--json", args->json_path, "Write the results as JSON to this file");
-  cmd->add_option("--csv", args->csv_path, "Write the loop response lines as CSV to this file");
+  cmd->add_option("recording", args->recording, "Recording: delimited text with a header")
+      ->required()
+      ->type_name("FILE");
+  cmd->add_option("--json", args->json_path, "Write the results as JSON to this file")->type_name("FILE");
+  cmd->add_option("--csv", args->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
   cmd->add_option("--z", args->options.roles.injection,
                   "Channel holding the injection (reference); x-y computes it from the two loop signals")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->type_name("NAME");
   cmd->add_option("--x", args->options.roles.x, "Channel after the injection point (drives the loop)")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->type_name("NAME");
   cmd->add_option("--y", args->options.roles.y, "Channel before the injection point (returns from the loop)")
-      ->capture_default_str();
-  cmd->add_option("--time-column", args->time_column, "Column holding time in seconds (default: t, time or time_s)");
-  cmd->add_option("--sample-rate", args->sample_rate_hz, "Sample rate in Hz (needed without a time column)");
+      ->capture_default_str()
+      ->type_name("NAME");
+  cmd->add_option("--time-column", args->time_column, "Column holding time in seconds (default: t, time or time_s)")
+      ->type_name("NAME");
+  cmd->add_option("--sample-rate", args->sample_rate_hz, "Sample rate in Hz (needed without a time column)")->type_name("HZ");
   cmd->add_option("--window", args->window, "Window: hann, hamming, blackman-harris, rectangular")
       ->capture_default_str();
   cmd->add_option("--segment", args->options.welch.segment_length, "Samples per averaged segment")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->type_name("N");
   cmd->add_option("--overlap", args->options.welch.overlap, "Fraction of a segment shared with the next (0 to 0.9)")
-      ->capture_default_str();
+      ->capture_default_str()
+      ->type_name("FRACTION");
   cmd->add_option("--estimator", args->estimator, "reference (S_zy/S_zx) or two-channel (S_xy/S_xx)")
       ->capture_default_str();
   cmd->add_option("--convention", args->convention, "series-injection (L = -Y/X), direct (L = Y/X) or closed-loop")
       ->capture_default_str();
   cmd->add_option("--injection-floor", args->options.response.injection_floor_db,
                   "Report lines whose injection power is within this many dB of its peak")
-      ->capture_default_str();
-  cmd->add_option("--truth", args->truth_path, "Truth file from `loopmargin synth`, shown beside the results");
+      ->capture_default_str()
+      ->type_name("DB");
+  cmd->add_option("--truth", args->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
+      ->type_name("FILE");
   cmd->add_flag("--quiet", args->quiet, "No progress display");
   cmd->callback([args] { run_analyze(*args); });
 }
@@ -143,12 +153,12 @@ void add_margins(CLI::App& app) {
   };
   auto args = std::make_shared<Args>();
   auto* cmd = app.add_subcommand("margins", "Margins from a frequency-response table (freq_hz with re,im or mag_db,phase_deg)");
-  cmd->add_option("table", args->table, "Frequency-response table")->required();
+  cmd->add_option("table", args->table, "Frequency-response table")->required()->type_name("FILE");
   cmd->add_option("--convention", args->convention,
                   "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T)")
       ->capture_default_str();
-  cmd->add_option("--json", args->json_path, "Write the results as JSON to this file");
-  cmd->add_option("--csv", args->csv_path, "Write the loop response lines as CSV to this file");
+  cmd->add_option("--json", args->json_path, "Write the results as JSON to this file")->type_name("FILE");
+  cmd->add_option("--csv", args->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
   cmd->callback([args] {
     const Convention convention = convention_from_name(args->convention);
     const AnalysisResult result = analyze_response(args->table, read_response_table(args->table), convention);
@@ -165,9 +175,11 @@ void add_synth(CLI::App& app) {
   };
   auto args = std::make_shared<Args>();
   auto* cmd = app.add_subcommand("synth", "Simulate a bench injection test from a scenario file (TOML)");
-  cmd->add_option("scenario", args->scenario, "Scenario file")->required();
-  cmd->add_option("--out-dir", args->out_dir, "Folder for NAME.csv and NAME.truth.json")->capture_default_str();
-  cmd->add_option("--seed", args->seed, "Override the scenario's random seed");
+  cmd->add_option("scenario", args->scenario, "Scenario file")->required()->type_name("FILE");
+  cmd->add_option("--out-dir", args->out_dir, "Folder for NAME.csv and NAME.truth.json")
+      ->capture_default_str()
+      ->type_name("DIR");
+  cmd->add_option("--seed", args->seed, "Override the scenario's random seed")->type_name("N");
   cmd->callback([args] {
     Scenario scenario = load_scenario(args->scenario);
     if (args->seed) scenario.seed = *args->seed;
