@@ -8,15 +8,15 @@
 namespace loopmargin {
 namespace {
 
-std::size_t channel_index(const SampleSource& source, const std::string& name, const char* role) {
+std::size_t channel_index(const SampleSource& source, const std::string& name, const std::string& role,
+                          const std::string& hint = "") {
   const auto& names = source.channel_names();
   const auto it = std::find(names.begin(), names.end(), name);
   if (it != names.end()) return static_cast<std::size_t>(it - names.begin());
   std::ostringstream message;
   message << source.origin() << ": no channel named '" << name << "' for " << role << " (channels:";
   for (const auto& n : names) message << " '" << n << "'";
-  message << ")";
-  if (std::string(role) == "the injection z") message << "; to compute the injection as x - y, name it " << kInjectionFromDifference;
+  message << ")" << hint;
   throw InputError(message.str());
 }
 
@@ -27,7 +27,10 @@ class RoleSelector {
       : from_difference_(roles.injection == kInjectionFromDifference),
         x_(channel_index(source, roles.x, "x")),
         y_(channel_index(source, roles.y, "y")),
-        z_(from_difference_ ? 0 : channel_index(source, roles.injection, "the injection z")) {}
+        z_(from_difference_ ? 0
+                            : channel_index(source, roles.injection, "the injection z",
+                                            std::string("; to compute the injection as x - y, name it ") +
+                                                kInjectionFromDifference)) {}
 
   std::array<std::span<const double>, 3> select(const SampleBlock& block) {
     const auto& x = block.channels[x_];

@@ -20,7 +20,9 @@ using detail::LocalFit;
 struct Crossing {
   Bracket bracket;
   double log_f = 0.0;
-  double log_f_sigma = 0.0;  // from the per-line uncertainty and the local slope
+  double slope = 0.0;        // of the curve, per decade, fitted over a wide window
+  double log_f_sigma = 0.0;  // from the per-line uncertainty and the slope
+  bool noisy = false;        // its lines are too uncertain to place it
 };
 
 struct Window {
@@ -56,24 +58,44 @@ std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, cons
     const Window wide = window_around(bracket.index, bracket.index, options.slope_half_width, table.size());
     const double slope =
         std::abs(detail::fit_local(table.log_f, curve.values, curve.sigmas, wide.first, wide.last, 1).slope());
-    crossings.push_back({bracket, log_f, slope > 0.0 ? bracket_sigma(curve.sigmas, bracket) / slope : 0.0});
+    const double sigma = bracket_sigma(curve.sigmas, bracket);
+    const bool noisy = bracket_sigma(table.relative_sigma, bracket) > options.max_line_sigma;
+    crossings.push_back({bracket, log_f, slope, slope > 0.0 ? sigma / slope : 0.0, noisy});
   }
   return crossings;
 }
 
-// Groups of neighbouring crossings of the same level whose intervals touch.
-std::vector<std::vector<Crossing>> cluster(const std::vector<Crossing>& crossings, double merge_sigmas) {
+// True when two crossings of one level are the same crossover seen through
+// noise: both placeable or both not (a noisy crossing's wide interval must not
+// swallow a clean one), their intervals touch, and every line between them
+// stays near the level (a curve that leaves the level between two crossings
+// crosses twice for real). "Near" is three standard deviations, so that one
+// line of several rarely breaks a group by chance (0.3 % a line for Gaussian
+// errors), plus what the curve's own slope moves it from the nearer crossing.
+bool same_crossover(const Crossing& a, const Crossing& b, const LineTable& table, const Curve& curve,
+                    double merge_sigmas) {
+  constexpr double kNearLevelSigmas = 3.0;
+  if (a.bracket.level != b.bracket.level || a.noisy != b.noisy) return false;
+  if (b.log_f - a.log_f >= merge_sigmas * (a.log_f_sigma + b.log_f_sigma)) return false;
+  const double slope = 0.5 * (a.slope + b.slope);
+  for (std::size_t k = a.bracket.index + 1; k <= b.bracket.index; ++k) {
+    const double from_crossing = std::min(table.log_f[k] - a.log_f, b.log_f - table.log_f[k]);
+    const double allowed = kNearLevelSigmas * curve.sigmas[k] + slope * std::max(from_crossing, 0.0);
+    if (std::abs(curve.values[k] - a.bracket.level) > allowed) return false;
+  }
+  return true;
+}
+
+// Groups of neighbouring crossings that are one crossover seen through noise.
+std::vector<std::vector<Crossing>> cluster(const std::vector<Crossing>& crossings, const LineTable& table,
+                                           const Curve& curve, double merge_sigmas) {
   std::vector<std::vector<Crossing>> groups;
   for (const Crossing& c : crossings) {
-    if (!groups.empty()) {
-      const Crossing& previous = groups.back().back();
-      const double reach = merge_sigmas * (previous.log_f_sigma + c.log_f_sigma);
-      if (previous.bracket.level == c.bracket.level && c.log_f - previous.log_f < reach) {
-        groups.back().push_back(c);
-        continue;
-      }
+    if (!groups.empty() && same_crossover(groups.back().back(), c, table, curve, merge_sigmas)) {
+      groups.back().push_back(c);
+    } else {
+      groups.push_back({c});
     }
-    groups.push_back({c});
   }
   return groups;
 }
@@ -120,15 +142,41 @@ struct Group {
   double log_f = 0.0;
 };
 
+// The side of the level (+1 above, -1 below) that the curve is clearly on
+// next to a group: the first line, walking away from the group, that lies
+// more than two standard deviations from the level. 0 when no line within
+// kSideWalkDecades (or before the band edge) is that clear.
+int clear_side(const Group& g, const LineTable& table, const Curve& curve, bool upward) {
+  constexpr double kSideSigmas = 2.0;
+  constexpr double kSideWalkDecades = 0.1;
+  const double level = g.members.front().bracket.level;
+  const std::ptrdiff_t start = upward ? static_cast<std::ptrdiff_t>(g.members.back().bracket.index + 1)
+                                      : static_cast<std::ptrdiff_t>(g.members.front().bracket.index);
+  const std::ptrdiff_t step = upward ? 1 : -1;
+  for (std::ptrdiff_t k = start; k >= 0 && k < static_cast<std::ptrdiff_t>(table.size()); k += step) {
+    if (std::abs(table.log_f[k] - table.log_f[start]) > kSideWalkDecades) break;
+    const double offset = curve.values[k] - level;
+    if (std::abs(offset) > kSideSigmas * curve.sigmas[k]) return offset > 0.0 ? 1 : -1;
+  }
+  return 0;
+}
+
+// A crossover when the curve is clearly on opposite sides before and after
+// the group, a near miss when on the same side, unresolved otherwise.
+Verdict verdict_of(const Group& g, const LineTable& table, const Curve& curve) {
+  if (g.members.front().noisy) return Verdict::kUnresolved;  // a group is all noisy or all placeable
+  const int before = clear_side(g, table, curve, false);
+  const int after = clear_side(g, table, curve, true);
+  if (before == 0 || after == 0) return Verdict::kUnresolved;
+  return before == after ? Verdict::kNearMiss : Verdict::kCrossover;
+}
+
 std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
                                    const MarginOptions& options) {
   std::vector<Group> groups;
-  for (auto& members : cluster(place_crossings(brackets, table, curve, options), options.merge_sigmas)) {
+  for (auto& members : cluster(place_crossings(brackets, table, curve, options), table, curve, options.merge_sigmas)) {
     Group g{std::move(members)};
-    const bool noisy = std::any_of(g.members.begin(), g.members.end(), [&](const Crossing& c) {
-      return bracket_sigma(table.relative_sigma, c.bracket) > options.max_line_sigma;
-    });
-    g.verdict = noisy ? Verdict::kUnresolved : (g.members.size() % 2 == 0 ? Verdict::kNearMiss : Verdict::kCrossover);
+    g.verdict = verdict_of(g, table, curve);
     g.log_f = merged_log_f(g.members, table, curve, options);
     groups.push_back(std::move(g));
   }

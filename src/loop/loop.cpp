@@ -16,6 +16,8 @@ namespace {
 // needs at least this many of them.
 constexpr double kHighGain = 2.0;
 constexpr std::size_t kMinLowLines = 3;
+// Lines noisier than this (relative standard deviation, 14 deg) do not vote.
+constexpr double kTrustedSigma = 0.25;
 constexpr double kSuspectPhaseLowDeg = 30.0;
 constexpr double kSuspectPhaseHighDeg = 179.0;
 
@@ -25,7 +27,8 @@ void check_sign(const Response& loop, Diagnostics& findings) {
                                   loop.frequency_hz.front() * std::pow(loop.frequency_hz.back() / loop.frequency_hz.front(), 0.2));
   std::vector<double> phases_deg;
   for (std::size_t k = 0; k < loop.size() && loop.frequency_hz[k] <= low_end; ++k) {
-    if (std::abs(loop.value[k]) > kHighGain) phases_deg.push_back(deg_from_rad(std::arg(loop.value[k])));
+    const bool trusted = loop.relative_sigma.empty() || loop.relative_sigma[k] < kTrustedSigma;
+    if (trusted && std::abs(loop.value[k]) > kHighGain) phases_deg.push_back(deg_from_rad(std::arg(loop.value[k])));
   }
   if (phases_deg.size() < kMinLowLines) return;
   std::nth_element(phases_deg.begin(), phases_deg.begin() + phases_deg.size() / 2, phases_deg.end());

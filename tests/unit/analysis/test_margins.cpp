@@ -169,6 +169,26 @@ TEST_CASE("noise crossings near one crossover merge into one", "[analysis][margi
   CHECK(m.phase_crossovers[0].gain_margin_db == Approx(*k.gain_margin_db).margin(0.3));
 }
 
+TEST_CASE("a phase that touches -180 deg within noise is a near miss and not a crossover", "[analysis][margins]") {
+  // Invented curve: the phase dips to -179.5 deg and turns back, |L| = 0.5;
+  // line errors of 0.02 rad (1.15 deg) make it cross -180 deg now and then.
+  Response r;
+  std::mt19937_64 rng(3);
+  std::normal_distribution<double> normal(0.0, 0.02);
+  for (int k = 0; k < 400; ++k) {
+    const double u = -1.0 + 2.0 * k / 399.0;  // log10 f from -1 to 1
+    const double phase_deg = -179.5 + 40.0 * u * u;
+    r.frequency_hz.push_back(std::pow(10.0, u));
+    r.value.push_back(0.5 * std::exp(std::complex<double>(normal(rng), rad_from_deg(phase_deg) + normal(rng))));
+    r.relative_sigma.push_back(0.02);
+  }
+  const Margins m = find_margins(r);
+  CHECK(m.phase_crossovers.empty());
+  bool near_miss = false;
+  for (const auto& d : m.findings) near_miss = near_miss || d.code == "margins.near-crossing";
+  CHECK(near_miss);
+}
+
 TEST_CASE("crossings among lines too noisy to place are not listed but reported", "[analysis][margins]") {
   const auto k = known::table()[0];
   Response r = known::sample(k.loop, k.low_hz, k.high_hz, 200);
