@@ -197,10 +197,10 @@ void report_unresolved(const std::vector<Group>& groups, const LineTable& table,
     const Location band{.low_hz = group_band(groups[i].members, table).low_hz,
                         .high_hz = group_band(groups[end - 1].members, table).high_hz};
     std::ostringstream message;
-    message << count << " " << what << " from " << format_frequency(*band.low_hz) << " to "
-            << format_frequency(*band.high_hz) << " fall where the lines are too noisy to place them (relative "
-            << "uncertainty above " << options.max_line_sigma << "); they are not listed. Raise the injection or "
-            << "average longer if a crossover may lie there";
+    message << count << " " << what << (count == 1 ? "" : "s") << " from " << format_frequency(*band.low_hz) << " to "
+            << format_frequency(*band.high_hz) << " are not listed: the lines there are too noisy to place them "
+            << "(relative uncertainty above " << options.max_line_sigma << ") or to show that the curve really "
+            << "crosses. Raise the injection or average longer if a crossover may lie there";
     findings.push_back(make_warning("margins.unresolved-crossings", message.str(), band));
     i = end;
   }
@@ -217,7 +217,7 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
   const Curve gain{table.gain_db, table.gain_sigma_db};
   const Curve phase{table.phase_deg, table.phase_sigma_deg};
   const auto groups = crossing_groups(detail::gain_brackets(table), table, gain, options);
-  report_unresolved(groups, table, "gain crossings", options, findings);
+  report_unresolved(groups, table, "gain crossing", options, findings);
   std::vector<GainCrossover> result;
   for (const Group& g : groups) {
     const double phase_margin_deg = wrap_deg(180.0 + value_at(table, phase, g.members, g.log_f, options));
@@ -241,7 +241,7 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
   const Curve gain{table.gain_db, table.gain_sigma_db};
   const Curve phase{table.phase_deg, table.phase_sigma_deg};
   const auto groups = crossing_groups(detail::phase_brackets(table), table, phase, options);
-  report_unresolved(groups, table, "phase crossings", options, findings);
+  report_unresolved(groups, table, "phase crossing", options, findings);
   std::vector<PhaseCrossover> result;
   for (const Group& g : groups) {
     const double gain_db = value_at(table, gain, g.members, g.log_f, options);

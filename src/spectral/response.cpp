@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "loopmargin/error.hpp"
+#include "loopmargin/format.hpp"
 #include "loopmargin/units.hpp"
 
 namespace loopmargin {
@@ -48,6 +49,42 @@ Line two_channel_line(const CrossSpectra& s, std::size_t k) {
   return {s_xy / s_xx, coherence, bendat_piersol_random_error(coherence, s.effective_averages)};
 }
 
+// Runs of low-coherence lines, bridging gaps of a few good lines.
+std::vector<std::pair<std::size_t, std::size_t>> low_coherence_runs(const Response& r) {
+  constexpr std::size_t kBridgedGap = 4;
+  std::vector<std::pair<std::size_t, std::size_t>> runs;
+  for (std::size_t k = 0; k < r.size(); ++k) {
+    if (r.coherence[k] > kLowCoherence) continue;
+    if (!runs.empty() && k - runs.back().second <= kBridgedGap) {
+      runs.back().second = k;
+    } else {
+      runs.emplace_back(k, k);
+    }
+  }
+  return runs;
+}
+
+// One finding: how many lines, and the widest runs of them.
+void report_low_coherence(const Response& r, Diagnostics& findings) {
+  constexpr std::size_t kRunsNamed = 3;
+  auto runs = low_coherence_runs(r);
+  if (runs.empty()) return;
+  std::size_t count = 0;
+  for (std::size_t k = 0; k < r.size(); ++k) count += r.coherence[k] <= kLowCoherence ? 1 : 0;
+  std::sort(runs.begin(), runs.end(), [](const auto& a, const auto& b) { return a.second - a.first > b.second - b.first; });
+  runs.resize(std::min(runs.size(), kRunsNamed));
+  std::sort(runs.begin(), runs.end());
+  std::ostringstream message;
+  message << count << " of " << r.size() << " lines have coherence at or below " << kLowCoherence << ", mostly";
+  for (std::size_t i = 0; i < runs.size(); ++i) {
+    message << (i == 0 ? " " : ", ") << format_frequency(r.frequency_hz[runs[i].first]) << " to "
+            << format_frequency(r.frequency_hz[runs[i].second]);
+  }
+  message << "; their values are uncertain";
+  findings.push_back(make_warning("spectral.low-coherence", message.str(),
+                                  {.low_hz = r.frequency_hz[runs.front().first], .high_hz = r.frequency_hz[runs.back().second]}));
+}
+
 }  // namespace
 
 double bendat_piersol_random_error(double coherence, double averages) {
@@ -66,7 +103,6 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
 
   Response response;
   response.effective_averages = spectra.effective_averages;
-  std::size_t low_coherence = 0;
   for (std::size_t k = 1; k <= last_line; ++k) {
     if (reference_power[k].real() < floor) continue;
     const Line line = options.estimator == Estimator::kReference ? reference_line(spectra, k)
@@ -76,7 +112,6 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
     response.value.push_back(line.value);
     response.coherence.push_back(line.coherence);
     response.relative_sigma.push_back(line.relative_sigma);
-    if (line.coherence <= kLowCoherence) ++low_coherence;
   }
   if (response.size() == 0) throw NumericalError("no line carries injection power above the floor");
   if (options.estimator == Estimator::kTwoChannel) {
@@ -84,12 +119,7 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
                                     "the two-channel estimate S_xy/S_xx is biased when the loop is closed; "
                                     "use the reference method unless x is driven from outside the loop"));
   }
-  if (low_coherence > 0) {
-    std::ostringstream message;
-    message << low_coherence << " of " << response.size() << " lines have coherence at or below " << kLowCoherence
-            << "; their values are uncertain";
-    findings.push_back(make_warning("spectral.low-coherence", message.str()));
-  }
+  report_low_coherence(response, findings);
   return response;
 }
 
