@@ -8,13 +8,14 @@
 #include <memory>
 
 #include "loopmargin/error.hpp"
-#include "loopmargin/ingest/delimited.hpp"
+#include "loopmargin/ingest/recording.hpp"
 #include "loopmargin/ingest/response_table.hpp"
 #include "loopmargin/pipeline.hpp"
 #include "loopmargin/report/atomic_file.hpp"
 #include "loopmargin/report/csv_report.hpp"
 #include "loopmargin/report/json_report.hpp"
 #include "loopmargin/report/text_report.hpp"
+#include "loopmargin/run_config.hpp"
 #include "loopmargin/synth/simulate.hpp"
 
 namespace loopmargin::cli {
@@ -49,33 +50,45 @@ class Progress {
   std::chrono::steady_clock::time_point last_ = std::chrono::steady_clock::now();
 };
 
+// Command-line values; each applies only when given, over the run settings file.
 struct AnalyzeArgs {
   std::string recording;
+  std::string config_path;
   std::string json_path;
   std::string csv_path;
   std::string truth_path;
-  std::string time_column;
-  double sample_rate_hz = 0.0;
-  std::string window = "hann";
-  std::string estimator = "reference";
-  std::string convention = "series-injection";
   bool quiet = false;
-  AnalysisOptions options;
+  std::string format, time_column, window, estimator, convention, z, x, y;
+  std::vector<std::string> channels;
+  double sample_rate_hz = 0.0;
+  std::size_t segment = 0;
+  double overlap = 0.0;
+  double injection_floor_db = 0.0;
+  CLI::App* command = nullptr;
+
+  bool given(const char* option) const { return command->get_option(option)->count() > 0; }
 };
 
-AnalysisOptions resolve(AnalyzeArgs& a) {
-  AnalysisOptions o = a.options;
-  o.welch.window = window_from_name(a.window);
-  if (a.estimator == "reference") {
-    o.response.estimator = Estimator::kReference;
-  } else if (a.estimator == "two-channel") {
-    o.response.estimator = Estimator::kTwoChannel;
-  } else {
-    throw ConfigError("unknown estimator '" + a.estimator + "'; choose reference or two-channel");
-  }
-  o.convention = convention_from_name(a.convention);
+RunSettings resolve(const AnalyzeArgs& a) {
+  RunSettings s = a.config_path.empty() ? RunSettings{} : load_run_settings(a.config_path);
+  RecordingOptions& r = s.recording;
+  AnalysisOptions& o = s.analysis;
+  if (a.given("--format")) r.format = format_from_name(a.format);
+  if (a.given("--channels")) r.channel_names = a.channels;
+  if (a.given("--sample-rate")) r.sample_rate_hz = a.sample_rate_hz;
+  if (a.given("--time-column")) r.text.time_column = a.time_column;
+  if (a.given("--z")) o.roles.injection = a.z;
+  if (a.given("--x")) o.roles.x = a.x;
+  if (a.given("--y")) o.roles.y = a.y;
+  if (a.given("--window")) o.welch.window = window_from_name(a.window);
+  if (a.given("--segment")) o.welch.segment_length = a.segment;
+  if (a.given("--overlap")) o.welch.overlap = a.overlap;
+  if (a.given("--estimator")) o.response.estimator = estimator_from_name(a.estimator);
+  if (a.given("--convention")) o.convention = convention_from_name(a.convention);
+  if (a.given("--injection-floor")) o.response.injection_floor_db = a.injection_floor_db;
+  if (r.sample_rate_hz && !(*r.sample_rate_hz > 0.0)) throw ConfigError("the sample rate must be positive");
   o.welch.validate();
-  return o;
+  return s;
 }
 
 void write_outputs(const AnalysisResult& result, const std::string& json_path, const std::string& csv_path) {
@@ -85,16 +98,13 @@ void write_outputs(const AnalysisResult& result, const std::string& json_path, c
   }
 }
 
-void run_analyze(AnalyzeArgs& a) {
-  const AnalysisOptions options = resolve(a);
+void run_analyze(const AnalyzeArgs& a) {
+  const RunSettings settings = resolve(a);
   const std::optional<MarginSummary> truth =
       a.truth_path.empty() ? std::nullopt : std::optional(read_truth_summary(a.truth_path));
-  DelimitedOptions ingest;
-  ingest.time_column = a.time_column;
-  if (a.sample_rate_hz != 0.0) ingest.sample_rate_hz = a.sample_rate_hz;
-  const auto source = open_delimited(a.recording, ingest);
+  const auto source = open_recording(a.recording, settings.recording);
   Progress progress(a.quiet);
-  const AnalysisResult result = analyze_recording(*source, options, progress.function());
+  const AnalysisResult result = analyze_recording(*source, settings.analysis, progress.function());
   write_outputs(result, a.json_path, a.csv_path);
   write_text_report(std::cout, result, truth);
 }
@@ -102,46 +112,43 @@ void run_analyze(AnalyzeArgs& a) {
 }  // namespace
 
 void add_analyze(CLI::App& app) {
-  auto args = std::make_shared<AnalyzeArgs>();
-  auto* cmd = app.add_subcommand("analyze", "Loop response and margins from a series-injection recording (CSV/TSV)");
-  cmd->add_option("recording", args->recording, "Recording: delimited text with a header")
+  auto a = std::make_shared<AnalyzeArgs>();
+  auto* cmd = app.add_subcommand("analyze", "Loop response and margins from a series-injection recording");
+  a->command = cmd;
+  cmd->add_option("recording", a->recording, "Recording: CSV/TSV text, raw binary, WAV or HDF5")
       ->required()
       ->type_name("FILE");
-  cmd->add_option("--json", args->json_path, "Write the results as JSON to this file")->type_name("FILE");
-  cmd->add_option("--csv", args->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
-  cmd->add_option("--z", args->options.roles.injection,
-                  "Channel holding the injection (reference); x-y computes it from the two loop signals")
-      ->capture_default_str()
+  cmd->add_option("--config", a->config_path, "Run settings (TOML); options given here override it")->type_name("FILE");
+  cmd->add_option("--json", a->json_path, "Write the results as JSON to this file")->type_name("FILE");
+  cmd->add_option("--csv", a->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
+  cmd->add_option("--format", a->format, "auto (by extension), text, raw, wav or hdf5 [auto]")->type_name("NAME");
+  cmd->add_option("--channels", a->channels, "Channel names in file order, for files without names [z,x,y]")
+      ->delimiter(',')
+      ->type_name("NAMES");
+  cmd->add_option("--z", a->z, "Channel holding the injection; x-y computes it from the loop signals [z]")
       ->type_name("NAME");
-  cmd->add_option("--x", args->options.roles.x, "Channel after the injection point (drives the loop)")
-      ->capture_default_str()
+  cmd->add_option("--x", a->x, "Channel after the injection point, driving the loop [x]")->type_name("NAME");
+  cmd->add_option("--y", a->y, "Channel before the injection point, returning from the loop [y]")->type_name("NAME");
+  cmd->add_option("--time-column", a->time_column, "Text: column holding time in seconds [t, time or time_s]")
       ->type_name("NAME");
-  cmd->add_option("--y", args->options.roles.y, "Channel before the injection point (returns from the loop)")
-      ->capture_default_str()
-      ->type_name("NAME");
-  cmd->add_option("--time-column", args->time_column, "Column holding time in seconds (default: t, time or time_s)")
-      ->type_name("NAME");
-  cmd->add_option("--sample-rate", args->sample_rate_hz, "Sample rate in Hz (needed without a time column)")->type_name("HZ");
-  cmd->add_option("--window", args->window, "Window: hann, hamming, blackman-harris, rectangular")
-      ->capture_default_str();
-  cmd->add_option("--segment", args->options.welch.segment_length, "Samples per averaged segment")
-      ->capture_default_str()
-      ->type_name("N");
-  cmd->add_option("--overlap", args->options.welch.overlap, "Fraction of a segment shared with the next (0 to 0.9)")
-      ->capture_default_str()
+  cmd->add_option("--sample-rate", a->sample_rate_hz, "Sample rate in Hz; overrides what the file says")
+      ->type_name("HZ");
+  cmd->add_option("--window", a->window, "hann, hamming, blackman-harris or rectangular [hann]")->type_name("NAME");
+  cmd->add_option("--segment", a->segment, "Samples per averaged segment [4096]")->type_name("N");
+  cmd->add_option("--overlap", a->overlap, "Fraction of a segment shared with the next, 0 to 0.9 [0.5]")
       ->type_name("FRACTION");
-  cmd->add_option("--estimator", args->estimator, "reference (S_zy/S_zx) or two-channel (S_xy/S_xx)")
-      ->capture_default_str();
-  cmd->add_option("--convention", args->convention, "series-injection (L = -Y/X), direct (L = Y/X) or closed-loop")
-      ->capture_default_str();
-  cmd->add_option("--injection-floor", args->options.response.injection_floor_db,
-                  "Report lines whose injection power is within this many dB of its peak")
-      ->capture_default_str()
+  cmd->add_option("--estimator", a->estimator, "reference (S_zy/S_zx) or two-channel (S_xy/S_xx) [reference]")
+      ->type_name("NAME");
+  cmd->add_option("--convention", a->convention,
+                  "series-injection (L = -Y/X), direct (L = Y/X) or closed-loop [series-injection]")
+      ->type_name("NAME");
+  cmd->add_option("--injection-floor", a->injection_floor_db,
+                  "Report lines whose injection power is within this many dB of its peak [40]")
       ->type_name("DB");
-  cmd->add_option("--truth", args->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
+  cmd->add_option("--truth", a->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
       ->type_name("FILE");
-  cmd->add_flag("--quiet", args->quiet, "No progress display");
-  cmd->callback([args] { run_analyze(*args); });
+  cmd->add_flag("--quiet", a->quiet, "No progress display");
+  cmd->callback([a] { run_analyze(*a); });
 }
 
 void add_margins(CLI::App& app) {

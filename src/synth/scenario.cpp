@@ -1,47 +1,31 @@
 #include "loopmargin/synth/scenario.hpp"
 
 #include <cmath>
-#include <filesystem>
-#include <set>
 #include <sstream>
-#include <toml++/toml.h>
 
+#include "config/toml_fields.hpp"
 #include "loopmargin/error.hpp"
 
 namespace loopmargin {
 namespace {
 
-// Rejects keys not in `allowed`: a typo must not pass silently.
-void check_keys(const toml::table& table, const std::set<std::string>& allowed, const std::string& where) {
-  for (const auto& [key, value] : table) {
-    if (!allowed.count(std::string(key.str()))) {
-      std::ostringstream message;
-      message << where << ": unknown key '" << key.str() << "'; known keys:";
-      for (const auto& name : allowed) message << ' ' << name;
-      throw ConfigError(message.str());
-    }
-  }
-}
+using detail::check_keys;
+using detail::optional_number;
+using detail::optional_text;
+using detail::required_number;
 
 const toml::table& sub_table(const toml::table& parent, const char* key, const std::string& where) {
-  const auto* table = parent[key].as_table();
+  const auto* table = detail::optional_table(parent, key, where);
   if (table == nullptr) throw ConfigError(where + ": missing table [" + key + "]");
   return *table;
 }
 
 double number(const toml::table& table, const char* key, const std::string& where, std::optional<double> fallback = {}) {
-  const auto node = table[key];
-  if (!node) {
-    if (fallback) return *fallback;
-    throw ConfigError(where + ": missing key '" + key + "'");
-  }
-  const auto value = node.value<double>();
-  if (!value || !std::isfinite(*value)) throw ConfigError(where + ": '" + key + "' must be a number");
-  return *value;
+  return fallback ? optional_number(table, key, where).value_or(*fallback) : required_number(table, key, where);
 }
 
-std::string text(const toml::table& table, const char* key, const std::string& fallback) {
-  return table[key].value_or(fallback);
+std::string text(const toml::table& table, const char* key, const std::string& where, const std::string& fallback) {
+  return optional_text(table, key, where).value_or(fallback);
 }
 
 std::vector<Factor> factors(const toml::table& stage, const char* key, const std::string& where) {
@@ -65,12 +49,12 @@ std::vector<Factor> factors(const toml::table& stage, const char* key, const std
 Stage read_stage(const toml::table& table, const std::string& where) {
   check_keys(table, {"name", "gain", "integrators", "zeros", "poles", "discretize"}, where);
   Stage stage;
-  stage.name = text(table, "name", where);
+  stage.name = text(table, "name", where, where);
   stage.gain = number(table, "gain", where, 1.0);
   stage.integrators = static_cast<int>(number(table, "integrators", where, 0.0));
   stage.zeros = factors(table, "zeros", where);
   stage.poles = factors(table, "poles", where);
-  const std::string method = text(table, "discretize", "zoh");
+  const std::string method = text(table, "discretize", where, "zoh");
   if (method == "zoh") {
     stage.discretization = Discretization::kZeroOrderHold;
   } else if (method == "bilinear") {
@@ -84,7 +68,7 @@ Stage read_stage(const toml::table& table, const std::string& where) {
 Injection read_injection(const toml::table& table, const std::string& where) {
   check_keys(table, {"kind", "rms", "low_hz", "high_hz", "period_samples"}, where);
   Injection injection;
-  const std::string kind = text(table, "kind", "noise");
+  const std::string kind = text(table, "kind", where, "noise");
   if (kind == "noise") {
     injection.kind = InjectionKind::kNoise;
   } else if (kind == "multisine") {
@@ -137,21 +121,11 @@ void Scenario::validate() const {
 }
 
 Scenario load_scenario(const std::string& path) {
-  std::error_code ec;
-  if (!std::filesystem::is_regular_file(path, ec)) throw InputError(path + ": no such scenario file");
-  toml::table root;
-  try {
-    root = toml::parse_file(path);
-  } catch (const toml::parse_error& e) {
-    std::ostringstream message;
-    message << path << ": line " << e.source().begin.line << ", column " << e.source().begin.column << ": "
-            << e.description();
-    throw InputError(message.str());
-  }
+  const toml::table root = detail::parse_toml_file(path);
   check_keys(root, {"name", "description", "recording", "injection", "noise", "loop"}, path);
   Scenario s;
-  s.name = text(root, "name", "scenario");
-  s.description = text(root, "description", "");
+  s.name = text(root, "name", path, "scenario");
+  s.description = text(root, "description", path, "");
   const auto& recording = sub_table(root, "recording", path);
   check_keys(recording, {"sample_rate_hz", "duration_s", "seed"}, path + " [recording]");
   s.sample_rate_hz = number(recording, "sample_rate_hz", path + " [recording]");

@@ -13,7 +13,7 @@ import unittest
 import numpy as np
 from scipy import signal
 
-DUMP = sys.argv.pop(1) if len(sys.argv) > 1 else "welch_dump"
+DUMP = sys.argv.pop(1) if len(sys.argv) > 1 else "reference_dump"
 # Both sides use double-precision FFTs on the same samples; the samples pass
 # through text printed with 17 significant digits, so only FFT rounding differs.
 RELATIVE = 1e-9

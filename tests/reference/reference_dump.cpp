@@ -1,12 +1,18 @@
-// Test helper: prints what loopmargin computes, for comparison with scipy.
-//   welch_dump spectra FILE SAMPLE_RATE SEGMENT OVERLAP WINDOW
+// Test helper: prints what loopmargin computes, for comparison with scipy,
+// numpy and h5py.
+//   reference_dump spectra FILE SAMPLE_RATE SEGMENT OVERLAP WINDOW
 //     -> freq_hz, then re and im of S_ij for every pair i <= j
-//   welch_dump window WINDOW LENGTH  -> one coefficient a line
+//   reference_dump window WINDOW LENGTH  -> one coefficient a line
+//   reference_dump samples FILE [RUN_SETTINGS.toml]
+//     -> line 1: sample rate; line 2: channel names; then one row a sample
 #include <cstdio>
 #include <iostream>
 #include <string>
 
+#include "loopmargin/error.hpp"
 #include "loopmargin/ingest/delimited.hpp"
+#include "loopmargin/ingest/recording.hpp"
+#include "loopmargin/run_config.hpp"
 #include "loopmargin/spectral/welch.hpp"
 
 using namespace loopmargin;
@@ -42,12 +48,35 @@ int dump_window(char** argv) {
   return 0;
 }
 
+int dump_samples(int argc, char** argv) {
+  const RunSettings settings = argc > 3 ? load_run_settings(argv[3]) : RunSettings{};
+  const auto source = open_recording(argv[2], settings.recording);
+  const Record record = read_all(*source);
+  std::printf("%.17g\n", record.sample_rate_hz);
+  for (std::size_t c = 0; c < record.channel_names.size(); ++c) {
+    std::printf("%s%s", c ? "," : "", record.channel_names[c].c_str());
+  }
+  std::printf("\n");
+  for (std::size_t n = 0; n < record.sample_count(); ++n) {
+    for (std::size_t c = 0; c < record.channels.size(); ++c) std::printf("%s%.17g", c ? "," : "", record.channels[c][n]);
+    std::printf("\n");
+  }
+  return 0;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
   const std::string mode = argc > 1 ? argv[1] : "";
   if (mode == "spectra" && argc == 7) return dump_spectra(argv);
   if (mode == "window" && argc == 4) return dump_window(argv);
-  std::cerr << "usage: welch_dump spectra FILE SAMPLE_RATE SEGMENT OVERLAP WINDOW | window WINDOW LENGTH\n";
+  try {
+    if (mode == "samples" && (argc == 3 || argc == 4)) return dump_samples(argc, argv);
+  } catch (const Error& e) {
+    std::cerr << e.what() << "\n";
+    return 3;
+  }
+  std::cerr << "usage: reference_dump spectra FILE SAMPLE_RATE SEGMENT OVERLAP WINDOW | window WINDOW LENGTH"
+               " | samples FILE [RUN_SETTINGS]\n";
   return 2;
 }

@@ -1,0 +1,89 @@
+#include "loopmargin/run_config.hpp"
+#include <cmath>
+
+#include "config/toml_fields.hpp"
+#include "loopmargin/error.hpp"
+
+namespace loopmargin {
+namespace {
+
+using detail::check_keys;
+using detail::optional_number;
+using detail::optional_numbers;
+using detail::optional_table;
+using detail::optional_text;
+using detail::optional_texts;
+
+template <typename T, typename U>
+void set_if(std::optional<U> value, T& target) {
+  if (value) target = static_cast<T>(*value);
+}
+
+std::size_t whole_number(double value, const std::string& where, const char* key) {
+  if (!(value >= 0.0) || value != std::floor(value)) throw ConfigError(where + ": '" + key + "' must be a whole number");
+  return static_cast<std::size_t>(value);
+}
+
+void read_input(const toml::table& t, const std::string& where, RecordingOptions& r) {
+  check_keys(t, {"format", "channels", "sample_rate_hz", "time_column", "sample_type", "byte_order", "header_bytes",
+                 "scale", "offset", "dataset", "datasets", "rate_attribute"},
+             where);
+  if (const auto format = optional_text(t, "format", where)) r.format = format_from_name(*format);
+  set_if(optional_texts(t, "channels", where), r.channel_names);
+  if (const auto rate = optional_number(t, "sample_rate_hz", where)) {
+    if (!(*rate > 0.0)) throw ConfigError(where + ": 'sample_rate_hz' must be positive");
+    r.sample_rate_hz = rate;
+  }
+  set_if(optional_text(t, "time_column", where), r.text.time_column);
+  if (const auto type = optional_text(t, "sample_type", where)) r.raw.sample_type = sample_type_from_name(*type);
+  if (const auto order = optional_text(t, "byte_order", where)) {
+    if (*order != "little" && *order != "big") throw ConfigError(where + ": 'byte_order' must be little or big");
+    r.raw.big_endian = *order == "big";
+  }
+  if (const auto header = optional_number(t, "header_bytes", where)) r.raw.header_bytes = whole_number(*header, where, "header_bytes");
+  set_if(optional_numbers(t, "scale", where), r.scale);
+  set_if(optional_numbers(t, "offset", where), r.offset);
+  set_if(optional_text(t, "dataset", where), r.hdf5.dataset);
+  set_if(optional_texts(t, "datasets", where), r.hdf5.datasets);
+  set_if(optional_text(t, "rate_attribute", where), r.hdf5.rate_attribute);
+}
+
+void read_roles(const toml::table& t, const std::string& where, ChannelRoles& roles) {
+  check_keys(t, {"z", "x", "y"}, where);
+  set_if(optional_text(t, "z", where), roles.injection);
+  set_if(optional_text(t, "x", where), roles.x);
+  set_if(optional_text(t, "y", where), roles.y);
+}
+
+void read_spectral(const toml::table& t, const std::string& where, AnalysisOptions& a) {
+  check_keys(t, {"window", "segment", "overlap", "estimator", "injection_floor_db"}, where);
+  if (const auto window = optional_text(t, "window", where)) a.welch.window = window_from_name(*window);
+  if (const auto segment = optional_number(t, "segment", where)) a.welch.segment_length = whole_number(*segment, where, "segment");
+  set_if(optional_number(t, "overlap", where), a.welch.overlap);
+  if (const auto estimator = optional_text(t, "estimator", where)) a.response.estimator = estimator_from_name(*estimator);
+  set_if(optional_number(t, "injection_floor_db", where), a.response.injection_floor_db);
+}
+
+}  // namespace
+
+Estimator estimator_from_name(const std::string& name) {
+  if (name == "reference") return Estimator::kReference;
+  if (name == "two-channel") return Estimator::kTwoChannel;
+  throw ConfigError("unknown estimator '" + name + "'; choose reference or two-channel");
+}
+
+RunSettings load_run_settings(const std::string& path, RunSettings settings) {
+  const toml::table root = detail::parse_toml_file(path);
+  check_keys(root, {"input", "roles", "spectral", "loop"}, path);
+  if (const auto* t = optional_table(root, "input", path)) read_input(*t, path + " [input]", settings.recording);
+  if (const auto* t = optional_table(root, "roles", path)) read_roles(*t, path + " [roles]", settings.analysis.roles);
+  if (const auto* t = optional_table(root, "spectral", path)) read_spectral(*t, path + " [spectral]", settings.analysis);
+  if (const auto* t = optional_table(root, "loop", path)) {
+    check_keys(*t, {"convention"}, path + " [loop]");
+    if (const auto c = optional_text(*t, "convention", path + " [loop]")) settings.analysis.convention = convention_from_name(*c);
+  }
+  settings.analysis.welch.validate();
+  return settings;
+}
+
+}  // namespace loopmargin

@@ -1,0 +1,29 @@
+// Reading our TOML files key by key, with messages that name the file, the
+// table and the key. Unknown keys are refused so that a typo cannot pass.
+#pragma once
+
+#include <optional>
+#include <set>
+#include <string>
+#include <toml++/toml.h>
+#include <vector>
+
+namespace loopmargin::detail {
+
+// Parses the file; throws InputError with line and column on a syntax error.
+toml::table parse_toml_file(const std::string& path);
+
+void check_keys(const toml::table& table, const std::set<std::string>& allowed, const std::string& where);
+
+// The sub-table, or nullptr when absent; throws ConfigError when not a table.
+const toml::table* optional_table(const toml::table& parent, const char* key, const std::string& where);
+
+std::optional<double> optional_number(const toml::table& table, const char* key, const std::string& where);
+double required_number(const toml::table& table, const char* key, const std::string& where);
+std::optional<std::string> optional_text(const toml::table& table, const char* key, const std::string& where);
+// A list of strings; nullopt when absent.
+std::optional<std::vector<std::string>> optional_texts(const toml::table& table, const char* key, const std::string& where);
+// A number or a list of numbers; nullopt when absent.
+std::optional<std::vector<double>> optional_numbers(const toml::table& table, const char* key, const std::string& where);
+
+}  // namespace loopmargin::detail

@@ -1,0 +1,192 @@
+#include <hdf5.h>
+
+#include <optional>
+
+#include "ingest/channel_setup.hpp"
+#include "ingest/readers.hpp"
+#include "loopmargin/error.hpp"
+
+namespace loopmargin::detail {
+namespace {
+
+// An HDF5 identifier closed by its own function when it goes out of scope.
+class Handle {
+ public:
+  Handle() = default;
+  Handle(hid_t id, herr_t (*close)(hid_t)) : id_(id), close_(close) {}
+  ~Handle() {
+    if (id_ >= 0 && close_ != nullptr) close_(id_);
+  }
+  Handle(Handle&& other) noexcept : id_(other.id_), close_(other.close_) { other.id_ = -1; }
+  Handle& operator=(Handle&& other) noexcept {
+    std::swap(id_, other.id_);
+    std::swap(close_, other.close_);
+    return *this;
+  }
+  Handle(const Handle&) = delete;
+  Handle& operator=(const Handle&) = delete;
+  hid_t get() const { return id_; }
+  bool valid() const { return id_ >= 0; }
+
+ private:
+  hid_t id_ = -1;
+  herr_t (*close_)(hid_t) = nullptr;
+};
+
+std::optional<double> number_attribute(hid_t object, const std::string& name) {
+  if (name.empty() || H5Aexists(object, name.c_str()) <= 0) return std::nullopt;
+  Handle attribute(H5Aopen(object, name.c_str(), H5P_DEFAULT), H5Aclose);
+  double value = 0.0;
+  if (!attribute.valid() || H5Aread(attribute.get(), H5T_NATIVE_DOUBLE, &value) < 0) return std::nullopt;
+  return value;
+}
+
+std::vector<hsize_t> dimensions(hid_t dataset) {
+  Handle space(H5Dget_space(dataset), H5Sclose);
+  const int rank = H5Sget_simple_extent_ndims(space.get());
+  std::vector<hsize_t> dims(rank > 0 ? static_cast<std::size_t>(rank) : 0);
+  if (rank > 0) H5Sget_simple_extent_dims(space.get(), dims.data(), nullptr);
+  return dims;
+}
+
+std::string last_component(const std::string& path) {
+  const auto slash = path.find_last_of('/');
+  return slash == std::string::npos ? path : path.substr(slash + 1);
+}
+
+// One 2-D dataset (the smaller dimension is the channels) or one 1-D dataset
+// per channel, read block by block through hyperslabs.
+class Hdf5Reader final : public SampleSource {
+ public:
+  Hdf5Reader(const std::string& path, const RecordingOptions& options) : path_(path), options_(options) {
+    H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);  // errors become messages, not prints
+    if (H5Fis_hdf5(path.c_str()) <= 0) throw InputError(path + ": not a readable HDF5 file");
+    file_ = Handle(H5Fopen(path.c_str(), H5F_ACC_RDONLY, H5P_DEFAULT), H5Fclose);
+    if (!file_.valid()) throw InputError(path + ": cannot open as HDF5");
+    const auto& layout = options.hdf5;
+    if (layout.dataset.empty() == layout.datasets.empty()) {
+      throw ConfigError(path + ": name either one 2-D dataset (dataset) or one 1-D dataset per channel (datasets)");
+    }
+    if (!layout.dataset.empty()) {
+      open_matrix(layout.dataset);
+    } else {
+      open_columns(layout.datasets);
+    }
+    find_sample_rate();
+  }
+
+  const std::vector<std::string>& channel_names() const override { return setup_.names; }
+  const std::string& origin() const override { return path_; }
+  SourceSummary summary() const override { return {sample_rate_hz_, read_, {}}; }
+  bool next(SampleBlock& block) override;
+
+ private:
+  Handle open_dataset(const std::string& name) const {
+    Handle d(H5Dopen2(file_.get(), name.c_str(), H5P_DEFAULT), H5Dclose);
+    if (!d.valid()) throw InputError(path_ + ": no dataset '" + name + "'");
+    return d;
+  }
+  void open_matrix(const std::string& name);
+  void open_columns(const std::vector<std::string>& names);
+  void find_sample_rate();
+  void read_slab(hid_t dataset, std::vector<hsize_t> offset, std::vector<hsize_t> count, double* out) const;
+
+  std::string path_;
+  RecordingOptions options_;
+  Handle file_;
+  std::vector<Handle> datasets_;
+  bool channels_first_ = false;  // a 2-D dataset stored channels x samples
+  std::size_t length_ = 0;
+  std::size_t read_ = 0;
+  double sample_rate_hz_ = 0.0;
+  ChannelSetup setup_;
+  std::vector<double> buffer_;
+};
+
+void Hdf5Reader::open_matrix(const std::string& name) {
+  datasets_.push_back(open_dataset(name));
+  const auto dims = dimensions(datasets_.back().get());
+  if (dims.size() != 2 || dims[0] == 0 || dims[1] == 0) {
+    throw InputError(path_ + ": dataset '" + name + "' is not a non-empty 2-D array (samples x channels)");
+  }
+  channels_first_ = dims[0] < dims[1];
+  length_ = channels_first_ ? dims[1] : dims[0];
+  setup_ = channel_setup(options_, channels_first_ ? dims[0] : dims[1], path_);
+}
+
+void Hdf5Reader::open_columns(const std::vector<std::string>& names) {
+  for (const auto& name : names) {
+    datasets_.push_back(open_dataset(name));
+    const auto dims = dimensions(datasets_.back().get());
+    if (dims.size() != 1) throw InputError(path_ + ": dataset '" + name + "' is not 1-D");
+    if (datasets_.size() > 1 && dims[0] != length_) {
+      throw InputError(path_ + ": dataset '" + name + "' has " + std::to_string(dims[0]) + " samples, '" + names[0] +
+                       "' has " + std::to_string(length_));
+    }
+    length_ = dims[0];
+  }
+  if (length_ == 0) throw InputError(path_ + ": the datasets are empty");
+  RecordingOptions named = options_;
+  if (named.channel_names.empty()) {
+    for (const auto& name : names) named.channel_names.push_back(last_component(name));
+  }
+  setup_ = channel_setup(named, names.size(), path_);
+}
+
+void Hdf5Reader::find_sample_rate() {
+  std::optional<double> rate = options_.sample_rate_hz;
+  for (const auto& d : datasets_) {
+    if (!rate) rate = number_attribute(d.get(), options_.hdf5.rate_attribute);
+  }
+  if (!rate) rate = number_attribute(file_.get(), options_.hdf5.rate_attribute);
+  if (!rate || !(*rate > 0.0)) {
+    throw ConfigError(path_ + ": no sample rate: no attribute '" + options_.hdf5.rate_attribute +
+                      "' on the dataset or the file, and none given (sample_rate_hz)");
+  }
+  sample_rate_hz_ = *rate;
+}
+
+void Hdf5Reader::read_slab(hid_t dataset, std::vector<hsize_t> offset, std::vector<hsize_t> count, double* out) const {
+  Handle file_space(H5Dget_space(dataset), H5Sclose);
+  Handle memory_space(H5Screate_simple(static_cast<int>(count.size()), count.data(), nullptr), H5Sclose);
+  if (H5Sselect_hyperslab(file_space.get(), H5S_SELECT_SET, offset.data(), nullptr, count.data(), nullptr) < 0 ||
+      H5Dread(dataset, H5T_NATIVE_DOUBLE, memory_space.get(), file_space.get(), H5P_DEFAULT, out) < 0) {
+    throw InputError(path_ + ": read failed at sample " + std::to_string(read_) + " (is the dataset numeric?)");
+  }
+}
+
+bool Hdf5Reader::next(SampleBlock& block) {
+  const std::size_t n = std::min(options_.block_size, length_ - read_);
+  if (n == 0) return false;
+  const std::size_t channels = setup_.names.size();
+  block.first_sample = read_;
+  block.channels.resize(channels);
+  if (datasets_.size() == 1 && options_.hdf5.datasets.empty()) {
+    buffer_.resize(n * channels);
+    if (channels_first_) {
+      read_slab(datasets_[0].get(), {0, read_}, {channels, n}, buffer_.data());
+    } else {
+      read_slab(datasets_[0].get(), {read_, 0}, {n, channels}, buffer_.data());
+    }
+    for (std::size_t c = 0; c < channels; ++c) {
+      block.channels[c].resize(n);
+      for (std::size_t i = 0; i < n; ++i) block.channels[c][i] = channels_first_ ? buffer_[c * n + i] : buffer_[i * channels + c];
+    }
+  } else {
+    for (std::size_t c = 0; c < channels; ++c) {
+      block.channels[c].resize(n);
+      read_slab(datasets_[c].get(), {read_}, {n}, block.channels[c].data());
+    }
+  }
+  for (std::size_t c = 0; c < channels; ++c) setup_.calibrate(c, block.channels[c]);
+  read_ += n;
+  return true;
+}
+
+}  // namespace
+
+std::unique_ptr<SampleSource> open_hdf5(const std::string& path, const RecordingOptions& options) {
+  return std::make_unique<Hdf5Reader>(path, options);
+}
+
+}  // namespace loopmargin::detail

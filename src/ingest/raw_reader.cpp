@@ -1,0 +1,130 @@
+#include <algorithm>
+#include <cerrno>
+#include <cstdint>
+#include <cstdio>
+#include <cstring>
+#include <filesystem>
+#include <sstream>
+
+#include "ingest/channel_setup.hpp"
+#include "ingest/readers.hpp"
+#include "loopmargin/error.hpp"
+
+namespace loopmargin::detail {
+namespace {
+
+template <typename T>
+T load(const unsigned char* bytes, bool swap) {
+  unsigned char copy[sizeof(T)];
+  std::memcpy(copy, bytes, sizeof(T));
+  if (swap) std::reverse(copy, copy + sizeof(T));
+  T value;
+  std::memcpy(&value, copy, sizeof(T));
+  return value;
+}
+
+double load_sample(const unsigned char* bytes, SampleType type, bool swap) {
+  switch (type) {
+    case SampleType::kInt16: return load<std::int16_t>(bytes, swap);
+    case SampleType::kInt32: return load<std::int32_t>(bytes, swap);
+    case SampleType::kFloat32: return load<float>(bytes, swap);
+    case SampleType::kFloat64: return load<double>(bytes, swap);
+  }
+  return 0.0;
+}
+
+bool host_is_big_endian() {
+  const std::uint16_t probe = 1;
+  unsigned char first;
+  std::memcpy(&first, &probe, 1);
+  return first == 0;
+}
+
+class RawReader final : public SampleSource {
+ public:
+  RawReader(const std::string& path, const RecordingOptions& options) : path_(path), options_(options) {
+    if (!options.sample_rate_hz || !(*options.sample_rate_hz > 0.0)) {
+      throw ConfigError(path + ": a raw binary recording needs its sample rate (sample_rate_hz)");
+    }
+    const std::size_t channels = options.channel_names.empty() ? 3 : options.channel_names.size();
+    setup_ = channel_setup(options, channels, path);
+    frame_bytes_ = channels * sample_type_bytes(options.raw.sample_type);
+    open_and_check();
+  }
+
+  const std::vector<std::string>& channel_names() const override { return setup_.names; }
+  const std::string& origin() const override { return path_; }
+  bool next(SampleBlock& block) override;
+  SourceSummary summary() const override { return summary_; }
+
+ private:
+  void open_and_check();
+
+  std::string path_;
+  RecordingOptions options_;
+  ChannelSetup setup_;
+  std::size_t frame_bytes_ = 0;
+  std::size_t frames_total_ = 0;
+  std::size_t frames_read_ = 0;
+  std::unique_ptr<std::FILE, int (*)(std::FILE*)> file_{nullptr, &std::fclose};
+  std::vector<unsigned char> buffer_;
+  SourceSummary summary_;
+};
+
+void RawReader::open_and_check() {
+  std::error_code ec;
+  const auto size = std::filesystem::file_size(path_, ec);
+  if (ec) throw InputError(path_ + ": cannot open: " + ec.message());
+  const std::size_t header = options_.raw.header_bytes;
+  if (size <= header) {
+    throw InputError(path_ + ": " + std::to_string(size) + " bytes, no data after the " + std::to_string(header) +
+                     "-byte header");
+  }
+  frames_total_ = (size - header) / frame_bytes_;
+  const std::size_t partial = (size - header) % frame_bytes_;
+  if (frames_total_ == 0) throw InputError(path_ + ": shorter than one frame of " + std::to_string(frame_bytes_) + " bytes");
+  if (partial != 0) {
+    std::ostringstream message;
+    message << "the file ends with " << partial << " bytes of an incomplete frame (" << frame_bytes_
+            << " bytes a frame); they are ignored: is the layout right, or was the file cut short?";
+    summary_.findings.push_back(make_warning("ingest.partial-frame", message.str(), {.first_sample = frames_total_}));
+  }
+  file_.reset(std::fopen(path_.c_str(), "rb"));
+  if (!file_) throw InputError(path_ + ": cannot open: " + std::strerror(errno));
+  if (std::fseek(file_.get(), static_cast<long>(header), SEEK_SET) != 0) throw InputError(path_ + ": cannot skip the header");
+}
+
+bool RawReader::next(SampleBlock& block) {
+  const std::size_t frames = std::min(options_.block_size, frames_total_ - frames_read_);
+  if (frames == 0) {
+    summary_.sample_rate_hz = *options_.sample_rate_hz;
+    summary_.sample_count = frames_read_;
+    return false;
+  }
+  buffer_.resize(frames * frame_bytes_);
+  if (std::fread(buffer_.data(), frame_bytes_, frames, file_.get()) != frames) {
+    throw InputError(path_ + ": read failed after " + std::to_string(frames_read_) + " frames");
+  }
+  const std::size_t channels = setup_.names.size();
+  const std::size_t width = sample_type_bytes(options_.raw.sample_type);
+  const bool swap = options_.raw.big_endian != host_is_big_endian();
+  block.first_sample = frames_read_;
+  block.channels.resize(channels);
+  for (std::size_t c = 0; c < channels; ++c) {
+    auto& out = block.channels[c];
+    out.resize(frames);
+    const unsigned char* at = buffer_.data() + c * width;
+    for (std::size_t i = 0; i < frames; ++i, at += frame_bytes_) out[i] = load_sample(at, options_.raw.sample_type, swap);
+    setup_.calibrate(c, out);
+  }
+  frames_read_ += frames;
+  return true;
+}
+
+}  // namespace
+
+std::unique_ptr<SampleSource> open_raw(const std::string& path, const RecordingOptions& options) {
+  return std::make_unique<RawReader>(path, options);
+}
+
+}  // namespace loopmargin::detail

@@ -1,0 +1,15 @@
+// The readers behind open_recording, one file each.
+#pragma once
+
+#include <memory>
+#include <string>
+
+#include "loopmargin/ingest/recording.hpp"
+
+namespace loopmargin::detail {
+
+std::unique_ptr<SampleSource> open_raw(const std::string& path, const RecordingOptions& options);
+std::unique_ptr<SampleSource> open_wav(const std::string& path, const RecordingOptions& options);
+std::unique_ptr<SampleSource> open_hdf5(const std::string& path, const RecordingOptions& options);
+
+}  // namespace loopmargin::detail
