@@ -21,6 +21,41 @@ using detail::trim;
 
 bool is_blank_line(std::string_view line) { return trim(line).empty(); }
 
+// Comment and metadata lines, before the header or among the rows.
+bool is_comment_line(std::string_view line) {
+  line = trim(line);
+  return !line.empty() && (line.front() == '#' || line.front() == '%');
+}
+
+bool is_skipped(std::string_view line) { return is_blank_line(line) || is_comment_line(line); }
+
+// "vout [V]" or "vout (V)" -> name "vout", unit "V".
+std::pair<std::string, std::string> split_unit(const std::string& column) {
+  const auto open = column.find_last_of("[(");
+  const char close = open != std::string::npos && column[open] == '[' ? ']' : ')';
+  if (open == std::string::npos || open == 0 || column.back() != close) return {column, ""};
+  return {std::string(trim(column.substr(0, open))), std::string(trim(column.substr(open + 1, column.size() - open - 2)))};
+}
+
+// Seconds per unit of a time column; throws for a unit that is not a time.
+double seconds_per(const std::string& unit, const std::string& path) {
+  if (unit.empty() || unit == "s") return 1.0;
+  if (unit == "ms") return 1e-3;
+  if (unit == "us" || unit == "\xC2\xB5s") return 1e-6;
+  if (unit == "ns") return 1e-9;
+  throw InputError(path + ": the time column's unit '" + unit + "' is not one of s, ms, us, ns");
+}
+
+// A number with a decimal comma ("1,25"), as semicolon-separated files from
+// many locales write it.
+std::optional<double> parse_decimal_comma(std::string_view cell) {
+  char buffer[64];
+  if (cell.size() >= sizeof buffer) return std::nullopt;
+  std::copy(cell.begin(), cell.end(), buffer);
+  std::replace(buffer, buffer + cell.size(), ',', '.');
+  return parse_number(std::string_view(buffer, cell.size()));
+}
+
 std::string lowercase(std::string text) {
   std::transform(text.begin(), text.end(), text.begin(), [](unsigned char c) { return std::tolower(c); });
   return text;
@@ -48,6 +83,7 @@ class DelimitedReader final : public SampleSource {
   }
 
   const std::vector<std::string>& channel_names() const override { return channel_names_; }
+  std::vector<std::string> channel_units() const override { return channel_units_; }
   const std::string& origin() const override { return path_; }
   bool next(SampleBlock& block) override;
   SourceSummary summary() const override { return summary_; }
@@ -63,8 +99,12 @@ class DelimitedReader final : public SampleSource {
   LineReader lines_;
   detail::StampChecker stamps_;
   char delimiter_ = ',';
+  bool decimal_comma_ = false;
+  double seconds_per_stamp_ = 1.0;
   std::vector<std::string> column_names_;
+  std::vector<std::string> column_units_;
   std::vector<std::string> channel_names_;
+  std::vector<std::string> channel_units_;
   std::optional<std::size_t> time_column_;
   std::size_t rows_ = 0;
   bool finished_ = false;
@@ -75,9 +115,14 @@ void DelimitedReader::read_header() {
   std::string_view header;
   do {
     if (!lines_.next(header)) throw InputError(path_ + ": the file is empty; a header line naming the columns is needed");
-  } while (is_blank_line(header));
+  } while (is_skipped(header));
   delimiter_ = options_.delimiter.value_or(detect_delimiter(header));
-  column_names_ = split_names(header, delimiter_);
+  decimal_comma_ = delimiter_ == ';';
+  for (const std::string& column : split_names(header, delimiter_)) {
+    auto [name, unit] = split_unit(column);
+    column_names_.push_back(std::move(name));
+    column_units_.push_back(std::move(unit));
+  }
   for (std::size_t i = 0; i < column_names_.size(); ++i) {
     const std::string& name = column_names_[i];
     if (name.empty() || parse_number(name)) {
@@ -91,8 +136,11 @@ void DelimitedReader::read_header() {
   if (!time_column_ && !options_.sample_rate_hz) {
     throw ConfigError(path_ + ": no time column (t, time or time_s) and no sample rate given; state the sample rate");
   }
+  if (time_column_) seconds_per_stamp_ = seconds_per(column_units_[*time_column_], path_);
   for (std::size_t i = 0; i < column_names_.size(); ++i) {
-    if (i != time_column_) channel_names_.push_back(column_names_[i]);
+    if (i == time_column_) continue;
+    channel_names_.push_back(column_names_[i]);
+    channel_units_.push_back(column_units_[i]);
   }
   if (channel_names_.empty()) throw InputError(path_ + ": the header names no channel besides the time");
 }
@@ -118,11 +166,12 @@ void DelimitedReader::parse_row(std::string_view line, SampleBlock& block) {
     const auto stop = std::min(line.find(delimiter_, start), line.size());
     const std::string_view cell = line.substr(start, stop - start);
     start = stop + 1;
-    const auto value = parse_number(cell);
+    const auto value = decimal_comma_ ? parse_decimal_comma(cell) : parse_number(cell);
     if (!value) fail_cell(column, cell, "not a number:");
     if (!std::isfinite(*value)) fail_cell(column, cell, "not a finite number:");
     if (column == time_column_) {
-      stamps_.add(*value, detail::printed_resolution(cell), lines_.line_number());
+      stamps_.add(*value * seconds_per_stamp_, detail::printed_resolution(cell) * seconds_per_stamp_,
+                  lines_.line_number());
     } else {
       block.channels[channel++].push_back(*value);
     }
@@ -145,7 +194,7 @@ bool DelimitedReader::next(SampleBlock& block) {
   }
   std::string_view line;
   while (block.size() < options_.block_size && lines_.next(line)) {
-    if (is_blank_line(line)) continue;
+    if (is_skipped(line)) continue;
     parse_row(line, block);
     ++rows_;
   }

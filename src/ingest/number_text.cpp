@@ -30,7 +30,7 @@ double printed_resolution(std::string_view cell) {
   cell = trim(cell);
   int decimals = 0;
   int exponent = 0;
-  const auto point = cell.find('.');
+  const auto point = cell.find_first_of(".,");  // a decimal comma counts too
   const auto mark = cell.find_first_of("eE");
   if (point != std::string_view::npos) {
     const auto mantissa_end = (mark == std::string_view::npos) ? cell.size() : mark;

@@ -34,6 +34,9 @@ class SampleSource {
  public:
   virtual ~SampleSource() = default;
   virtual const std::vector<std::string>& channel_names() const = 0;
+  // Units in the order of channel_names, "" where unknown; empty when the
+  // format states none.
+  virtual std::vector<std::string> channel_units() const { return {}; }
   // Fills `block` with the next samples (up to the reader's block size) and
   // returns true, or returns false at the end of the data.
   virtual bool next(SampleBlock& block) = 0;

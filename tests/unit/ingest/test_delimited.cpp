@@ -120,3 +120,26 @@ TEST_CASE("blocks are handed out in order and sized as asked", "[ingest]") {
   CHECK(expected_first == 1000);
   CHECK(source->summary().sample_rate_hz == Approx(100.0));
 }
+
+TEST_CASE("comment lines before the header and among the rows are skipped", "[ingest]") {
+  const Record r = read("# scope export\n% probe 10:1\n\nt,z\n0,1\n# marker\n0.5,2\n");
+  CHECK(r.channel_names == std::vector<std::string>{"z"});
+  CHECK(r.channels[0] == std::vector<double>{1, 2});
+}
+
+TEST_CASE("unit suffixes are taken off names and a time unit scales the stamps", "[ingest]") {
+  TempFile file("time [ms],vout (V),iL [A]\n0,1,2\n0.5,3,4\n1.0,5,6\n");
+  const auto source = open_delimited(file.path(), {});
+  const Record r = read_all(*source);
+  CHECK(r.channel_names == std::vector<std::string>{"vout", "iL"});
+  CHECK(source->channel_units() == std::vector<std::string>{"V", "A"});
+  CHECK(r.sample_rate_hz == Approx(2000.0));  // 0.5 ms a sample
+  CHECK_THAT(message_of("t [furlong],z\n0,1\n1,2\n"), Catch::Contains("'furlong'"));
+}
+
+TEST_CASE("semicolon files may use a decimal comma", "[ingest]") {
+  const Record r = read("t;z;x\n0,000;1,5;-2,25\n0,001;3,0;4\n");
+  CHECK(r.sample_rate_hz == Approx(1000.0));
+  CHECK(r.channels[0] == std::vector<double>{1.5, 3.0});
+  CHECK(r.channels[1] == std::vector<double>{-2.25, 4.0});
+}
