@@ -4,6 +4,7 @@
 #include <sstream>
 
 #include "loopmargin/error.hpp"
+#include "loopmargin/ingest/quality.hpp"
 
 namespace loopmargin {
 namespace {
@@ -57,9 +58,12 @@ AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& op
   options.welch.validate();
   RoleSelector roles(source, options.roles);
   WelchAccumulator welch(3, options.welch);
+  QualityMonitor quality({options.roles.injection, options.roles.x, options.roles.y}, kReferenceChannel,
+                         source.origin());
   SampleBlock block;
   while (source.next(block)) {
     const auto selected = roles.select(block);
+    quality.push(selected, block.first_sample);
     welch.push(selected);
     if (progress) progress(welch.samples_seen());
   }
@@ -78,6 +82,8 @@ AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& op
   result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles,
                               spectra.segments, spectra.effective_averages};
   result.findings = std::move(summary.findings);
+  append(result.findings, quality.findings());
+  append(result.findings, spectral_findings(spectra, {options.roles.injection, options.roles.x, options.roles.y}));
   const Response measured = estimate_response(spectra, options.response, result.findings);
   result.loop = to_loop(measured, options.convention, result.findings);
   result.margins = find_margins(result.loop.lines, options.margins);

@@ -93,6 +93,7 @@ class DelimitedReader final : public SampleSource {
   void parse_row(std::string_view line, SampleBlock& block);
   [[noreturn]] void fail_cell(std::size_t column, std::string_view cell, const char* what) const;
   void finish();
+  void report_jitter();
 
   std::string path_;
   DelimitedOptions options_;
@@ -205,6 +206,18 @@ bool DelimitedReader::next(SampleBlock& block) {
   return true;
 }
 
+// Steps that wander more than rounding explains: a clock with jitter, or
+// stamps computed from a drifting counter. Spectra assume uniform sampling.
+void DelimitedReader::report_jitter() {
+  constexpr double kJitterOverStep = 0.01;
+  const double jitter = stamps_.jitter_rms_s();
+  if (jitter <= kJitterOverStep * stamps_.step_s() || jitter <= stamps_.resolution_s()) return;
+  std::ostringstream message;
+  message << "the time steps scatter by " << jitter << " s RMS around " << stamps_.step_s()
+          << " s, more than the stamps' rounding: the sampling clock may jitter; the spectra assume uniform sampling";
+  summary_.findings.push_back(make_warning("ingest.time-jitter", message.str(), {.channel = column_names_[*time_column_]}));
+}
+
 void DelimitedReader::finish() {
   finished_ = true;
   if (rows_ == 0) throw InputError(path_ + ": no data rows after the header");
@@ -214,6 +227,7 @@ void DelimitedReader::finish() {
     return;
   }
   const double from_stamps = stamps_.finish();
+  report_jitter();
   summary_.sample_rate_hz = options_.sample_rate_hz.value_or(from_stamps);
   if (options_.sample_rate_hz && std::abs(from_stamps / *options_.sample_rate_hz - 1.0) > 1e-3) {
     std::ostringstream message;

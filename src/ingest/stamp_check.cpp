@@ -62,7 +62,7 @@ void StampChecker::fix_reference_step() {
   early_lines_.shrink_to_fit();
 }
 
-void StampChecker::check_step(double previous_s, double stamp_s, std::size_t line) const {
+void StampChecker::check_step(double previous_s, double stamp_s, std::size_t line) {
   const double step = stamp_s - previous_s;
   // Two stamps one step apart can print alike once the resolution reaches
   // about the step (a value at a rounding half-point goes either way).
@@ -73,6 +73,8 @@ void StampChecker::check_step(double previous_s, double stamp_s, std::size_t lin
             << " s)";
     throw InputError(message.str());
   }
+  jitter_sum_squares_ += (step - reference_step_s_) * (step - reference_step_s_);
+  ++jitter_steps_;
   const double tolerance = kStepTolerance * reference_step_s_ + resolution_s_;
   if (std::abs(step - reference_step_s_) > tolerance) {
     std::ostringstream message;
@@ -80,6 +82,10 @@ void StampChecker::check_step(double previous_s, double stamp_s, std::size_t lin
             << " s is expected (tolerance " << tolerance << " s); the time column is not uniform";
     throw InputError(message.str());
   }
+}
+
+double StampChecker::jitter_rms_s() const {
+  return jitter_steps_ == 0 ? 0.0 : std::sqrt(jitter_sum_squares_ / static_cast<double>(jitter_steps_));
 }
 
 double StampChecker::finish() {

@@ -22,10 +22,14 @@ class StampChecker {
   // span of all stamps; throws if there are fewer than two.
   double finish();
   std::size_t count() const { return count_; }
+  // RMS departure of the steps from the expected step, and the expected step.
+  double jitter_rms_s() const;
+  double step_s() const { return reference_step_s_; }
+  double resolution_s() const { return resolution_s_; }
 
  private:
   void fix_reference_step();
-  void check_step(double previous_s, double stamp_s, std::size_t line) const;
+  void check_step(double previous_s, double stamp_s, std::size_t line);
 
   std::string origin_;
   std::size_t count_ = 0;
@@ -34,6 +38,8 @@ class StampChecker {
   double resolution_s_ = 0.0;           // the column's, from the steps seen
   double previous_resolution_s_ = 0.0;  // of the last stamp's text
   double reference_step_s_ = 0.0;  // 0 until enough stamps are seen
+  double jitter_sum_squares_ = 0.0;
+  std::size_t jitter_steps_ = 0;
   std::vector<double> early_stamps_;
   std::vector<std::size_t> early_lines_;
 };

@@ -56,6 +56,43 @@ double effective_averages(const std::vector<double>& window, std::size_t step, s
   return k / inflation;
 }
 
+Diagnostics spectral_findings(const CrossSpectra& spectra, const std::vector<std::string>& names) {
+  constexpr double kMinAverages = 8.0;
+  constexpr double kTopFraction = 0.9;        // the top tenth of the band
+  constexpr double kNyquistPowerShare = 0.01;
+  Diagnostics out;
+  if (spectra.effective_averages < kMinAverages) {
+    std::ostringstream message;
+    message << "only " << spectra.effective_averages << " effective averages (" << spectra.segments
+            << " segments): each line is uncertain; a shorter segment or a longer record helps";
+    out.push_back(make_warning("spectral.few-averages", message.str()));
+  }
+  // Loop channels only: power near Nyquist that the injection does not explain
+  // (incoherent with channel 0) is what aliasing adds.
+  const std::size_t lines = spectra.line_count();
+  const auto top = static_cast<std::size_t>(kTopFraction * static_cast<double>(lines));
+  for (std::size_t c = 1; c < spectra.channel_count && c < names.size(); ++c) {
+    double total = 0.0, incoherent_high = 0.0;
+    for (std::size_t k = 1; k < lines; ++k) {
+      const double p = spectra.at(c, c)[k].real();
+      total += p;
+      const double reference = spectra.at(0, 0)[k].real();
+      const double coherence = p > 0.0 && reference > 0.0 ? std::norm(spectra.at(0, c)[k]) / (p * reference) : 0.0;
+      if (k >= top) incoherent_high += p * (1.0 - coherence);
+    }
+    if (total > 0.0 && incoherent_high > kNyquistPowerShare * total) {
+      std::ostringstream message;
+      message << "channel '" << names[c] << "' has " << std::lround(100.0 * incoherent_high / total)
+              << " % of its power in the top tenth of the band, near the Nyquist frequency, unexplained by the "
+                 "injection: check the anti-alias filter; content above Nyquist folds onto the lines below it";
+      out.push_back(make_warning("spectral.near-nyquist", message.str(),
+                                 {.channel = names[c], .low_hz = spectra.frequency_hz(top),
+                                  .high_hz = spectra.frequency_hz(lines - 1)}));
+    }
+  }
+  return out;
+}
+
 struct WelchAccumulator::Impl {
   WelchOptions options;
   std::size_t channel_count;

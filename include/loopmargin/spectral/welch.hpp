@@ -13,8 +13,10 @@
 #include <cstddef>
 #include <memory>
 #include <span>
+#include <string>
 #include <vector>
 
+#include "loopmargin/record/diagnostic.hpp"
 #include "loopmargin/spectral/window.hpp"
 
 namespace loopmargin {
@@ -74,6 +76,14 @@ class WelchAccumulator {
   struct Impl;
   std::unique_ptr<Impl> impl_;
 };
+
+// Findings about the averaged spectra, channels named by `names`:
+//   spectral.few-averages  fewer than 8 effective averages: the resolution
+//                          asked for costs the estimates their reliability
+//   spectral.near-nyquist  a loop channel (1, 2, ...) holds over 1 % of its
+//                          power in the top tenth of the band, incoherent
+//                          with channel 0 (the injection): a hint of aliasing
+Diagnostics spectral_findings(const CrossSpectra& spectra, const std::vector<std::string>& names);
 
 // Effective number of independent averages for `segments` segments of
 // `window` started `step` samples apart (Welch 1967).
