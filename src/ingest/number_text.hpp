@@ -8,6 +8,11 @@
 
 namespace loopmargin::detail {
 
+// Reads a double at the start of [first, last) (fast_float: correctly
+// rounded, several times faster than stream extraction). Returns the end of
+// the number, or nullptr when none starts there.
+const char* read_double(const char* first, const char* last, double& value);
+
 // Parses a whole cell (surrounding blanks allowed, a leading '+' allowed) as a
 // double; nullopt when the cell is not entirely a number.
 std::optional<double> parse_number(std::string_view cell);

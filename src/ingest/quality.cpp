@@ -1,6 +1,9 @@
 #include "loopmargin/ingest/quality.hpp"
 
+#include <Eigen/Core>
+#include <algorithm>
 #include <cmath>
+#include <numeric>
 #include <sstream>
 
 #include "loopmargin/error.hpp"
@@ -8,26 +11,20 @@
 namespace loopmargin {
 namespace {
 
-constexpr std::size_t kChunk = 1 << 14;        // samples per point of the slow trend
 constexpr std::size_t kClipRun = 3;            // equal samples at an extreme that make a flat top
 constexpr double kClipFraction = 1e-5;         // of all samples, before it is reported
 constexpr double kDriftOverInjection = 1.0;    // trend over the record against the injection's RMS
 constexpr double kOffsetOverInjection = 100.0;
 
-// Least-squares slope of the chunk means times their span: how far the mean moved.
-double trend_over_record(const std::vector<double>& means) {
-  const std::size_t n = means.size();
-  if (n < 4) return 0.0;
-  double su = 0.0, sv = 0.0, suu = 0.0, suv = 0.0;
-  for (std::size_t i = 0; i < n; ++i) {
-    const double u = static_cast<double>(i);
-    su += u;
-    sv += means[i];
-    suu += u * u;
-    suv += u * means[i];
-  }
-  const double slope = (n * suv - su * sv) / (n * suu - su * su);
-  return slope * static_cast<double>(n - 1);
+// How far the least-squares line through the samples moves over the record,
+// from the sums of x[n] and n x[n] (sums of n and n^2 are closed forms).
+double trend_over_record(double sum, double sum_index_weighted, std::size_t count) {
+  if (count < 16) return 0.0;
+  const double n = static_cast<double>(count);
+  const double mean_index = (n - 1.0) / 2.0;
+  const double index_variance_sum = n * (n * n - 1.0) / 12.0;  // sum of (i - mean_index)^2
+  const double slope = (sum_index_weighted - mean_index * sum) / index_variance_sum;
+  return slope * (n - 1.0);
 }
 
 }  // namespace
@@ -35,45 +32,85 @@ double trend_over_record(const std::vector<double>& means) {
 QualityMonitor::QualityMonitor(std::vector<std::string> names, std::size_t injection, std::string origin)
     : names_(std::move(names)), injection_(injection), origin_(std::move(origin)), channels_(names_.size()) {}
 
-void QualityMonitor::scan(Channel& c, double v, std::size_t sample) {
-  if (!std::isfinite(v)) return;
-  c.run = (v == c.previous) ? c.run + 1 : 1;
-  c.previous = v;
-  if (v > c.max) {
-    c.max = v;
+namespace {
+
+// Block sums, vectorised by Eigen (plain loops are not: reordering a sum of
+// doubles changes its rounding, so the compiler keeps them scalar).
+struct BlockStats {
+  double sum = 0.0;
+  double sum_squares = 0.0;
+  double min = INFINITY;
+  double max = -INFINITY;
+  double sum_index_weighted = 0.0;  // sum of i x[i], i from 0 within the block
+};
+
+BlockStats stats_of(std::span<const double> v, const std::vector<double>& ramp) {
+  const auto n = static_cast<Eigen::Index>(v.size());
+  const Eigen::Map<const Eigen::ArrayXd> a(v.data(), n);
+  const Eigen::Map<const Eigen::ArrayXd> index(ramp.data(), n);
+  return {a.sum(), a.square().sum(), a.minCoeff(), a.maxCoeff(), (a * index).sum()};
+}
+
+}  // namespace
+
+// Runs of equal samples at `extreme`, continuing the run carried over from
+// the previous block; returns the samples that count (runs of kClipRun or more).
+std::size_t count_runs_at(std::span<const double> v, double extreme, double carried_value, std::size_t carried_length,
+                          std::size_t first_sample, std::size_t& first_run_sample) {
+  std::size_t counted = 0;
+  std::size_t length = carried_value == extreme ? carried_length : 0;
+  for (std::size_t i = 0; i < v.size(); ++i) {
+    if (v[i] != extreme) {
+      length = 0;
+      continue;
+    }
+    ++length;
+    if (length < kClipRun) continue;
+    const std::size_t added = length == kClipRun ? kClipRun : 1;
+    if (counted == 0 && first_run_sample == 0) first_run_sample = first_sample + i + 1 - length;
+    counted += added;
+  }
+  return counted;
+}
+
+void QualityMonitor::scan(Channel& c, std::span<const double> v, std::size_t first_sample, const std::string& name) const {
+  if (ramp_.size() < v.size()) {
+    ramp_.resize(v.size());
+    std::iota(ramp_.begin(), ramp_.end(), 0.0);
+  }
+  const BlockStats s = stats_of(v, ramp_);
+  if (!std::isfinite(s.sum) || !std::isfinite(s.sum_squares)) {
+    for (std::size_t i = 0; i < v.size(); ++i) {
+      if (std::isfinite(v[i])) continue;
+      std::ostringstream message;
+      message << origin_ << ": channel '" << name << "', sample " << first_sample + i << ": " << v[i]
+              << " is not a finite number";
+      throw InputError(message.str());
+    }
+  }
+  if (s.max > c.max) {
+    c.max = s.max;
     c.at_max_in_runs = 0;
   }
-  if (v < c.min) {
-    c.min = v;
+  if (s.min < c.min) {
+    c.min = s.min;
     c.at_min_in_runs = 0;
   }
-  if (c.run >= kClipRun && (v == c.max || v == c.min)) {
-    const std::size_t added = c.run == kClipRun ? kClipRun : 1;  // the run's first samples count once it qualifies
-    (v == c.max ? c.at_max_in_runs : c.at_min_in_runs) += added;
-    if (c.at_max_in_runs + c.at_min_in_runs == added) c.first_run_sample = sample + 1 - c.run;
-  }
-  c.sum += v;
-  c.sum_squares += v * v;
-  c.chunk_sum += v;
-  if (++c.chunk_count == kChunk) {
-    c.chunk_means.push_back(c.chunk_sum / kChunk);
-    c.chunk_sum = 0.0;
-    c.chunk_count = 0;
-  }
+  if (s.max == c.max) c.at_max_in_runs += count_runs_at(v, c.max, c.run_value, c.run_length, first_sample, c.first_run_sample);
+  if (s.min == c.min) c.at_min_in_runs += count_runs_at(v, c.min, c.run_value, c.run_length, first_sample, c.first_run_sample);
+  // The run of equal samples that ends this block, for the next one.
+  std::size_t tail = 0;
+  while (tail < v.size() && v[v.size() - 1 - tail] == v.back()) ++tail;
+  c.run_length = (tail == v.size() && v.back() == c.run_value) ? c.run_length + tail : tail;
+  c.run_value = v.back();
+  c.sum += s.sum;
+  c.sum_squares += s.sum_squares;
+  c.sum_index_weighted += s.sum_index_weighted + static_cast<double>(first_sample) * s.sum;
 }
 
 void QualityMonitor::push(std::span<const std::span<const double>> channels, std::size_t first_sample) {
   for (std::size_t c = 0; c < channels.size(); ++c) {
-    const auto& samples = channels[c];
-    for (std::size_t i = 0; i < samples.size(); ++i) {
-      if (!std::isfinite(samples[i])) {
-        std::ostringstream message;
-        message << origin_ << ": channel '" << names_[c] << "', sample " << first_sample + i << ": "
-                << samples[i] << " is not a finite number";
-        throw InputError(message.str());
-      }
-      scan(channels_[c], samples[i], first_sample + i);
-    }
+    if (!channels[c].empty()) scan(channels_[c], channels[c], first_sample, names_[c]);
   }
   if (!channels.empty()) samples_ += channels[0].size();
 }
@@ -93,7 +130,7 @@ Diagnostics QualityMonitor::channel_findings(std::size_t index, double injection
   }
   if (injection_rms > 0.0 && index != injection_) {
     const double mean = c.sum / n;
-    const double trend = trend_over_record(c.chunk_means);
+    const double trend = trend_over_record(c.sum, c.sum_index_weighted, samples_);
     if (std::abs(trend) > kDriftOverInjection * injection_rms) {
       std::ostringstream message;
       message << "channel '" << name << "' drifts by " << trend << " over the record, more than the injection's RMS ("

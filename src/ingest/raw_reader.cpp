@@ -23,14 +23,28 @@ T load(const unsigned char* bytes, bool swap) {
   return value;
 }
 
-double load_sample(const unsigned char* bytes, SampleType type, bool swap) {
-  switch (type) {
-    case SampleType::kInt16: return load<std::int16_t>(bytes, swap);
-    case SampleType::kInt32: return load<std::int32_t>(bytes, swap);
-    case SampleType::kFloat32: return load<float>(bytes, swap);
-    case SampleType::kFloat64: return load<double>(bytes, swap);
+// One channel of `frames` interleaved frames, converted to double.
+template <typename T>
+void unpack(const unsigned char* first, std::size_t frame_bytes, std::size_t frames, bool swap, double* out) {
+  if (swap) {
+    for (std::size_t i = 0; i < frames; ++i) out[i] = load<T>(first + i * frame_bytes, true);
+    return;
   }
-  return 0.0;
+  for (std::size_t i = 0; i < frames; ++i) {
+    T value;
+    std::memcpy(&value, first + i * frame_bytes, sizeof(T));
+    out[i] = static_cast<double>(value);
+  }
+}
+
+void unpack_channel(SampleType type, const unsigned char* first, std::size_t frame_bytes, std::size_t frames, bool swap,
+                    double* out) {
+  switch (type) {
+    case SampleType::kInt16: return unpack<std::int16_t>(first, frame_bytes, frames, swap, out);
+    case SampleType::kInt32: return unpack<std::int32_t>(first, frame_bytes, frames, swap, out);
+    case SampleType::kFloat32: return unpack<float>(first, frame_bytes, frames, swap, out);
+    case SampleType::kFloat64: return unpack<double>(first, frame_bytes, frames, swap, out);
+  }
 }
 
 bool host_is_big_endian() {
@@ -113,8 +127,7 @@ bool RawReader::next(SampleBlock& block) {
   for (std::size_t c = 0; c < channels; ++c) {
     auto& out = block.channels[c];
     out.resize(frames);
-    const unsigned char* at = buffer_.data() + c * width;
-    for (std::size_t i = 0; i < frames; ++i, at += frame_bytes_) out[i] = load_sample(at, options_.raw.sample_type, swap);
+    unpack_channel(options_.raw.sample_type, buffer_.data() + c * width, frame_bytes_, frames, swap, out.data());
     setup_.calibrate(c, out);
   }
   frames_read_ += frames;

@@ -3,8 +3,9 @@
 //
 //   ingest.clipping      runs of three or more equal samples at a channel's
 //                        extreme value (ADC saturation, a flat top)
-//   ingest.drift         the channel's mean moves, over the record, by more
-//                        than the injection's RMS (it leaks into low lines)
+//   ingest.drift         the channel's least-squares linear trend moves it,
+//                        over the record, by more than the injection's RMS
+//                        (it leaks into the lowest lines)
 //   ingest.dc-offset     the channel's mean is over 100 times the injection's
 //                        RMS (the injection uses little of the ADC's range)
 // NaN or infinite samples stop the run (InputError naming channel and sample).
@@ -38,15 +39,13 @@ class QualityMonitor {
     std::size_t at_max_in_runs = 0;  // samples in runs of >= 3 at the current max
     std::size_t at_min_in_runs = 0;
     std::size_t first_run_sample = 0;
-    double previous = NAN;
-    std::size_t run = 0;
+    double run_value = NAN;  // the run of equal samples that ends the last block
+    std::size_t run_length = 0;
     double sum = 0.0;
     double sum_squares = 0.0;
-    double chunk_sum = 0.0;
-    std::size_t chunk_count = 0;
-    std::vector<double> chunk_means;  // one per kChunk samples: the slow trend
+    double sum_index_weighted = 0.0;  // sum of n x[n]: with the sums, the least-squares trend
   };
-  void scan(Channel& c, double v, std::size_t sample);
+  void scan(Channel& c, std::span<const double> samples, std::size_t first_sample, const std::string& name) const;
   Diagnostics channel_findings(std::size_t index, double injection_rms) const;
 
   std::vector<std::string> names_;
@@ -54,6 +53,7 @@ class QualityMonitor {
   std::string origin_;
   std::vector<Channel> channels_;
   std::size_t samples_ = 0;
+  mutable std::vector<double> ramp_;  // 0, 1, 2, ... for the index-weighted sums
 };
 
 }  // namespace loopmargin

@@ -61,16 +61,17 @@ class WelchAccumulator {
   WelchAccumulator(const WelchAccumulator&) = delete;
   WelchAccumulator& operator=(const WelchAccumulator&) = delete;
 
-  // Appends the next samples of every channel (equal lengths) and processes
-  // every segment that is now complete.
+  // Appends the next samples of every channel (equal lengths) and starts the
+  // transforms of every segment that is now complete, on worker threads (one
+  // per core, at most two); it returns without waiting for them.
   void push(std::span<const std::span<const double>> channels);
 
   std::size_t samples_seen() const;
-  std::size_t segments_done() const;
+  std::size_t segments_done();  // waits for the segments in progress
 
   // The averaged spectra, scaled to densities at the given sample rate.
   // Throws NumericalError when not one whole segment was seen.
-  CrossSpectra finish(double sample_rate_hz) const;
+  CrossSpectra finish(double sample_rate_hz);
 
  private:
   struct Impl;
