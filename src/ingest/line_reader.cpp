@@ -9,9 +9,12 @@
 namespace loopmargin::detail {
 namespace {
 constexpr std::size_t kChunkBytes = 1 << 20;
+// No line of a recording or table is this long; a file that has one is not
+// text (or not ours), and memory must not grow with it.
+constexpr std::size_t kMaxLineBytes = 16 << 20;
 }
 
-LineReader::LineReader(const std::string& path) : buffer_(kChunkBytes) {
+LineReader::LineReader(const std::string& path) : path_(path), buffer_(kChunkBytes) {
   std::error_code ec;
   if (std::filesystem::is_directory(path, ec)) throw InputError(path + ": is a folder, not a file");
   file_.reset(std::fopen(path.c_str(), "rb"));
@@ -24,7 +27,13 @@ bool LineReader::refill() {
   if (kept > 0 && begin_ > 0) std::memmove(buffer_.data(), buffer_.data() + begin_, kept);
   begin_ = 0;
   end_ = kept;
-  if (end_ == buffer_.size()) buffer_.resize(buffer_.size() * 2);  // a line longer than the buffer
+  if (end_ == buffer_.size()) {  // a line longer than the buffer
+    if (buffer_.size() >= kMaxLineBytes) {
+      throw InputError(path_ + ": line " + std::to_string(line_number_ + 1) + " is longer than " +
+                       std::to_string(kMaxLineBytes >> 20) + " MiB; this does not look like a text table");
+    }
+    buffer_.resize(buffer_.size() * 2);
+  }
   const std::size_t got = std::fread(buffer_.data() + end_, 1, buffer_.size() - end_, file_.get());
   if (got == 0) at_eof_ = true;
   end_ += got;

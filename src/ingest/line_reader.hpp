@@ -12,6 +12,7 @@ namespace loopmargin::detail {
 class LineReader {
  public:
   explicit LineReader(const std::string& path);  // throws InputError
+  // next() throws InputError for a line over 16 MiB.
   // The next line without its end-of-line characters; false at end of file.
   // The view is valid until the next call.
   bool next(std::string_view& line);
@@ -23,6 +24,7 @@ class LineReader {
   struct FileCloser {
     void operator()(std::FILE* file) const { std::fclose(file); }
   };
+  std::string path_;
   std::unique_ptr<std::FILE, FileCloser> file_;
   std::vector<char> buffer_;
   std::size_t begin_ = 0;

@@ -293,6 +293,80 @@ class BadInput(unittest.TestCase):
         self.assertEqual(result.stderr, "")
 
 
+class EveryFormat(unittest.TestCase):
+    """The same recording as text, raw binary, WAV and HDF5 gives the same margins."""
+
+    @classmethod
+    def setUpClass(cls):
+        import h5py
+        from scipy.io import wavfile
+        cls.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", cls.folder)
+        text = os.path.join(cls.folder, "servo_velocity.csv")
+        data = np.loadtxt(text, delimiter=",", skiprows=1)[:, 1:]  # z, x, y as the text reader parses them
+        cls.paths = {"text": (text, None)}
+        raw = os.path.join(cls.folder, "rec.bin")
+        data.astype(">f8").tofile(raw)
+        cls.paths["raw"] = (raw, cls.write(cls, "raw.toml", '[input]\nsample_type = "float64"\nbyte_order = "big"\n'
+                                                        'sample_rate_hz = 8000\n'))
+        wav = os.path.join(cls.folder, "rec.wav")
+        wavfile.write(wav, 8000, data.astype(np.float32))
+        cls.paths["wav"] = (wav, None)
+        h5 = os.path.join(cls.folder, "rec.h5")
+        with h5py.File(h5, "w") as f:
+            f.create_dataset("bench/loop", data=data).attrs["sample_rate_hz"] = 8000.0
+        cls.paths["hdf5"] = (h5, cls.write(cls, "h5.toml", '[input]\ndataset = "/bench/loop"\n'))
+        cls.summaries = {}
+        for kind, (path, settings) in cls.paths.items():
+            out = os.path.join(cls.folder, kind + ".json")
+            run("analyze", path, "--json", out, *(["--config", settings] if settings else []))
+            cls.summaries[kind] = load(out)["summary"]
+
+    @classmethod
+    def tearDownClass(cls):
+        shutil.rmtree(cls.folder, ignore_errors=True)
+
+    def write(self, name, text):
+        path = os.path.join(self.folder, name)
+        with open(path, "w") as f:
+            f.write(text)
+        return path
+
+    def test_binary_formats_agree_with_text(self):
+        # raw float64 and HDF5 hold the very doubles the text reader parses: identical
+        # results; WAV stores float32 (7 digits), which moves the margins by far less
+        # than their noise (0.01 deg and 0.01 dB allowed).
+        for kind, delta in [("raw", 1e-9), ("hdf5", 1e-9), ("wav", 0.01)]:
+            for key in ("phase_margin_deg", "gain_margin_db", "modulus_margin"):
+                self.assertAlmostEqual(self.summaries[kind][key], self.summaries["text"][key], delta=delta,
+                                       msg=f"{kind} {key}")
+
+    def test_layout_mismatches_are_reported(self):
+        raw, settings = self.paths["raw"]
+        cut = os.path.join(self.folder, "cut.bin")
+        with open(raw, "rb") as f, open(cut, "wb") as g:
+            g.write(f.read()[:-5])  # a file cut short inside a frame
+        out = os.path.join(self.folder, "cut.json")
+        run("analyze", cut, "--config", settings, "--json", out)
+        self.assertIn("ingest.partial-frame", [d["code"] for d in load(out)["diagnostics"]])
+        result = run("analyze", self.paths["wav"][0], "--channels", "a,b,c,d", check=False)
+        self.assertEqual(result.returncode, SETTINGS)
+        self.assertIn("4 channel names given but the file has 3 channels", result.stderr)
+        result = run("analyze", raw, "--format", "raw", check=False)
+        self.assertEqual(result.returncode, SETTINGS)
+        self.assertIn("needs its sample rate", result.stderr)
+        bad = self.write("bad_h5.toml", '[input]\ndataset = "/no/such"\n')
+        result = run("analyze", self.paths["hdf5"][0], "--config", bad, check=False)
+        self.assertEqual(result.returncode, INPUT)
+        self.assertIn("no dataset '/no/such'", result.stderr)
+        empty = self.write("empty.wav", "")
+        self.assertEqual(run("analyze", empty, check=False).returncode, INPUT)
+        typo = self.write("typo.toml", "[input]\nsampel_rate_hz = 8000\n")
+        result = run("analyze", raw, "--config", typo, check=False)
+        self.assertEqual(result.returncode, SETTINGS)
+        self.assertIn("unknown key 'sampel_rate_hz'", result.stderr)
+
+
 class ReferenceFromDifference(unittest.TestCase):
     def test_injection_computed_as_x_minus_y(self):
         # Without probe noise, z = x - y exactly (DESIGN.md, series injection),

@@ -164,3 +164,14 @@ TEST_CASE("a jittering sample clock is reported and a clean one is not", "[inges
   CHECK(code_of(read(jittery.str())) == "ingest.time-jitter");
   CHECK(read(clean.str()).findings.empty());
 }
+
+TEST_CASE("a gigantic line is refused without growing memory without bound", "[ingest]") {
+  std::string huge = "t,z\n0,";
+  huge.append(20u << 20, '1');  // 20 MiB with no line end
+  CHECK_THAT(message_of(huge), Catch::Contains("line 2 is longer than 16 MiB"));
+}
+
+TEST_CASE("mixed line ends and a truncated last row", "[ingest]") {
+  CHECK(read("t,z\r\n0,1\n0.5,2\r\n1,3").channels[0] == std::vector<double>{1, 2, 3});
+  CHECK_THAT(message_of("t,z,x\n0,1,2\n0.5,2,"), Catch::Contains("line 3, column 3"));
+}
