@@ -65,22 +65,34 @@ Stage read_stage(const toml::table& table, const std::string& where) {
   return stage;
 }
 
-Injection read_injection(const toml::table& table, const std::string& where) {
-  check_keys(table, {"kind", "rms", "low_hz", "high_hz", "period_samples"}, where);
-  Injection injection;
-  const std::string kind = text(table, "kind", where, "noise");
-  if (kind == "noise") {
-    injection.kind = InjectionKind::kNoise;
-  } else if (kind == "multisine") {
-    injection.kind = InjectionKind::kMultisine;
-  } else {
-    throw ConfigError(where + ": kind = '" + kind + "'; choose noise or multisine");
+InjectionKind injection_kind_from_name(const std::string& kind, const std::string& where) {
+  for (InjectionKind k : {InjectionKind::kNoise, InjectionKind::kMultisine, InjectionKind::kPrbs, InjectionKind::kStepped,
+                          InjectionKind::kChirp}) {
+    if (kind == injection_kind_name(k)) return k;
   }
-  injection.rms = number(table, "rms", where);
-  injection.low_hz = number(table, "low_hz", where, 0.0);
-  injection.high_hz = number(table, "high_hz", where, 0.0);
-  injection.period_samples = static_cast<std::size_t>(number(table, "period_samples", where, 8192.0));
-  return injection;
+  throw ConfigError(where + ": kind = '" + kind + "'; choose noise, multisine, prbs, stepped or chirp");
+}
+
+Injection read_injection(const toml::table& table, const std::string& where) {
+  check_keys(table, {"kind", "rms", "low_hz", "high_hz", "period_samples", "odd_only", "prbs_order", "samples_per_bit",
+                     "points", "dwell_s", "sweep", "sweep_s"},
+             where);
+  Injection in;
+  in.kind = injection_kind_from_name(text(table, "kind", where, "noise"), where);
+  in.rms = number(table, "rms", where);
+  in.low_hz = number(table, "low_hz", where, 0.0);
+  in.high_hz = number(table, "high_hz", where, 0.0);
+  in.period_samples = static_cast<std::size_t>(number(table, "period_samples", where, 8192.0));
+  in.odd_only = table["odd_only"].value_or(false);
+  in.prbs_order = static_cast<int>(number(table, "prbs_order", where, 10.0));
+  in.samples_per_bit = static_cast<std::size_t>(number(table, "samples_per_bit", where, 1.0));
+  in.points = static_cast<std::size_t>(number(table, "points", where, 20.0));
+  in.dwell_s = number(table, "dwell_s", where, 0.1);
+  const std::string sweep = text(table, "sweep", where, "log");
+  if (sweep != "log" && sweep != "linear") throw ConfigError(where + ": sweep = '" + sweep + "'; choose log or linear");
+  in.log_sweep = sweep == "log";
+  in.sweep_s = number(table, "sweep_s", where, 1.0);
+  return in;
 }
 
 NoiseSettings read_noise(const toml::table& table, const std::string& where) {
@@ -95,6 +107,26 @@ void require(bool condition, const std::string& message) {
 
 }  // namespace
 
+const char* injection_kind_name(InjectionKind kind) {
+  switch (kind) {
+    case InjectionKind::kNoise: return "noise";
+    case InjectionKind::kMultisine: return "multisine";
+    case InjectionKind::kPrbs: return "prbs";
+    case InjectionKind::kStepped: return "stepped";
+    case InjectionKind::kChirp: return "chirp";
+  }
+  return "noise";
+}
+
+std::size_t Injection::period(double sample_rate_hz) const {
+  switch (kind) {
+    case InjectionKind::kMultisine: return period_samples;
+    case InjectionKind::kPrbs: return ((std::size_t{1} << prbs_order) - 1) * samples_per_bit;
+    case InjectionKind::kChirp: return static_cast<std::size_t>(std::llround(sweep_s * sample_rate_hz));
+    default: return 0;
+  }
+}
+
 std::size_t Scenario::sample_count() const {
   return static_cast<std::size_t>(std::llround(duration_s * sample_rate_hz));
 }
@@ -105,6 +137,15 @@ void Scenario::validate() const {
   require(duration_s > 0.0 && sample_count() >= 16, where + ": [recording] duration_s gives fewer than 16 samples");
   require(injection.rms > 0.0, where + ": [injection] rms must be positive");
   require(injection.period_samples >= 16, where + ": [injection] period_samples must be at least 16");
+  const bool swept = injection.kind == InjectionKind::kStepped || injection.kind == InjectionKind::kChirp;
+  require(!swept || (injection.low_hz > 0.0 && injection.top_hz(sample_rate_hz) > injection.low_hz &&
+                     injection.top_hz(sample_rate_hz) < sample_rate_hz / 2.0),
+          where + ": [injection] a stepped sine or chirp needs 0 < low_hz < high_hz < fs/2");
+  require(injection.points >= 1 && injection.dwell_s * sample_rate_hz >= 16,
+          where + ": [injection] points must be at least 1 and dwell_s at least 16 samples");
+  require(injection.sweep_s * sample_rate_hz >= 16, where + ": [injection] sweep_s must be at least 16 samples");
+  require(injection.samples_per_bit >= 1 && injection.prbs_order >= 5 && injection.prbs_order <= 16,
+          where + ": [injection] prbs_order must be from 5 to 16 and samples_per_bit at least 1");
   require(noise.x_rms >= 0.0 && noise.y_rms >= 0.0 && noise.disturbance_rms >= 0.0,
           where + ": [noise] levels must not be negative");
   require(!stages.empty(), where + ": [loop] needs at least one [[loop.stage]]");

@@ -6,6 +6,7 @@
 #include <random>
 
 #include "loopmargin/error.hpp"
+#include "synth/injection_signal.hpp"
 #include "synth/state_space.hpp"
 
 namespace loopmargin {
@@ -22,16 +23,6 @@ constexpr double kTruthNyquistFraction = 0.499;
 // factor the closed loop is taken to be unstable.
 constexpr double kUnboundedFactor = 1e6;
 
-std::vector<double> scaled_to_rms(std::vector<double> signal, double rms) {
-  double sum = 0.0;
-  for (double v : signal) sum += v * v;
-  const double current = std::sqrt(sum / static_cast<double>(signal.size()));
-  if (current > 0.0) {
-    for (double& v : signal) v *= rms / current;
-  }
-  return signal;
-}
-
 std::vector<double> white_noise(std::size_t count, double rms, std::mt19937_64& rng) {
   std::vector<double> out(count, 0.0);
   if (rms == 0.0) return out;
@@ -42,33 +33,12 @@ std::vector<double> white_noise(std::size_t count, double rms, std::mt19937_64& 
 
 // Samples simulated before the recording starts, so that it opens in steady
 // state as a bench recording does (the injection was running before the
-// acquisition was armed). A whole number of multisine periods.
+// acquisition was armed). A whole number of periods for periodic injections.
 std::size_t warm_up_samples(const Scenario& s) {
   constexpr std::size_t kMinWarmUp = 16384;
-  if (s.injection.kind != InjectionKind::kMultisine) return kMinWarmUp;
-  const std::size_t period = s.injection.period_samples;
+  const std::size_t period = s.injection.period(s.sample_rate_hz);
+  if (period == 0) return kMinWarmUp;
   return (kMinWarmUp + period - 1) / period * period;
-}
-
-// Random-phase multisine with every DFT line of the period inside the band.
-std::vector<double> multisine(const Scenario& s, std::size_t count, std::mt19937_64& rng) {
-  const std::size_t period = s.injection.period_samples;
-  const double spacing_hz = s.sample_rate_hz / static_cast<double>(period);
-  const double high_hz = s.injection.high_hz > 0.0 ? s.injection.high_hz : 0.45 * s.sample_rate_hz;
-  std::uniform_real_distribution<double> phase(0.0, 2.0 * std::numbers::pi);
-  std::vector<double> one_period(period, 0.0);
-  for (std::size_t k = 1; k < period / 2; ++k) {
-    const double f = static_cast<double>(k) * spacing_hz;
-    if (f < s.injection.low_hz || f > high_hz) continue;
-    const double p = phase(rng);
-    for (std::size_t n = 0; n < period; ++n) {
-      one_period[n] += std::cos(2.0 * std::numbers::pi * static_cast<double>(k * n % period) / static_cast<double>(period) + p);
-    }
-  }
-  one_period = scaled_to_rms(std::move(one_period), s.injection.rms);
-  std::vector<double> out(count);
-  for (std::size_t n = 0; n < out.size(); ++n) out[n] = one_period[n % period];
-  return out;
 }
 
 std::vector<double> disturbance(const Scenario& s, std::size_t count, std::mt19937_64& rng) {
@@ -78,7 +48,7 @@ std::vector<double> disturbance(const Scenario& s, std::size_t count, std::mt199
     double state = 0.0;
     for (double& v : d) v = state = a * state + (1.0 - a) * v;
   }
-  return scaled_to_rms(std::move(d), s.noise.disturbance_rms);
+  return detail::scaled_to_rms(std::move(d), s.noise.disturbance_rms);
 }
 
 std::vector<StateSpace> discrete_stages(const Scenario& s) {
@@ -169,8 +139,7 @@ Synthesis synthesize(const Scenario& s) {
   const std::size_t count = s.sample_count();
   const std::size_t warm_up = warm_up_samples(s);
   const std::size_t total = warm_up + count;
-  const std::vector<double> z = s.injection.kind == InjectionKind::kNoise ? white_noise(total, s.injection.rms, rng)
-                                                                          : multisine(s, total, rng);
+  const std::vector<double> z = detail::injection_signal(s, warm_up, count, rng);
   const std::vector<double> d = disturbance(s, total, rng);
   const std::vector<double> x = run_closed_loop(s, z, d);
   const auto x_noise = white_noise(count, s.noise.x_rms, rng);

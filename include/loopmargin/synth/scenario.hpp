@@ -28,14 +28,26 @@ struct Stage {
   Discretization discretization = Discretization::kZeroOrderHold;
 };
 
-enum class InjectionKind { kNoise, kMultisine };
+enum class InjectionKind { kNoise, kMultisine, kPrbs, kStepped, kChirp };
+const char* injection_kind_name(InjectionKind kind);
 
 struct Injection {
   InjectionKind kind = InjectionKind::kNoise;
   double rms = 0.01;
-  double low_hz = 0.0;             // multisine band
-  double high_hz = 0.0;            // 0: up to 0.45 fs
-  std::size_t period_samples = 8192;
+  double low_hz = 0.0;                 // band of multisine, stepped sine and chirp
+  double high_hz = 0.0;                // 0: 0.45 fs
+  std::size_t period_samples = 8192;   // multisine period
+  bool odd_only = false;               // multisine: odd lines of the period only
+  int prbs_order = 10;                 // PRBS: a maximum-length sequence of 2^order - 1 bits
+  std::size_t samples_per_bit = 1;     // PRBS: bit duration
+  std::size_t points = 20;             // stepped sine: log-spaced frequencies
+  double dwell_s = 0.1;                // stepped sine: time at each frequency
+  bool log_sweep = true;               // chirp: logarithmic (else linear) in frequency
+  double sweep_s = 1.0;                // chirp: one sweep, repeated
+
+  // Samples after which the injection repeats; 0 when it does not.
+  std::size_t period(double sample_rate_hz) const;
+  double top_hz(double sample_rate_hz) const { return high_hz > 0.0 ? high_hz : 0.45 * sample_rate_hz; }
 };
 
 struct NoiseSettings {
