@@ -27,4 +27,24 @@ class RealFft {
   std::unique_ptr<Impl> impl_;
 };
 
+// The inverse: length / 2 + 1 complex lines in, `length` real samples out
+// (unnormalised: a forward then inverse transform multiplies by length).
+class InverseRealFft {
+ public:
+  explicit InverseRealFft(std::size_t length);
+  ~InverseRealFft();
+  InverseRealFft(InverseRealFft&&) noexcept;
+  InverseRealFft& operator=(InverseRealFft&&) noexcept;
+  InverseRealFft(const InverseRealFft&) = delete;
+  InverseRealFft& operator=(const InverseRealFft&) = delete;
+
+  std::span<std::complex<double>> input();  // fill, then execute()
+  void execute();
+  std::span<const double> output() const;
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
 }  // namespace loopmargin::detail

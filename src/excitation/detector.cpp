@@ -1,0 +1,302 @@
+#include <algorithm>
+#include <cmath>
+#include <numeric>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/excitation/excitation.hpp"
+#include "loopmargin/format.hpp"
+#include "loopmargin/spectral/window.hpp"
+#include "spectral/fft_plan.hpp"
+
+namespace loopmargin {
+namespace {
+
+// A frame holds one tone when this share of its power sits within two bins
+// of its peak (a Hann-windowed tone puts about 0.99 there; white noise 5/512).
+constexpr double kTonalShare = 0.5;
+// The injection is a tone (stepped or chirp) when this share of frames is tonal.
+constexpr double kTonalFrames = 0.6;
+// Frames quieter than this share of the median frame are gaps, not signal.
+constexpr double kActiveShare = 0.1;
+// Zero-crossing periods within this fraction of a dwell's mean belong to it;
+// one period outside (noise on the injection) is passed over, two in a row
+// start a new dwell.
+constexpr double kSamePeriod = 0.05;
+constexpr std::size_t kMinDwellCycles = 4;
+// Within a dwell of a stepped sine the period holds steady; a chirp's local
+// plateaus drift by about kSamePeriod from end to end.
+constexpr double kMaxDwellDrift = 0.01;
+// Periodic: the normalised autocorrelation at the period reaches this.
+constexpr double kPeriodicMatch = 0.9;
+constexpr std::size_t kMinPeriod = 16;
+// Band of a broadband or periodic injection: lines within this of its peak.
+constexpr double kBandFloor = 0.01;  // 20 dB
+
+struct Frame {
+  double power = 0.0;
+  double tonality = 0.0;
+  double peak_cycles = 0.0;  // peak frequency in cycles per sample
+};
+
+struct Plateau {
+  double start = 0.0;  // sample position of its first upward crossing
+  double end = 0.0;
+  double period_sum = 0.0;
+  double index_period_sum = 0.0;  // sum of i p_i: with period_sum, the trend of the period
+  std::size_t cycles = 0;
+  double mean_period() const { return period_sum / static_cast<double>(cycles); }
+  // How much the period changes from the plateau's first cycle to its last,
+  // relative to its mean (least-squares line): 0 for a steady tone.
+  double drift() const {
+    if (cycles < 3) return 0.0;
+    const double n = static_cast<double>(cycles);
+    const double mean_index = (n - 1.0) / 2.0;
+    const double slope = (index_period_sum - mean_index * period_sum) / (n * (n * n - 1.0) / 12.0);
+    return slope * (n - 1.0) / mean_period();
+  }
+};
+
+}  // namespace
+
+const char* excitation_name(ExcitationKind kind) {
+  switch (kind) {
+    case ExcitationKind::kBroadband: return "broadband";
+    case ExcitationKind::kPeriodic: return "periodic";
+    case ExcitationKind::kStepped: return "stepped";
+    case ExcitationKind::kChirp: return "chirp";
+  }
+  return "broadband";
+}
+
+ExcitationKind excitation_from_name(const std::string& name) {
+  for (ExcitationKind k : {ExcitationKind::kBroadband, ExcitationKind::kPeriodic, ExcitationKind::kStepped,
+                           ExcitationKind::kChirp}) {
+    if (name == excitation_name(k)) return k;
+  }
+  throw ConfigError("unknown excitation '" + name + "'; choose auto, broadband, periodic, stepped or chirp");
+}
+
+struct ExcitationDetector::Impl {
+  std::vector<double> window = make_window(WindowKind::kHann, kFrameSamples);
+  detail::RealFft fft{kFrameSamples};
+  std::vector<double> frame_buffer;
+  std::vector<Frame> frames;
+  std::vector<double> mean_spectrum = std::vector<double>(kFrameSamples / 2 + 1, 0.0);
+  std::vector<double> head;  // the first kPeriodSearchSamples, for the period search
+  std::size_t samples = 0;
+  // Zero-crossing follower.
+  double threshold = 0.0;
+  bool armed = false;
+  double previous = 0.0;
+  double last_crossing = -1.0;
+  Plateau current;
+  bool outlier = false;  // the last period did not fit the current plateau
+  double outlier_from = 0.0;
+  std::vector<Plateau> plateaus;
+
+  void analyse_frame() {
+    const double mean = std::accumulate(frame_buffer.begin(), frame_buffer.end(), 0.0) / kFrameSamples;
+    auto in = fft.input();
+    double energy = 0.0;
+    for (std::size_t i = 0; i < kFrameSamples; ++i) {
+      in[i] = (frame_buffer[i] - mean) * window[i];
+      energy += (frame_buffer[i] - mean) * (frame_buffer[i] - mean);
+    }
+    threshold = 0.25 * std::sqrt(energy / kFrameSamples);  // hysteresis for the next frame's crossings
+    fft.execute();
+    const auto out = fft.output();
+    std::vector<double> power(out.size());
+    for (std::size_t k = 1; k < out.size(); ++k) power[k] = std::norm(out[k]);
+    const auto peak = static_cast<std::size_t>(std::max_element(power.begin() + 1, power.end()) - power.begin());
+    double total = 0.0, near = 0.0;
+    for (std::size_t k = 1; k < power.size(); ++k) {
+      total += power[k];
+      mean_spectrum[k] += power[k];
+      if (k + 2 >= peak && k <= peak + 2) near += power[k];
+    }
+    frames.push_back({total, total > 0.0 ? near / total : 0.0, static_cast<double>(peak) / kFrameSamples});
+    frame_buffer.clear();
+  }
+
+  void close_plateau() {
+    if (current.cycles >= kMinDwellCycles) plateaus.push_back(current);
+    current = Plateau{};
+  }
+
+  void add_period(double from, double to) {
+    const double period = to - from;
+    if (current.cycles > 0 && std::abs(period - current.mean_period()) > kSamePeriod * current.mean_period()) {
+      if (!outlier) {
+        outlier = true;
+        outlier_from = from;
+        return;
+      }
+      close_plateau();
+      current.start = outlier_from;
+    }
+    outlier = false;
+    if (current.cycles == 0 && current.start == 0.0) current.start = from;
+    current.index_period_sum += static_cast<double>(current.cycles) * period;
+    current.period_sum += period;
+    ++current.cycles;
+    current.end = to;
+  }
+
+  // Upward zero crossings with hysteresis, interpolated between samples;
+  // consecutive periods that agree make a plateau (a dwell candidate).
+  void follow(double v) {
+    const double position = static_cast<double>(samples);
+    if (threshold > 0.0 && v < -threshold) armed = true;
+    if (armed && previous < 0.0 && v >= 0.0) {
+      armed = false;
+      const double crossing = position - 1.0 + previous / (previous - v);
+      if (last_crossing >= 0.0) add_period(last_crossing, crossing);
+      last_crossing = crossing;
+    }
+    previous = v;
+  }
+
+  std::optional<std::pair<std::size_t, double>> find_period() const;
+  void find_band(ExcitationPlan& plan, double fs) const;
+  void classify_tone(ExcitationPlan& plan, double fs) const;
+};
+
+void ExcitationDetector::Impl::find_band(ExcitationPlan& plan, double fs) const {
+  const double peak = *std::max_element(mean_spectrum.begin() + 1, mean_spectrum.end());
+  std::size_t low = 0, high = 0;
+  for (std::size_t k = 1; k < mean_spectrum.size(); ++k) {
+    if (peak <= 0.0 || mean_spectrum[k] < kBandFloor * peak) continue;
+    if (low == 0) low = k;
+    high = k;
+  }
+  plan.low_hz = static_cast<double>(low) * fs / kFrameSamples;
+  plan.high_hz = static_cast<double>(high) * fs / kFrameSamples;
+}
+
+// The smallest lag at which the head of the record repeats itself, from its
+// autocorrelation (computed by FFT, zero-padded so that it does not wrap).
+std::optional<std::pair<std::size_t, double>> ExcitationDetector::Impl::find_period() const {
+  const std::size_t n = head.size();
+  if (n < 3 * kMinPeriod) return std::nullopt;
+  std::size_t padded = 1;
+  while (padded < 2 * n) padded <<= 1;
+  detail::RealFft forward(padded);
+  const double mean = std::accumulate(head.begin(), head.end(), 0.0) / static_cast<double>(n);
+  auto in = forward.input();
+  std::fill(in.begin(), in.end(), 0.0);
+  for (std::size_t i = 0; i < n; ++i) in[i] = head[i] - mean;
+  forward.execute();
+  detail::InverseRealFft inverse(padded);
+  auto lines = inverse.input();
+  for (std::size_t k = 0; k < lines.size(); ++k) lines[k] = std::norm(forward.output()[k]);
+  inverse.execute();
+  const auto r = inverse.output();
+  if (!(r[0] > 0.0)) return std::nullopt;
+  // Unbiased and normalised: r(P) (N / (N - P)) / r(0); periods up to a third of the head.
+  std::vector<double> match(n / 3 + 1, 0.0);
+  for (std::size_t p = kMinPeriod; p < match.size(); ++p) {
+    match[p] = r[p] / r[0] * static_cast<double>(n) / static_cast<double>(n - p);
+  }
+  const double best = *std::max_element(match.begin(), match.end());
+  if (best < kPeriodicMatch) return std::nullopt;
+  for (std::size_t p = kMinPeriod; p < match.size(); ++p) {
+    const bool local_peak = match[p] >= match[p - 1] && (p + 1 >= match.size() || match[p] >= match[p + 1]);
+    if (local_peak && match[p] >= 0.98 * best) return std::pair{p, match[p]};
+  }
+  return std::nullopt;
+}
+
+void ExcitationDetector::Impl::classify_tone(ExcitationPlan& plan, double fs) const {
+  std::vector<double> drifts;
+  double covered = 0.0;
+  for (const Plateau& p : plateaus) {
+    covered += p.end - p.start;
+    drifts.push_back(std::abs(p.drift()));
+  }
+  std::nth_element(drifts.begin(), drifts.begin() + drifts.size() / 2, drifts.end());
+  const bool stepped = plateaus.size() >= 2 && covered > 0.5 * static_cast<double>(samples) &&
+                       drifts[drifts.size() / 2] < kMaxDwellDrift;
+  if (stepped) {
+    plan.kind = ExcitationKind::kStepped;
+    for (const Plateau& p : plateaus) {
+      plan.dwells.push_back({static_cast<std::size_t>(std::ceil(p.start)), static_cast<std::size_t>(std::floor(p.end)),
+                             fs / p.mean_period()});
+    }
+    const auto [lo, hi] = std::minmax_element(plan.dwells.begin(), plan.dwells.end(),
+                                              [](const Dwell& a, const Dwell& b) { return a.frequency_hz < b.frequency_hz; });
+    plan.low_hz = lo->frequency_hz;
+    plan.high_hz = hi->frequency_hz;
+    return;
+  }
+  plan.kind = ExcitationKind::kChirp;
+  std::vector<double> peaks;
+  for (const Frame& f : frames) {
+    if (f.tonality > kTonalShare) peaks.push_back(f.peak_cycles * fs);
+  }
+  std::sort(peaks.begin(), peaks.end());
+  plan.low_hz = peaks[peaks.size() / 20];
+  plan.high_hz = peaks[peaks.size() - 1 - peaks.size() / 20];
+}
+
+ExcitationDetector::ExcitationDetector() : impl_(std::make_unique<Impl>()) {}
+ExcitationDetector::~ExcitationDetector() = default;
+ExcitationDetector::ExcitationDetector(ExcitationDetector&&) noexcept = default;
+ExcitationDetector& ExcitationDetector::operator=(ExcitationDetector&&) noexcept = default;
+
+void ExcitationDetector::push(std::span<const double> injection) {
+  Impl& s = *impl_;
+  for (double v : injection) {
+    if (s.head.size() < kPeriodSearchSamples) s.head.push_back(v);
+    s.frame_buffer.push_back(v);
+    if (s.frame_buffer.size() == kFrameSamples) s.analyse_frame();
+    s.follow(v);
+    ++s.samples;
+  }
+}
+
+ExcitationPlan ExcitationDetector::finish(double sample_rate_hz) {
+  Impl& s = *impl_;
+  ExcitationPlan plan;
+  s.close_plateau();
+  if (s.frames.empty()) return plan;  // too short to say: treated as broadband
+  std::vector<double> powers;
+  for (const Frame& f : s.frames) powers.push_back(f.power);
+  std::nth_element(powers.begin(), powers.begin() + powers.size() / 2, powers.end());
+  const double active = kActiveShare * powers[powers.size() / 2];
+  std::size_t active_frames = 0, tonal_frames = 0;
+  for (const Frame& f : s.frames) {
+    if (f.power < active) continue;
+    ++active_frames;
+    if (f.tonality > kTonalShare) ++tonal_frames;
+  }
+  plan.tonal_fraction = active_frames ? static_cast<double>(tonal_frames) / static_cast<double>(active_frames) : 0.0;
+  if (plan.tonal_fraction > kTonalFrames) {
+    s.classify_tone(plan, sample_rate_hz);
+    return plan;
+  }
+  s.find_band(plan, sample_rate_hz);
+  if (const auto period = s.find_period()) {
+    plan.kind = ExcitationKind::kPeriodic;
+    plan.period_samples = period->first;
+    plan.period_match = period->second;
+  }
+  return plan;
+}
+
+std::string ExcitationPlan::describe(double sample_rate_hz) const {
+  std::ostringstream out;
+  out << excitation_name(kind);
+  switch (kind) {
+    case ExcitationKind::kPeriodic:
+      out << ", period " << period_samples << " samples (" << format_time(static_cast<double>(period_samples) / sample_rate_hz)
+          << ", match " << std::lround(100.0 * period_match) << " %)";
+      break;
+    case ExcitationKind::kStepped: out << ", " << dwells.size() << " dwells"; break;
+    default: break;
+  }
+  out << ", " << format_frequency(low_hz) << " to " << format_frequency(high_hz);
+  return out.str();
+}
+
+}  // namespace loopmargin
