@@ -5,6 +5,8 @@
 
 #include "loopmargin/error.hpp"
 #include "loopmargin/ingest/quality.hpp"
+#include "loopmargin/spectral/periodic.hpp"
+#include "loopmargin/spectral/stepped.hpp"
 
 namespace loopmargin {
 namespace {
@@ -54,20 +56,79 @@ void append(Diagnostics& to, const Diagnostics& from) { to.insert(to.end(), from
 
 }  // namespace
 
-AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
-  options.welch.validate();
+namespace {
+
+// Reads the source to its end: channel roles, screening, then `consume` for
+// each block of (injection, x, y). Returns what the reader knew at the end.
+template <typename Consume>
+SourceSummary stream(SampleSource& source, const AnalysisOptions& options, QualityMonitor* quality, Consume consume,
+                     const ProgressFunction& progress) {
   RoleSelector roles(source, options.roles);
-  WelchAccumulator welch(3, options.welch);
-  QualityMonitor quality({options.roles.injection, options.roles.x, options.roles.y}, kReferenceChannel,
-                         source.origin());
   SampleBlock block;
+  std::size_t samples = 0;
   while (source.next(block)) {
     const auto selected = roles.select(block);
-    quality.push(selected, block.first_sample);
-    welch.push(selected);
-    if (progress) progress(welch.samples_seen());
+    if (quality) quality->push(selected, block.first_sample);
+    consume(selected, block.first_sample);
+    samples += block.size();
+    if (progress) progress(samples);
   }
-  SourceSummary summary = source.summary();
+  return source.summary();
+}
+
+QualityMonitor quality_monitor(const SampleSource& source, const AnalysisOptions& options) {
+  return QualityMonitor({options.roles.injection, options.roles.x, options.roles.y}, kReferenceChannel, source.origin());
+}
+
+// The stages after the response: loop, margins, findings.
+AnalysisResult finish_result(SampleSource& source, const AnalysisOptions& options, SourceSummary summary,
+                             const Response& measured, Diagnostics findings, std::size_t averages_segments,
+                             double effective_averages) {
+  AnalysisResult result;
+  result.origin = source.origin();
+  result.options = options;
+  result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles,
+                              averages_segments, effective_averages};
+  result.findings = std::move(summary.findings);
+  append(result.findings, findings);
+  result.loop = to_loop(measured, options.convention, result.findings);
+  result.margins = find_margins(result.loop.lines, options.margins);
+  append(result.findings, result.margins.findings);
+  return result;
+}
+
+AnalysisResult analyze_periodic(SampleSource& source, const AnalysisOptions& options, std::size_t period,
+                                const ProgressFunction& progress) {
+  PeriodicAccumulator periodic({period, options.skip_periods, options.response.injection_floor_db});
+  QualityMonitor quality = quality_monitor(source, options);
+  SourceSummary summary = stream(
+      source, options, &quality, [&](const auto& selected, std::size_t) { periodic.push(selected); }, progress);
+  Diagnostics findings = quality.findings();
+  const Response measured = periodic.finish(summary.sample_rate_hz, findings);
+  return finish_result(source, options, std::move(summary), measured, std::move(findings), periodic.periods_used(),
+                       static_cast<double>(periodic.periods_used()));
+}
+
+AnalysisResult analyze_stepped(SampleSource& source, const AnalysisOptions& options, const ExcitationPlan& plan,
+                               double sample_rate_hz, const ProgressFunction& progress) {
+  SteppedSineEstimator stepped({plan.dwells, sample_rate_hz, options.settle_cycles, options.settle_s});
+  QualityMonitor quality = quality_monitor(source, options);
+  SourceSummary summary = stream(
+      source, options, &quality, [&](const auto& selected, std::size_t first) { stepped.push(selected, first); },
+      progress);
+  Diagnostics findings = quality.findings();
+  const Response measured = stepped.finish(findings);
+  return finish_result(source, options, std::move(summary), measured, std::move(findings), measured.size(), 1.0);
+}
+
+}  // namespace
+
+AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
+  options.welch.validate();
+  WelchAccumulator welch(3, options.welch);
+  QualityMonitor quality = quality_monitor(source, options);
+  SourceSummary summary = stream(
+      source, options, &quality, [&](const auto& selected, std::size_t) { welch.push(selected); }, progress);
   if (welch.segments_done() == 0) {
     std::ostringstream message;
     message << source.origin() << ": the record has " << summary.sample_count << " samples, fewer than one segment of "
@@ -75,19 +136,68 @@ AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& op
     throw InputError(message.str());
   }
   const CrossSpectra spectra = welch.finish(summary.sample_rate_hz);
+  Diagnostics findings = quality.findings();
+  append(findings, spectral_findings(spectra, {options.roles.injection, options.roles.x, options.roles.y}));
+  const Response measured = estimate_response(spectra, options.response, findings);
+  return finish_result(source, options, std::move(summary), measured, std::move(findings), spectra.segments,
+                       spectra.effective_averages);
+}
 
+Inspection inspect_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
+  ExcitationDetector detector;
+  QualityMonitor quality = quality_monitor(source, options);
+  SourceSummary summary = stream(
+      source, options, &quality, [&](const auto& selected, std::size_t) { detector.push(selected[0]); }, progress);
+  Inspection out;
+  out.origin = source.origin();
+  out.sample_rate_hz = summary.sample_rate_hz;
+  out.sample_count = summary.sample_count;
+  out.channel_names = source.channel_names();
+  out.excitation = detector.finish(summary.sample_rate_hz);
+  out.findings = std::move(summary.findings);
+  append(out.findings, quality.findings());
+  append(out.findings, out.excitation.findings);
+  return out;
+}
+
+AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options, const ProgressFunction& progress) {
+  const auto forced = options.excitation;
+  const bool need_plan = !forced || *forced == ExcitationKind::kStepped ||
+                         (*forced == ExcitationKind::kPeriodic && options.period_samples == 0);
+  if (!need_plan) {
+    const auto source = open();
+    AnalysisResult result = *forced == ExcitationKind::kPeriodic
+                                ? analyze_periodic(*source, options, options.period_samples, progress)
+                                : analyze_recording(*source, options, progress);
+    result.excitation_kind = *forced;
+    return result;
+  }
+  ExcitationDetector detector;
+  double sample_rate_hz = 0.0;
+  {
+    const auto source = open();
+    sample_rate_hz = stream(
+        *source, options, nullptr, [&](const auto& selected, std::size_t) { detector.push(selected[0]); }, {})
+                         .sample_rate_hz;
+  }
+  ExcitationPlan plan = detector.finish(sample_rate_hz);
+  const ExcitationKind kind = forced.value_or(plan.kind);
+  const auto source = open();
   AnalysisResult result;
-  result.origin = source.origin();
-  result.options = options;
-  result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles,
-                              spectra.segments, spectra.effective_averages};
-  result.findings = std::move(summary.findings);
-  append(result.findings, quality.findings());
-  append(result.findings, spectral_findings(spectra, {options.roles.injection, options.roles.x, options.roles.y}));
-  const Response measured = estimate_response(spectra, options.response, result.findings);
-  result.loop = to_loop(measured, options.convention, result.findings);
-  result.margins = find_margins(result.loop.lines, options.margins);
-  append(result.findings, result.margins.findings);
+  if (kind == ExcitationKind::kPeriodic) {
+    if (plan.period_samples == 0) {
+      throw NumericalError(source->origin() + ": no period found in the injection; give the period in samples");
+    }
+    result = analyze_periodic(*source, options, options.period_samples ? options.period_samples : plan.period_samples,
+                              progress);
+  } else if (kind == ExcitationKind::kStepped) {
+    if (plan.dwells.empty()) throw NumericalError(source->origin() + ": no dwells of a stepped sine found in the injection");
+    result = analyze_stepped(*source, options, plan, sample_rate_hz, progress);
+  } else {
+    result = analyze_recording(*source, options, progress);
+  }
+  result.excitation_kind = kind;
+  result.excitation = std::move(plan);
   return result;
 }
 

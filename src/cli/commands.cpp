@@ -58,7 +58,9 @@ struct AnalyzeArgs {
   std::string csv_path;
   std::string truth_path;
   bool quiet = false;
-  std::string format, time_column, window, estimator, convention, z, x, y;
+  std::string format, time_column, window, estimator, convention, z, x, y, excitation;
+  std::size_t period = 0;
+  double settle_cycles = 0.0;
   std::vector<std::string> channels;
   double sample_rate_hz = 0.0;
   std::size_t segment = 0;
@@ -66,7 +68,11 @@ struct AnalyzeArgs {
   double injection_floor_db = 0.0;
   CLI::App* command = nullptr;
 
-  bool given(const char* option) const { return command->get_option(option)->count() > 0; }
+  // True when the option exists for this verb and was given.
+  bool given(const char* option) const {
+    const CLI::Option* o = command->get_option_no_throw(option);
+    return o != nullptr && o->count() > 0;
+  }
 };
 
 RunSettings resolve(const AnalyzeArgs& a) {
@@ -86,6 +92,11 @@ RunSettings resolve(const AnalyzeArgs& a) {
   if (a.given("--estimator")) o.response.estimator = estimator_from_name(a.estimator);
   if (a.given("--convention")) o.convention = convention_from_name(a.convention);
   if (a.given("--injection-floor")) o.response.injection_floor_db = a.injection_floor_db;
+  if (a.given("--excitation")) {
+    o.excitation = a.excitation == "auto" ? std::nullopt : std::optional(excitation_from_name(a.excitation));
+  }
+  if (a.given("--period")) o.period_samples = a.period;
+  if (a.given("--settle-cycles")) o.settle_cycles = a.settle_cycles;
   if (r.sample_rate_hz && !(*r.sample_rate_hz > 0.0)) throw ConfigError("the sample rate must be positive");
   o.welch.validate();
   return s;
@@ -102,9 +113,9 @@ void run_analyze(const AnalyzeArgs& a) {
   const RunSettings settings = resolve(a);
   const std::optional<MarginSummary> truth =
       a.truth_path.empty() ? std::nullopt : std::optional(read_truth_summary(a.truth_path));
-  const auto source = open_recording(a.recording, settings.recording);
+  const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
   Progress progress(a.quiet);
-  const AnalysisResult result = analyze_recording(*source, settings.analysis, progress.function());
+  const AnalysisResult result = analyze(open, settings.analysis, progress.function());
   write_outputs(result, a.json_path, a.csv_path);
   write_text_report(std::cout, result, truth);
 }
@@ -145,10 +156,39 @@ void add_analyze(CLI::App& app) {
   cmd->add_option("--injection-floor", a->injection_floor_db,
                   "Report lines whose injection power is within this many dB of its peak [40]")
       ->type_name("DB");
+  cmd->add_option("--excitation", a->excitation, "auto, broadband, periodic, stepped or chirp [auto: found]")
+      ->type_name("NAME");
+  cmd->add_option("--period", a->period, "Periodic: the period in samples [found]")->type_name("N");
+  cmd->add_option("--settle-cycles", a->settle_cycles, "Stepped: cycles dropped at each dwell's start [3]")
+      ->type_name("N");
   cmd->add_option("--truth", a->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
       ->type_name("FILE");
   cmd->add_flag("--quiet", a->quiet, "No progress display");
   cmd->callback([a] { run_analyze(*a); });
+}
+
+void add_inspect(CLI::App& app) {
+  auto a = std::make_shared<AnalyzeArgs>();
+  auto* cmd = app.add_subcommand("inspect", "What a recording holds: its excitation and data-quality findings");
+  a->command = cmd;
+  cmd->add_option("recording", a->recording, "Recording: CSV/TSV text, raw binary, WAV or HDF5")
+      ->required()
+      ->type_name("FILE");
+  cmd->add_option("--config", a->config_path, "Run settings (TOML)")->type_name("FILE");
+  cmd->add_option("--format", a->format, "auto, text, raw, wav or hdf5 [auto]")->type_name("NAME");
+  cmd->add_option("--channels", a->channels, "Channel names in file order [z,x,y]")->delimiter(',')->type_name("NAMES");
+  cmd->add_option("--z", a->z, "Channel holding the injection [z]")->type_name("NAME");
+  cmd->add_option("--x", a->x, "Loop signal after the injection point [x]")->type_name("NAME");
+  cmd->add_option("--y", a->y, "Loop signal before the injection point [y]")->type_name("NAME");
+  cmd->add_option("--time-column", a->time_column, "Text: column holding time")->type_name("NAME");
+  cmd->add_option("--sample-rate", a->sample_rate_hz, "Sample rate in Hz")->type_name("HZ");
+  cmd->add_flag("--quiet", a->quiet, "No progress display");
+  cmd->callback([a] {
+    const RunSettings settings = resolve(*a);
+    const auto source = open_recording(a->recording, settings.recording);
+    Progress progress(a->quiet);
+    write_inspection(std::cout, inspect_recording(*source, settings.analysis, progress.function()));
+  });
 }
 
 void add_margins(CLI::App& app) {

@@ -20,6 +20,7 @@ enum ExitCode : int {
 
 void add_analyze(CLI::App& app);
 void add_margins(CLI::App& app);
+void add_inspect(CLI::App& app);
 void add_synth(CLI::App& app);
 
 }  // namespace loopmargin::cli

@@ -10,6 +10,7 @@ int main(int argc, char** argv) {
   app.set_version_flag("--version", std::string("loopmargin ") + LOOPMARGIN_VERSION);
   app.require_subcommand(1);
   cli::add_analyze(app);
+  cli::add_inspect(app);
   cli::add_margins(app);
   cli::add_synth(app);
   try {

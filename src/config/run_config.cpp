@@ -64,6 +64,17 @@ void read_spectral(const toml::table& t, const std::string& where, AnalysisOptio
   set_if(optional_number(t, "injection_floor_db", where), a.response.injection_floor_db);
 }
 
+void read_excitation(const toml::table& t, const std::string& where, AnalysisOptions& a) {
+  check_keys(t, {"kind", "period_samples", "skip_periods", "settle_cycles", "settle_s"}, where);
+  if (const auto kind = optional_text(t, "kind", where)) {
+    a.excitation = *kind == "auto" ? std::nullopt : std::optional(excitation_from_name(*kind));
+  }
+  if (const auto p = optional_number(t, "period_samples", where)) a.period_samples = whole_number(*p, where, "period_samples");
+  if (const auto p = optional_number(t, "skip_periods", where)) a.skip_periods = whole_number(*p, where, "skip_periods");
+  set_if(optional_number(t, "settle_cycles", where), a.settle_cycles);
+  set_if(optional_number(t, "settle_s", where), a.settle_s);
+}
+
 }  // namespace
 
 Estimator estimator_from_name(const std::string& name) {
@@ -74,7 +85,8 @@ Estimator estimator_from_name(const std::string& name) {
 
 RunSettings load_run_settings(const std::string& path, RunSettings settings) {
   const toml::table root = detail::parse_toml_file(path);
-  check_keys(root, {"input", "roles", "spectral", "loop"}, path);
+  check_keys(root, {"input", "roles", "excitation", "spectral", "loop"}, path);
+  if (const auto* t = optional_table(root, "excitation", path)) read_excitation(*t, path + " [excitation]", settings.analysis);
   if (const auto* t = optional_table(root, "input", path)) read_input(*t, path + " [input]", settings.recording);
   if (const auto* t = optional_table(root, "roles", path)) read_roles(*t, path + " [roles]", settings.analysis.roles);
   if (const auto* t = optional_table(root, "spectral", path)) read_spectral(*t, path + " [spectral]", settings.analysis);

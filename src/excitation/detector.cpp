@@ -230,13 +230,7 @@ void ExcitationDetector::Impl::classify_tone(ExcitationPlan& plan, double fs) co
     return;
   }
   plan.kind = ExcitationKind::kChirp;
-  std::vector<double> peaks;
-  for (const Frame& f : frames) {
-    if (f.tonality > kTonalShare) peaks.push_back(f.peak_cycles * fs);
-  }
-  std::sort(peaks.begin(), peaks.end());
-  plan.low_hz = peaks[peaks.size() / 20];
-  plan.high_hz = peaks[peaks.size() - 1 - peaks.size() / 20];
+  find_band(plan, fs);
 }
 
 ExcitationDetector::ExcitationDetector() : impl_(std::make_unique<Impl>()) {}

@@ -13,6 +13,7 @@ namespace {
 
 constexpr std::size_t kClipRun = 3;            // equal samples at an extreme that make a flat top
 constexpr double kClipFraction = 1e-5;         // of all samples, before it is reported
+constexpr double kTwoLevel = 0.5;
 constexpr double kDriftOverInjection = 1.0;    // trend over the record against the injection's RMS
 constexpr double kOffsetOverInjection = 100.0;
 
@@ -121,7 +122,9 @@ Diagnostics QualityMonitor::channel_findings(std::size_t index, double injection
   const std::string& name = names_[index];
   const double n = static_cast<double>(samples_);
   const std::size_t clipped = c.at_max_in_runs + c.at_min_in_runs;
-  if (clipped > 0 && static_cast<double>(clipped) >= kClipFraction * n) {
+  // Over half the samples at the extremes is a two-level signal (a PRBS, a
+  // square wave), not clipping.
+  if (clipped > 0 && static_cast<double>(clipped) >= kClipFraction * n && static_cast<double>(clipped) < kTwoLevel * n) {
     std::ostringstream message;
     message << "channel '" << name << "' sits at its extreme value (" << c.min << " or " << c.max << ") in runs for "
             << clipped << " samples (" << 100.0 * clipped / n

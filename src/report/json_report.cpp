@@ -88,6 +88,14 @@ Json method_json(const AnalysisResult& result) {
     return out;
   }
   const auto& o = result.options;
+  if (result.excitation_kind) out["excitation"] = excitation_name(*result.excitation_kind);
+  if (result.excitation) {
+    out["excitation_found"] = {{"kind", excitation_name(result.excitation->kind)},
+                               {"low_hz", result.excitation->low_hz},
+                               {"high_hz", result.excitation->high_hz},
+                               {"period_samples", result.excitation->period_samples},
+                               {"dwells", result.excitation->dwells.size()}};
+  }
   out["estimator"] = o.response.estimator == Estimator::kReference ? "reference" : "two-channel";
   out["window"] = window_name(o.welch.window);
   out["segment_length"] = o.welch.segment_length;

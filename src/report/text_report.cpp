@@ -47,9 +47,23 @@ std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
 
 void write_method(std::ostream& out, const AnalysisResult& r) {
   out << "loopmargin " << LOOPMARGIN_VERSION << "  " << r.origin << "\n";
-  if (r.record) {
+  if (r.record && r.excitation_kind && *r.excitation_kind != ExcitationKind::kBroadband &&
+      *r.excitation_kind != ExcitationKind::kChirp) {
+    const auto& rec = *r.record;
+    out << "  recording   " << rec.sample_count << " samples at " << format_frequency(rec.sample_rate_hz) << " ("
+        << format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) << "); z = " << rec.roles.injection
+        << ", x = " << rec.roles.x << ", y = " << rec.roles.y << "\n";
+    out << "  excitation  " << (r.excitation ? r.excitation->describe(rec.sample_rate_hz) : excitation_name(*r.excitation_kind))
+        << "\n";
+    out << "  estimate    "
+        << (*r.excitation_kind == ExcitationKind::kPeriodic
+                ? "spectra of whole periods averaged (" + std::to_string(rec.segments) + " periods), Y/X at the excited lines"
+                : "IEEE 1057 sine fits, one line per dwell (" + std::to_string(rec.segments) + " dwells), Y/X of the phasors")
+        << "\n";
+  } else if (r.record) {
     const auto& rec = *r.record;
     const auto& w = r.options.welch;
+    if (r.excitation) out << "  excitation  " << r.excitation->describe(rec.sample_rate_hz) << "\n";
     out << "  recording   " << rec.sample_count << " samples at " << format_frequency(rec.sample_rate_hz) << " ("
         << format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) << "); z = " << rec.roles.injection
         << ", x = " << rec.roles.x << ", y = " << rec.roles.y << "\n";
@@ -105,6 +119,24 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
   for (const auto& d : result.findings) {
     out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
   }
+}
+
+void write_inspection(std::ostream& out, const Inspection& i) {
+  out << "loopmargin " << LOOPMARGIN_VERSION << "  " << i.origin << "\n";
+  out << "  recording   " << i.sample_count << " samples at " << format_frequency(i.sample_rate_hz) << " ("
+      << format_time(static_cast<double>(i.sample_count) / i.sample_rate_hz) << "); channels";
+  for (const auto& name : i.channel_names) out << " " << name;
+  out << "\n  excitation  " << i.excitation.describe(i.sample_rate_hz) << "\n";
+  if (i.excitation.kind == ExcitationKind::kStepped) {
+    out << "  dwells     ";
+    for (std::size_t k = 0; k < i.excitation.dwells.size() && k < 8; ++k) {
+      out << " " << format_frequency(i.excitation.dwells[k].frequency_hz);
+    }
+    if (i.excitation.dwells.size() > 8) out << " ... (" << i.excitation.dwells.size() << " in all)";
+    out << "\n";
+  }
+  if (!i.findings.empty()) out << "\n  findings\n";
+  for (const auto& d : i.findings) out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
 }
 
 }  // namespace loopmargin

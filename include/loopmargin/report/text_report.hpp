@@ -16,4 +16,7 @@ void write_text_report(std::ostream& out, const AnalysisResult& result,
                        const std::optional<MarginSummary>& truth = std::nullopt,
                        const std::string& value_heading = "measured");
 
+// What `inspect` prints: the recording, the excitation found, the findings.
+void write_inspection(std::ostream& out, const Inspection& inspection);
+
 }  // namespace loopmargin

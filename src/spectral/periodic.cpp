@@ -1,0 +1,137 @@
+#include "loopmargin/spectral/periodic.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/format.hpp"
+#include "loopmargin/units.hpp"
+#include "spectral/fft_plan.hpp"
+
+namespace loopmargin {
+namespace {
+
+using Complex = std::complex<double>;
+constexpr std::size_t kChannels = 3;  // injection, x, y
+
+// Sums over periods for one line.
+struct LineSums {
+  Complex sum[kChannels] = {};
+  double power[kChannels] = {};  // sum |U_p|^2
+  Complex xy = 0.0;              // sum Y_p conj(X_p)
+};
+
+}  // namespace
+
+struct PeriodicAccumulator::Impl {
+  PeriodicOptions options;
+  detail::RealFft fft;
+  std::vector<std::vector<double>> pending = std::vector<std::vector<double>>(kChannels);
+  std::vector<LineSums> lines;
+  std::size_t periods_seen = 0;
+  std::size_t periods_used = 0;
+  std::vector<Complex> spectrum[kChannels];
+
+  explicit Impl(const PeriodicOptions& o) : options(o), fft(o.period_samples), lines(o.period_samples / 2 + 1) {}
+
+  void take_period(std::size_t offset) {
+    const std::size_t p = options.period_samples;
+    for (std::size_t c = 0; c < kChannels; ++c) {
+      const auto first = pending[c].begin() + static_cast<std::ptrdiff_t>(offset);
+      std::copy(first, first + static_cast<std::ptrdiff_t>(p), fft.input().begin());
+      fft.execute();
+      spectrum[c].assign(fft.output().begin(), fft.output().end());
+    }
+    for (std::size_t k = 0; k < lines.size(); ++k) {
+      LineSums& l = lines[k];
+      for (std::size_t c = 0; c < kChannels; ++c) {
+        l.sum[c] += spectrum[c][k];
+        l.power[c] += std::norm(spectrum[c][k]);
+      }
+      l.xy += spectrum[2][k] * std::conj(spectrum[1][k]);
+    }
+    ++periods_used;
+  }
+};
+
+PeriodicAccumulator::PeriodicAccumulator(const PeriodicOptions& options) {
+  if (options.period_samples < 16) throw ConfigError("the period must be at least 16 samples");
+  impl_ = std::make_unique<Impl>(options);
+}
+PeriodicAccumulator::~PeriodicAccumulator() = default;
+PeriodicAccumulator::PeriodicAccumulator(PeriodicAccumulator&&) noexcept = default;
+PeriodicAccumulator& PeriodicAccumulator::operator=(PeriodicAccumulator&&) noexcept = default;
+
+std::size_t PeriodicAccumulator::periods_used() const { return impl_->periods_used; }
+
+void PeriodicAccumulator::push(std::span<const std::span<const double>> channels) {
+  Impl& s = *impl_;
+  if (channels.size() != kChannels) throw std::invalid_argument("PeriodicAccumulator takes injection, x and y");
+  for (std::size_t c = 0; c < kChannels; ++c) s.pending[c].insert(s.pending[c].end(), channels[c].begin(), channels[c].end());
+  const std::size_t p = s.options.period_samples;
+  std::size_t offset = 0;
+  for (; offset + p <= s.pending[0].size(); offset += p) {
+    if (s.periods_seen++ >= s.options.skip_periods) s.take_period(offset);
+  }
+  for (auto& v : s.pending) v.erase(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(offset));
+}
+
+Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& findings) {
+  const Impl& s = *impl_;
+  const double n = static_cast<double>(s.periods_used);
+  if (s.periods_used < 2) {
+    throw NumericalError("periodic averaging needs at least two whole periods after the " +
+                         std::to_string(s.options.skip_periods) + " skipped; the record holds " +
+                         std::to_string(s.periods_seen) + " periods of " + std::to_string(s.options.period_samples) +
+                         " samples");
+  }
+  const auto mean = [&](const LineSums& l, std::size_t c) { return l.sum[c] / n; };
+  // var of the mean of channel c: (sum |U|^2 - n |mean|^2) / (n (n - 1))
+  const auto variance = [&](const LineSums& l, std::size_t c) {
+    return std::max(0.0, l.power[c] - n * std::norm(mean(l, c))) / (n * (n - 1.0));
+  };
+  double peak = 0.0;
+  for (std::size_t k = 1; k < s.lines.size(); ++k) peak = std::max(peak, std::norm(mean(s.lines[k], 0)));
+  if (!(peak > 0.0)) throw NumericalError("the injection channel is flat: it carries no periodic injection");
+  const double floor = peak * std::pow(10.0, -s.options.injection_floor_db / 10.0);
+  const std::size_t last = (s.options.period_samples - 1) / 2;  // never DC or Nyquist
+  Response r;
+  r.effective_averages = n;
+  double excited_power = 0.0, other_power = 0.0;
+  std::size_t excited = 0, others = 0;
+  for (std::size_t k = 1; k <= last; ++k) {
+    const LineSums& l = s.lines[k];
+    const Complex x = mean(l, 1), y = mean(l, 2);
+    if (std::norm(mean(l, 0)) < floor) {
+      other_power += l.power[2] / n;
+      ++others;
+      continue;
+    }
+    excited_power += std::norm(y);
+    ++excited;
+    const Complex covariance = (l.xy - n * y * std::conj(x)) / (n * (n - 1.0));
+    const double relative = variance(l, 2) / std::norm(y) + variance(l, 1) / std::norm(x) -
+                            2.0 * (covariance / (y * std::conj(x))).real();
+    r.frequency_hz.push_back(static_cast<double>(k) * sample_rate_hz / static_cast<double>(s.options.period_samples));
+    r.value.push_back(y / x);
+    // The share of each channel's power that repeats from period to period.
+    r.coherence.push_back(std::min(std::norm(x) / (l.power[1] / n), std::norm(y) / (l.power[2] / n)));
+    r.relative_sigma.push_back(std::sqrt(std::max(0.0, relative) / 2.0));
+  }
+  if (r.size() == 0) throw NumericalError("no line of the period carries injection power above the floor");
+  if (!s.pending[0].empty()) {
+    findings.push_back(make_note("spectral.partial-period",
+                                 "the record ends " + std::to_string(s.pending[0].size()) + " samples into a period of " +
+                                     std::to_string(s.options.period_samples) + "; those samples are not used"));
+  }
+  if (others > 0 && excited > 0) {
+    std::ostringstream message;
+    message << "lines the injection does not excite hold, in y, " << std::lround(db_from_power((other_power / others) / (excited_power / excited)))
+            << " dB against the excited lines: noise and distortion (averaged over " << s.periods_used << " periods)";
+    findings.push_back(make_note("spectral.unexcited-lines", message.str()));
+  }
+  return r;
+}
+
+}  // namespace loopmargin

@@ -1,0 +1,149 @@
+#include "loopmargin/spectral/stepped.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/format.hpp"
+#include "loopmargin/spectral/sine_fit.hpp"
+#include "loopmargin/units.hpp"
+
+namespace loopmargin {
+namespace {
+
+constexpr std::size_t kChannels = 3;
+
+struct Window {
+  std::size_t first = 0;  // after settling
+  std::size_t end = 0;
+};
+
+}  // namespace
+
+struct SteppedSineEstimator::Impl {
+  SteppedOptions options;
+  std::vector<Window> windows;
+  std::size_t current = 0;
+  std::vector<double> buffer[kChannels];
+  Response response;
+  std::vector<DwellResult> results;
+  std::vector<double> too_short_hz;
+  std::vector<double> distorted_hz;
+
+  explicit Impl(SteppedOptions o) : options(std::move(o)) {
+    for (const Dwell& d : options.dwells) {
+      const double settle = std::max(options.settle_cycles / d.frequency_hz, options.settle_s) * options.sample_rate_hz;
+      windows.push_back({d.first_sample + static_cast<std::size_t>(std::ceil(settle)), d.end_sample});
+    }
+  }
+
+  void fit_current() {
+    const Dwell& d = options.dwells[current];
+    const std::size_t n = buffer[0].size();
+    const double fs = options.sample_rate_hz;
+    if (static_cast<double>(n) < fs / d.frequency_hz || n < 16) {  // less than one cycle after settling
+      too_short_hz.push_back(d.frequency_hz);
+      return;
+    }
+    const SineFit z = fit_sine_four(buffer[0], d.frequency_hz, fs);
+    const SineFit x = fit_sine_three(buffer[1], z.frequency_hz, fs);
+    const SineFit y = fit_sine_three(buffer[2], z.frequency_hz, fs);
+    if (x.amplitude() == 0.0 || y.amplitude() == 0.0) return;
+    const double relative = 4.0 * x.residual_rms * x.residual_rms / (n * std::norm(x.phasor())) +
+                            4.0 * y.residual_rms * y.residual_rms / (n * std::norm(y.phasor()));
+    const auto snr = [](const SineFit& f) {
+      return f.residual_rms > 0.0 ? db_from_power(f.amplitude() * f.amplitude() / 2.0 / (f.residual_rms * f.residual_rms))
+                                  : 300.0;
+    };
+    double worst = 0.0;
+    for (const SineFit* f : {&x, &y}) {
+      const std::vector<double>& samples = f == &x ? buffer[1] : buffer[2];
+      for (double h : harmonic_amplitudes(samples, z.frequency_hz, fs)) worst = std::max(worst, h / f->amplitude());
+    }
+    if (worst > options.max_harmonic_ratio) distorted_hz.push_back(z.frequency_hz);
+    const double snr_db = std::min(snr(x), snr(y));
+    response.frequency_hz.push_back(z.frequency_hz);
+    response.value.push_back(y.phasor() / x.phasor());
+    response.coherence.push_back(1.0 / (1.0 + std::pow(10.0, -snr_db / 10.0)));
+    response.relative_sigma.push_back(std::sqrt(relative / 2.0));
+    results.push_back({z.frequency_hz, snr_db, worst});
+  }
+
+  void next_dwell() {
+    fit_current();
+    for (auto& b : buffer) b.clear();
+    ++current;
+  }
+};
+
+SteppedSineEstimator::SteppedSineEstimator(SteppedOptions options) : impl_(std::make_unique<Impl>(std::move(options))) {}
+SteppedSineEstimator::~SteppedSineEstimator() = default;
+SteppedSineEstimator::SteppedSineEstimator(SteppedSineEstimator&&) noexcept = default;
+SteppedSineEstimator& SteppedSineEstimator::operator=(SteppedSineEstimator&&) noexcept = default;
+
+void SteppedSineEstimator::push(std::span<const std::span<const double>> channels, std::size_t first_sample) {
+  Impl& s = *impl_;
+  const std::size_t count = channels.empty() ? 0 : channels[0].size();
+  std::size_t i = 0;
+  while (i < count && s.current < s.windows.size()) {
+    const Window& w = s.windows[s.current];
+    const std::size_t sample = first_sample + i;
+    if (sample >= w.end) {
+      s.next_dwell();
+      continue;
+    }
+    if (sample < w.first) {
+      i += std::min(w.first - sample, count - i);
+      continue;
+    }
+    const std::size_t take = std::min(w.end - sample, count - i);
+    for (std::size_t c = 0; c < kChannels; ++c) {
+      s.buffer[c].insert(s.buffer[c].end(), channels[c].begin() + static_cast<std::ptrdiff_t>(i),
+                         channels[c].begin() + static_cast<std::ptrdiff_t>(i + take));
+    }
+    i += take;
+  }
+}
+
+Response SteppedSineEstimator::finish(Diagnostics& findings) {
+  Impl& s = *impl_;
+  while (s.current < s.windows.size()) s.next_dwell();
+  const auto list = [](const std::vector<double>& hz) {
+    std::ostringstream out;
+    for (std::size_t i = 0; i < hz.size() && i < 6; ++i) out << (i ? ", " : "") << format_frequency(hz[i]);
+    if (hz.size() > 6) out << " and " << hz.size() - 6 << " more";
+    return out.str();
+  };
+  if (!s.too_short_hz.empty()) {
+    findings.push_back(make_warning("excitation.dwell-too-short",
+                                    std::to_string(s.too_short_hz.size()) + " dwells hold less than one full cycle after " +
+                                        "settling and are left out (" + list(s.too_short_hz) +
+                                        "): dwell longer at these frequencies, or settle for fewer cycles"));
+  }
+  if (!s.distorted_hz.empty()) {
+    std::ostringstream message;
+    message << "harmonics above " << std::lround(100.0 * s.options.max_harmonic_ratio)
+            << " % of the fundamental at " << s.distorted_hz.size() << " dwells (" << list(s.distorted_hz)
+            << "): the injection may be too large for the loop to stay linear";
+    findings.push_back(make_warning("excitation.distortion", message.str()));
+  }
+  if (s.response.size() == 0) throw NumericalError("no dwell of the stepped sine could be fitted");
+  // Dwells may come in any order; lines go out ascending.
+  std::vector<std::size_t> order(s.response.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::sort(order.begin(), order.end(), [&](auto a, auto b) { return s.response.frequency_hz[a] < s.response.frequency_hz[b]; });
+  Response sorted;
+  for (std::size_t i : order) {
+    sorted.frequency_hz.push_back(s.response.frequency_hz[i]);
+    sorted.value.push_back(s.response.value[i]);
+    sorted.coherence.push_back(s.response.coherence[i]);
+    sorted.relative_sigma.push_back(s.response.relative_sigma[i]);
+  }
+  sorted.effective_averages = 1.0;
+  return sorted;
+}
+
+const std::vector<DwellResult>& SteppedSineEstimator::dwell_results() const { return impl_->results; }
+
+}  // namespace loopmargin
