@@ -13,6 +13,10 @@ namespace loopmargin {
 namespace {
 
 constexpr std::size_t kChannels = 3;
+// A harmonic's fitted amplitude over the noise fitted beside it before it
+// counts: noise alone passes 4 times its RMS amplitude with probability
+// exp(-16) (Rayleigh).
+constexpr double kHarmonicOverNoise = 4.0;
 
 struct Window {
   std::size_t first = 0;  // after settling
@@ -56,10 +60,20 @@ struct SteppedSineEstimator::Impl {
       return f.residual_rms > 0.0 ? db_from_power(f.amplitude() * f.amplitude() / 2.0 / (f.residual_rms * f.residual_rms))
                                   : 300.0;
     };
+    // A harmonic counts when it stands above the noise around it: fits two
+    // lines (2 fs/N) either side measure the local noise, coloured or not.
     double worst = 0.0;
-    for (const SineFit* f : {&x, &y}) {
-      const std::vector<double>& samples = f == &x ? buffer[1] : buffer[2];
-      for (double h : harmonic_amplitudes(samples, z.frequency_hz, fs)) worst = std::max(worst, h / f->amplitude());
+    const double offset = 2.0 * fs / static_cast<double>(n);
+    for (std::size_t c = 1; c <= 2; ++c) {
+      const SineFit& fundamental = c == 1 ? x : y;
+      for (int k = 2; k <= 5; ++k) {
+        const double fh = k * z.frequency_hz;
+        if (fh + offset >= fs / 2.0) break;
+        const double h = fit_sine_three(buffer[c], fh, fs).amplitude();
+        const double local = std::hypot(fit_sine_three(buffer[c], fh - offset, fs).amplitude(),
+                                        fit_sine_three(buffer[c], fh + offset, fs).amplitude()) / std::sqrt(2.0);
+        if (h > kHarmonicOverNoise * local) worst = std::max(worst, h / fundamental.amplitude());
+      }
     }
     if (worst > options.max_harmonic_ratio) distorted_hz.push_back(z.frequency_hz);
     const double snr_db = std::min(snr(x), snr(y));

@@ -367,6 +367,42 @@ class EveryFormat(unittest.TestCase):
         self.assertIn("unknown key 'sampel_rate_hz'", result.stderr)
 
 
+class Excitations(unittest.TestCase):
+    """The stepped-sine demo end to end, inspect, and forcing an excitation."""
+
+    @classmethod
+    def setUpClass(cls):
+        cls.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        run("synth", os.path.join(DEMO, "servo_stepped.toml"), "--out-dir", cls.folder)
+        run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", cls.folder)
+
+    @classmethod
+    def tearDownClass(cls):
+        shutil.rmtree(cls.folder, ignore_errors=True)
+
+    def test_stepped_demo_matches_truth(self):
+        stem = os.path.join(self.folder, "servo_stepped")
+        run("analyze", stem + ".csv", "--json", stem + ".json")
+        measured, truth = load(stem + ".json"), load(stem + ".truth.json")
+        self.assertEqual(measured["method"]["excitation"], "stepped")
+        self.assertEqual(measured["method"]["excitation_found"]["dwells"], 30)  # the scenario's points
+        # One line per dwell; per-line sigmas near the crossover are about 0.3 deg
+        # here, so 4 sigma of the crossing fit stays within 1.5 deg and 0.3 dB.
+        self.assertAlmostEqual(measured["summary"]["phase_margin_deg"], truth["summary"]["phase_margin_deg"], delta=1.5)
+        self.assertAlmostEqual(measured["summary"]["gain_margin_db"], truth["summary"]["gain_margin_db"], delta=0.3)
+
+    def test_inspect_reports_the_excitation(self):
+        out = run("inspect", os.path.join(self.folder, "servo_stepped.csv")).stdout
+        self.assertIn("stepped, 30 dwells", out)
+        out = run("inspect", os.path.join(self.folder, "servo_velocity.csv")).stdout
+        self.assertIn("excitation  broadband", out)
+
+    def test_forcing_a_periodic_analysis_on_noise_says_what_is_missing(self):
+        result = run("analyze", os.path.join(self.folder, "servo_velocity.csv"), "--excitation", "periodic", check=False)
+        self.assertEqual(result.returncode, NO_RESULT)
+        self.assertIn("no period found", result.stderr)
+
+
 class ReferenceFromDifference(unittest.TestCase):
     def test_injection_computed_as_x_minus_y(self):
         # Without probe noise, z = x - y exactly (DESIGN.md, series injection),
