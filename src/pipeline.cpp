@@ -4,6 +4,7 @@
 #include <sstream>
 
 #include "loopmargin/error.hpp"
+#include "loopmargin/excitation/schedule.hpp"
 #include "loopmargin/ingest/quality.hpp"
 #include "loopmargin/spectral/periodic.hpp"
 #include "loopmargin/spectral/stepped.hpp"
@@ -162,7 +163,8 @@ Inspection inspect_recording(SampleSource& source, const AnalysisOptions& option
 
 AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options, const ProgressFunction& progress) {
   const auto forced = options.excitation;
-  const bool need_plan = !forced || *forced == ExcitationKind::kStepped ||
+  const bool need_plan = !forced || *forced == ExcitationKind::kStepped || !options.schedule_path.empty() ||
+                         !options.marker_channel.empty() ||
                          (*forced == ExcitationKind::kPeriodic && options.period_samples == 0);
   if (!need_plan) {
     const auto source = open();
@@ -173,15 +175,32 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
     return result;
   }
   ExcitationDetector detector;
-  double sample_rate_hz = 0.0;
+  MarkerDwells marker;
+  SourceSummary first_pass;
   {
     const auto source = open();
-    sample_rate_hz = stream(
-        *source, options, nullptr, [&](const auto& selected, std::size_t) { detector.push(selected[0]); }, {})
-                         .sample_rate_hz;
+    const std::optional<std::size_t> marker_index =
+        options.marker_channel.empty()
+            ? std::nullopt
+            : std::optional(channel_index(*source, options.marker_channel, "the frequency marker"));
+    RoleSelector roles(*source, options.roles);
+    SampleBlock block;
+    while (source->next(block)) {
+      detector.push(roles.select(block)[0]);
+      if (marker_index) marker.push(block.channels[*marker_index], block.first_sample);
+    }
+    first_pass = source->summary();
   }
+  const double sample_rate_hz = first_pass.sample_rate_hz;
   ExcitationPlan plan = detector.finish(sample_rate_hz);
-  const ExcitationKind kind = forced.value_or(plan.kind);
+  const bool dwells_given = !options.schedule_path.empty() || !options.marker_channel.empty();
+  if (!options.schedule_path.empty()) {
+    plan.dwells = dwells_in_samples(read_dwell_schedule(options.schedule_path), sample_rate_hz, first_pass.sample_count,
+                                    options.schedule_path);
+  } else if (!options.marker_channel.empty()) {
+    plan.dwells = marker.finish();
+  }
+  const ExcitationKind kind = dwells_given ? ExcitationKind::kStepped : forced.value_or(plan.kind);
   const auto source = open();
   AnalysisResult result;
   if (kind == ExcitationKind::kPeriodic) {

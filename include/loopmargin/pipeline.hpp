@@ -32,6 +32,8 @@ struct AnalysisOptions {
   std::size_t skip_periods = 1;              // periodic: transient periods dropped
   double settle_cycles = 3.0;                // stepped: settling dropped at each dwell
   double settle_s = 0.0;
+  std::string schedule_path;                 // stepped: dwells from a schedule file ...
+  std::string marker_channel;                // ... or from a frequency-marker channel
   WelchOptions welch;
   ResponseOptions response;
   Convention convention = Convention::kSeriesInjection;

@@ -58,7 +58,7 @@ struct AnalyzeArgs {
   std::string csv_path;
   std::string truth_path;
   bool quiet = false;
-  std::string format, time_column, window, estimator, convention, z, x, y, excitation;
+  std::string format, time_column, window, estimator, convention, z, x, y, excitation, schedule, marker;
   std::size_t period = 0;
   double settle_cycles = 0.0;
   std::vector<std::string> channels;
@@ -97,6 +97,8 @@ RunSettings resolve(const AnalyzeArgs& a) {
   }
   if (a.given("--period")) o.period_samples = a.period;
   if (a.given("--settle-cycles")) o.settle_cycles = a.settle_cycles;
+  if (a.given("--schedule")) o.schedule_path = a.schedule;
+  if (a.given("--marker")) o.marker_channel = a.marker;
   if (r.sample_rate_hz && !(*r.sample_rate_hz > 0.0)) throw ConfigError("the sample rate must be positive");
   o.welch.validate();
   return s;
@@ -161,6 +163,10 @@ void add_analyze(CLI::App& app) {
   cmd->add_option("--period", a->period, "Periodic: the period in samples [found]")->type_name("N");
   cmd->add_option("--settle-cycles", a->settle_cycles, "Stepped: cycles dropped at each dwell's start [3]")
       ->type_name("N");
+  cmd->add_option("--schedule", a->schedule, "Stepped: dwells from a file with freq_hz, start_s, length_s")
+      ->type_name("FILE");
+  cmd->add_option("--marker", a->marker, "Stepped: dwells from a channel holding the generator's frequency")
+      ->type_name("NAME");
   cmd->add_option("--truth", a->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
       ->type_name("FILE");
   cmd->add_flag("--quiet", a->quiet, "No progress display");

@@ -65,7 +65,9 @@ void read_spectral(const toml::table& t, const std::string& where, AnalysisOptio
 }
 
 void read_excitation(const toml::table& t, const std::string& where, AnalysisOptions& a) {
-  check_keys(t, {"kind", "period_samples", "skip_periods", "settle_cycles", "settle_s"}, where);
+  check_keys(t, {"kind", "period_samples", "skip_periods", "settle_cycles", "settle_s", "schedule", "marker"}, where);
+  set_if(optional_text(t, "schedule", where), a.schedule_path);
+  set_if(optional_text(t, "marker", where), a.marker_channel);
   if (const auto kind = optional_text(t, "kind", where)) {
     a.excitation = *kind == "auto" ? std::nullopt : std::optional(excitation_from_name(*kind));
   }

@@ -17,6 +17,9 @@ constexpr std::size_t kChannels = 3;
 // counts: noise alone passes 4 times its RMS amplitude with probability
 // exp(-16) (Rayleigh).
 constexpr double kHarmonicOverNoise = 4.0;
+// A dwell's injection further than this from the frequency the schedule or
+// marker states is reported: the schedule and the recording disagree.
+constexpr double kFrequencyMismatch = 0.02;
 
 struct Window {
   std::size_t first = 0;  // after settling
@@ -34,6 +37,7 @@ struct SteppedSineEstimator::Impl {
   std::vector<DwellResult> results;
   std::vector<double> too_short_hz;
   std::vector<double> distorted_hz;
+  std::vector<double> mismatched_hz;  // dwells whose injection is not at the stated frequency
 
   explicit Impl(SteppedOptions o) : options(std::move(o)) {
     for (const Dwell& d : options.dwells) {
@@ -51,6 +55,7 @@ struct SteppedSineEstimator::Impl {
       return;
     }
     const SineFit z = fit_sine_four(buffer[0], d.frequency_hz, fs);
+    if (std::abs(z.frequency_hz / d.frequency_hz - 1.0) > kFrequencyMismatch) mismatched_hz.push_back(d.frequency_hz);
     const SineFit x = fit_sine_three(buffer[1], z.frequency_hz, fs);
     const SineFit y = fit_sine_three(buffer[2], z.frequency_hz, fs);
     if (x.amplitude() == 0.0 || y.amplitude() == 0.0) return;
@@ -141,6 +146,12 @@ Response SteppedSineEstimator::finish(Diagnostics& findings) {
             << " % of the fundamental at " << s.distorted_hz.size() << " dwells (" << list(s.distorted_hz)
             << "): the injection may be too large for the loop to stay linear";
     findings.push_back(make_warning("excitation.distortion", message.str()));
+  }
+  if (!s.mismatched_hz.empty()) {
+    findings.push_back(make_warning("excitation.frequency-mismatch",
+                                    std::to_string(s.mismatched_hz.size()) + " dwells hold their tone more than 2 % " +
+                                        "away from the frequency stated for them (" + list(s.mismatched_hz) +
+                                        "): do the schedule or marker and the recording belong together?"));
   }
   if (s.response.size() == 0) throw NumericalError("no dwell of the stepped sine could be fitted");
   // Dwells may come in any order; lines go out ascending.

@@ -397,6 +397,37 @@ class Excitations(unittest.TestCase):
         out = run("inspect", os.path.join(self.folder, "servo_velocity.csv")).stdout
         self.assertIn("excitation  broadband", out)
 
+    def test_dwells_from_a_schedule_or_a_marker_channel(self):
+        # The demo's schedule: 30 log-spaced frequencies from 20 Hz to 2 kHz, 0.4 s each.
+        frequencies = [20 * 100 ** (i / 29) for i in range(30)]
+        schedule = os.path.join(self.folder, "schedule.csv")
+        with open(schedule, "w") as f:
+            f.write("start_s,length_s,freq_hz\n")
+            f.writelines(f"{0.4 * i!r},0.4,{fr!r}\n" for i, fr in enumerate(frequencies))
+        rec = os.path.join(self.folder, "servo_stepped.csv")
+        out = os.path.join(self.folder, "scheduled.json")
+        run("analyze", rec, "--schedule", schedule, "--json", out)
+        scheduled = load(out)
+        self.assertEqual(scheduled["band"]["lines"], 30)
+        self.assertEqual([d["code"] for d in scheduled["diagnostics"] if d["code"].startswith("excitation")], [])
+        # The same dwells from a marker channel the generator would record beside the signals.
+        data = np.loadtxt(rec, delimiter=",", skiprows=1)
+        marker = np.array([frequencies[min(int(t / 0.4 + 1e-9), 29)] for t in data[:, 0]])
+        marked = os.path.join(self.folder, "marked.csv")
+        np.savetxt(marked, np.column_stack([data, marker]), delimiter=",", header="t,z,x,y,f_set", comments="",
+                   fmt="%.10g")
+        run("analyze", marked, "--marker", "f_set", "--json", out)
+        self.assertEqual(load(out)["band"]["lines"], 30)
+        self.assertAlmostEqual(load(out)["summary"]["phase_margin_deg"], scheduled["summary"]["phase_margin_deg"],
+                               delta=0.05)
+        # A schedule that does not belong to the recording is called out.
+        wrong = os.path.join(self.folder, "wrong.csv")
+        with open(wrong, "w") as f:
+            f.write("freq_hz,start_s,length_s\n")
+            f.writelines(f"{fr * 1.1!r},{0.4 * i!r},0.4\n" for i, fr in enumerate(frequencies))
+        run("analyze", rec, "--schedule", wrong, "--json", out)
+        self.assertIn("excitation.frequency-mismatch", [d["code"] for d in load(out)["diagnostics"]])
+
     def test_forcing_a_periodic_analysis_on_noise_says_what_is_missing(self):
         result = run("analyze", os.path.join(self.folder, "servo_velocity.csv"), "--excitation", "periodic", check=False)
         self.assertEqual(result.returncode, NO_RESULT)
