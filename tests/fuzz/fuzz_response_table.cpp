@@ -1,6 +1,8 @@
-// Frequency-response tables through the margin analysis.
+// Frequency-response tables through the margin analysis, and the same text
+// read as a dwell schedule.
 #include "fuzz_common.hpp"
 #include "loopmargin/error.hpp"
+#include "loopmargin/excitation/schedule.hpp"
 #include "loopmargin/ingest/response_table.hpp"
 #include "loopmargin/pipeline.hpp"
 
@@ -9,6 +11,10 @@ extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   const std::string path = fuzzing::input_file(data, size, ".csv");
   try {
     analyze_response(path, read_response_table(path), Convention::kDirect);
+  } catch (const Error&) {
+  }
+  try {
+    dwells_in_samples(read_dwell_schedule(path), 1000.0, 100000, path);
   } catch (const Error&) {
   }
   return 0;

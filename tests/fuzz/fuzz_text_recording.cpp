@@ -1,4 +1,5 @@
-// Delimited text recordings through the whole analysis.
+// Delimited text recordings through the whole analysis: detection of the
+// excitation, then its estimator.
 #include "fuzz_common.hpp"
 #include "loopmargin/error.hpp"
 #include "loopmargin/ingest/recording.hpp"
@@ -10,10 +11,9 @@ extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   try {
     RecordingOptions options;
     options.block_size = 64;
-    const auto source = open_recording(path, options);
     AnalysisOptions analysis;
     analysis.welch.segment_length = 16;
-    analyze_recording(*source, analysis);
+    analyze([&] { return open_recording(path, options); }, analysis);
   } catch (const Error&) {
   }
   return 0;
