@@ -267,6 +267,13 @@ ExcitationPlan ExcitationDetector::finish(double sample_rate_hz) {
   plan.tonal_fraction = active_frames ? static_cast<double>(tonal_frames) / static_cast<double>(active_frames) : 0.0;
   if (plan.tonal_fraction > kTonalFrames) {
     s.classify_tone(plan, sample_rate_hz);
+    std::vector<double> shares;
+    for (const Frame& f : s.frames) {
+      if (f.power >= active && f.tonality > kTonalShare) shares.push_back(f.tonality);
+    }
+    std::nth_element(shares.begin(), shares.begin() + shares.size() / 2, shares.end());
+    const double share = std::min(shares[shares.size() / 2], 1.0 - 1e-12);
+    plan.snr_db = 10.0 * std::log10(share / (1.0 - share));
     return plan;
   }
   s.find_band(plan, sample_rate_hz);
@@ -274,6 +281,8 @@ ExcitationPlan ExcitationDetector::finish(double sample_rate_hz) {
     plan.kind = ExcitationKind::kPeriodic;
     plan.period_samples = period->first;
     plan.period_match = period->second;
+    const double match = std::min(period->second, 1.0 - 1e-12);
+    plan.snr_db = 10.0 * std::log10(match / (1.0 - match));
   }
   return plan;
 }
@@ -290,6 +299,7 @@ std::string ExcitationPlan::describe(double sample_rate_hz) const {
     default: break;
   }
   out << ", " << format_frequency(low_hz) << " to " << format_frequency(high_hz);
+  if (snr_db) out << ", SNR " << std::lround(*snr_db) << " dB";
   return out.str();
 }
 

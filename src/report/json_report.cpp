@@ -94,7 +94,8 @@ Json method_json(const AnalysisResult& result) {
                                {"low_hz", result.excitation->low_hz},
                                {"high_hz", result.excitation->high_hz},
                                {"period_samples", result.excitation->period_samples},
-                               {"dwells", result.excitation->dwells.size()}};
+                               {"dwells", result.excitation->dwells.size()},
+                               {"snr_db", optional_number(result.excitation->snr_db)}};
   }
   out["estimator"] = o.response.estimator == Estimator::kReference ? "reference" : "two-channel";
   out["window"] = window_name(o.welch.window);

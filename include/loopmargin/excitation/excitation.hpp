@@ -39,6 +39,11 @@ struct ExcitationPlan {
   double period_match = 0.0;       // periodic: normalised autocorrelation at the period
   std::vector<Dwell> dwells;       // stepped
   double tonal_fraction = 0.0;     // share of frames that hold one tone
+  // The injection's power over what does not belong to it: for a tone, the
+  // power near the peak over the rest (median over tonal frames); for a
+  // periodic signal, the repeating part over the rest (from the period match).
+  // Unset for broadband noise, which has no such split.
+  std::optional<double> snr_db;
   Diagnostics findings;
 
   std::string describe(double sample_rate_hz) const;  // one line for people
