@@ -124,28 +124,39 @@ void run_analyze(const AnalyzeArgs& a) {
 
 }  // namespace
 
+namespace {
+
+// The options that say how to read a recording and which channel is which,
+// shared by analyze and inspect.
+void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
+  a.command = cmd;
+  cmd->add_option("recording", a.recording, "Recording: CSV/TSV text, raw binary, WAV or HDF5")
+      ->required()
+      ->type_name("FILE");
+  cmd->add_option("--config", a.config_path, "Run settings (TOML); options given here override it")->type_name("FILE");
+  cmd->add_option("--format", a.format, "auto (by extension), text, raw, wav or hdf5 [auto]")->type_name("NAME");
+  cmd->add_option("--channels", a.channels, "Channel names in file order, for files without names [z,x,y]")
+      ->delimiter(',')
+      ->type_name("NAMES");
+  cmd->add_option("--z", a.z, "Channel holding the injection; x-y computes it from the loop signals [z]")
+      ->type_name("NAME");
+  cmd->add_option("--x", a.x, "Channel after the injection point, driving the loop [x]")->type_name("NAME");
+  cmd->add_option("--y", a.y, "Channel before the injection point, returning from the loop [y]")->type_name("NAME");
+  cmd->add_option("--time-column", a.time_column, "Text: column holding time in seconds [t, time or time_s]")
+      ->type_name("NAME");
+  cmd->add_option("--sample-rate", a.sample_rate_hz, "Sample rate in Hz; overrides what the file says")
+      ->type_name("HZ");
+  cmd->add_flag("--quiet", a.quiet, "No progress display");
+}
+
+}  // namespace
+
 void add_analyze(CLI::App& app) {
   auto a = std::make_shared<AnalyzeArgs>();
   auto* cmd = app.add_subcommand("analyze", "Loop response and margins from a series-injection recording");
-  a->command = cmd;
-  cmd->add_option("recording", a->recording, "Recording: CSV/TSV text, raw binary, WAV or HDF5")
-      ->required()
-      ->type_name("FILE");
-  cmd->add_option("--config", a->config_path, "Run settings (TOML); options given here override it")->type_name("FILE");
+  add_input_options(cmd, *a);
   cmd->add_option("--json", a->json_path, "Write the results as JSON to this file")->type_name("FILE");
   cmd->add_option("--csv", a->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
-  cmd->add_option("--format", a->format, "auto (by extension), text, raw, wav or hdf5 [auto]")->type_name("NAME");
-  cmd->add_option("--channels", a->channels, "Channel names in file order, for files without names [z,x,y]")
-      ->delimiter(',')
-      ->type_name("NAMES");
-  cmd->add_option("--z", a->z, "Channel holding the injection; x-y computes it from the loop signals [z]")
-      ->type_name("NAME");
-  cmd->add_option("--x", a->x, "Channel after the injection point, driving the loop [x]")->type_name("NAME");
-  cmd->add_option("--y", a->y, "Channel before the injection point, returning from the loop [y]")->type_name("NAME");
-  cmd->add_option("--time-column", a->time_column, "Text: column holding time in seconds [t, time or time_s]")
-      ->type_name("NAME");
-  cmd->add_option("--sample-rate", a->sample_rate_hz, "Sample rate in Hz; overrides what the file says")
-      ->type_name("HZ");
   cmd->add_option("--window", a->window, "hann, hamming, blackman-harris or rectangular [hann]")->type_name("NAME");
   cmd->add_option("--segment", a->segment, "Samples per averaged segment [4096]")->type_name("N");
   cmd->add_option("--overlap", a->overlap, "Fraction of a segment shared with the next, 0 to 0.9 [0.5]")
@@ -169,26 +180,13 @@ void add_analyze(CLI::App& app) {
       ->type_name("NAME");
   cmd->add_option("--truth", a->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
       ->type_name("FILE");
-  cmd->add_flag("--quiet", a->quiet, "No progress display");
   cmd->callback([a] { run_analyze(*a); });
 }
 
 void add_inspect(CLI::App& app) {
   auto a = std::make_shared<AnalyzeArgs>();
   auto* cmd = app.add_subcommand("inspect", "What a recording holds: its excitation and data-quality findings");
-  a->command = cmd;
-  cmd->add_option("recording", a->recording, "Recording: CSV/TSV text, raw binary, WAV or HDF5")
-      ->required()
-      ->type_name("FILE");
-  cmd->add_option("--config", a->config_path, "Run settings (TOML)")->type_name("FILE");
-  cmd->add_option("--format", a->format, "auto, text, raw, wav or hdf5 [auto]")->type_name("NAME");
-  cmd->add_option("--channels", a->channels, "Channel names in file order [z,x,y]")->delimiter(',')->type_name("NAMES");
-  cmd->add_option("--z", a->z, "Channel holding the injection [z]")->type_name("NAME");
-  cmd->add_option("--x", a->x, "Loop signal after the injection point [x]")->type_name("NAME");
-  cmd->add_option("--y", a->y, "Loop signal before the injection point [y]")->type_name("NAME");
-  cmd->add_option("--time-column", a->time_column, "Text: column holding time")->type_name("NAME");
-  cmd->add_option("--sample-rate", a->sample_rate_hz, "Sample rate in Hz")->type_name("HZ");
-  cmd->add_flag("--quiet", a->quiet, "No progress display");
+  add_input_options(cmd, *a);
   cmd->callback([a] {
     const RunSettings settings = resolve(*a);
     const auto source = open_recording(a->recording, settings.recording);
