@@ -174,9 +174,15 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
     result.excitation_kind = *forced;
     return result;
   }
+  // Pass 1 reads the injection. A noise or periodic injection shows what it
+  // is within its first kDetectionPrefix samples, and pass 1 stops there;
+  // tones (stepped, chirp) and given dwells need the whole record.
+  constexpr std::size_t kDetectionPrefix = 1 << 18;
+  const bool dwells_given = !options.schedule_path.empty() || !options.marker_channel.empty();
+  const bool needs_whole = dwells_given || forced == ExcitationKind::kStepped;
   ExcitationDetector detector;
   MarkerDwells marker;
-  SourceSummary first_pass;
+  std::optional<SourceSummary> first_pass;
   {
     const auto source = open();
     const std::optional<std::size_t> marker_index =
@@ -185,17 +191,23 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
             : std::optional(channel_index(*source, options.marker_channel, "the frequency marker"));
     RoleSelector roles(*source, options.roles);
     SampleBlock block;
+    bool stopped_early = false;
     while (source->next(block)) {
       detector.push(roles.select(block)[0]);
       if (marker_index) marker.push(block.channels[*marker_index], block.first_sample);
+      if (!needs_whole && detector.samples_seen() >= kDetectionPrefix && !detector.looks_tonal()) {
+        stopped_early = true;
+        break;
+      }
     }
-    first_pass = source->summary();
+    if (!stopped_early) first_pass = source->summary();
   }
-  const double sample_rate_hz = first_pass.sample_rate_hz;
+  // Without the whole first pass the sample rate is known only after pass 2:
+  // the plan is made in cycles per sample and rescaled then.
+  const double sample_rate_hz = first_pass ? first_pass->sample_rate_hz : 1.0;
   ExcitationPlan plan = detector.finish(sample_rate_hz);
-  const bool dwells_given = !options.schedule_path.empty() || !options.marker_channel.empty();
   if (!options.schedule_path.empty()) {
-    plan.dwells = dwells_in_samples(read_dwell_schedule(options.schedule_path), sample_rate_hz, first_pass.sample_count,
+    plan.dwells = dwells_in_samples(read_dwell_schedule(options.schedule_path), sample_rate_hz, first_pass->sample_count,
                                     options.schedule_path);
   } else if (!options.marker_channel.empty()) {
     plan.dwells = marker.finish();
@@ -215,6 +227,7 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
   } else {
     result = analyze_recording(*source, options, progress);
   }
+  if (!first_pass && result.record) plan.rescale_frequencies(result.record->sample_rate_hz);
   result.excitation_kind = kind;
   result.excitation = std::move(plan);
   return result;

@@ -69,6 +69,29 @@ double LocalFit::at(double log_f) const {
   return value;
 }
 
+double LocalFit::derivative_at(double log_f) const {
+  const double t = log_f - centre;
+  double value = 0.0;
+  for (std::size_t d = coefficients.size(); d-- > 1;) value = value * t + static_cast<double>(d) * coefficients[d];
+  return value;
+}
+
+double LocalFit::sigma_at(double log_f) const {
+  if (covariance.empty()) return 0.0;
+  const double t = log_f - centre;
+  std::vector<double> basis(coefficients.size());
+  double power = 1.0;
+  for (double& b : basis) {
+    b = power;
+    power *= t;
+  }
+  double variance = 0.0;
+  for (std::size_t i = 0; i < basis.size(); ++i) {
+    for (std::size_t j = 0; j < basis.size(); ++j) variance += basis[i] * covariance[i][j] * basis[j];
+  }
+  return std::sqrt(std::max(0.0, variance));
+}
+
 int fit_degree(const std::vector<double>& sigmas, std::size_t first, std::size_t last) {
   const bool exact = std::all_of(sigmas.begin() + first, sigmas.begin() + last + 1, [](double s) { return s == 0.0; });
   return exact ? 3 : 2;
@@ -92,6 +115,14 @@ LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& 
   }
   const Eigen::VectorXd solution = design.colPivHouseholderQr().solve(target);
   fit.coefficients.assign(solution.data(), solution.data() + solution.size());
+  if (weighted && count > static_cast<std::size_t>(degree)) {
+    // Weighted least squares: cov = (A^T W A)^-1 with the rows already scaled by 1/sigma.
+    const Eigen::MatrixXd covariance = (design.transpose() * design).inverse();
+    fit.covariance.assign(covariance.rows(), std::vector<double>(covariance.cols()));
+    for (Eigen::Index i = 0; i < covariance.rows(); ++i) {
+      for (Eigen::Index j = 0; j < covariance.cols(); ++j) fit.covariance[i][j] = covariance(i, j);
+    }
+  }
   return fit;
 }
 

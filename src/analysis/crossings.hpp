@@ -44,8 +44,14 @@ std::size_t modulus_minimum_index(const LineTable& table);
 struct LocalFit {
   double centre = 0.0;
   std::vector<double> coefficients;  // constant term first
+  // Covariance of the coefficients from the lines' sigmas; empty when the
+  // lines carry none (an exact table).
+  std::vector<std::vector<double>> covariance;
   double at(double log_f) const;
+  double derivative_at(double log_f) const;
   double slope() const { return coefficients.size() > 1 ? coefficients[1] : 0.0; }  // at the centre
+  // Standard deviation of the fitted value at log_f; 0 without covariance.
+  double sigma_at(double log_f) const;
 };
 
 LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& values,

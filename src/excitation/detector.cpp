@@ -158,9 +158,27 @@ struct ExcitationDetector::Impl {
   }
 
   std::optional<std::pair<std::size_t, double>> find_period() const;
+  double tonal_fraction(double& active) const;
   void find_band(ExcitationPlan& plan, double fs) const;
   void classify_tone(ExcitationPlan& plan, double fs) const;
 };
+
+// Share of frames, among those louder than kActiveShare of the median, that
+// hold one tone; `active` receives that loudness threshold.
+double ExcitationDetector::Impl::tonal_fraction(double& active) const {
+  if (frames.empty()) return 0.0;
+  std::vector<double> powers;
+  for (const Frame& f : frames) powers.push_back(f.power);
+  std::nth_element(powers.begin(), powers.begin() + powers.size() / 2, powers.end());
+  active = kActiveShare * powers[powers.size() / 2];
+  std::size_t active_frames = 0, tonal_frames = 0;
+  for (const Frame& f : frames) {
+    if (f.power < active) continue;
+    ++active_frames;
+    if (f.tonality > kTonalShare) ++tonal_frames;
+  }
+  return active_frames ? static_cast<double>(tonal_frames) / static_cast<double>(active_frames) : 0.0;
+}
 
 void ExcitationDetector::Impl::find_band(ExcitationPlan& plan, double fs) const {
   const double peak = *std::max_element(mean_spectrum.begin() + 1, mean_spectrum.end());
@@ -254,17 +272,8 @@ ExcitationPlan ExcitationDetector::finish(double sample_rate_hz) {
   ExcitationPlan plan;
   s.close_plateau();
   if (s.frames.empty()) return plan;  // too short to say: treated as broadband
-  std::vector<double> powers;
-  for (const Frame& f : s.frames) powers.push_back(f.power);
-  std::nth_element(powers.begin(), powers.begin() + powers.size() / 2, powers.end());
-  const double active = kActiveShare * powers[powers.size() / 2];
-  std::size_t active_frames = 0, tonal_frames = 0;
-  for (const Frame& f : s.frames) {
-    if (f.power < active) continue;
-    ++active_frames;
-    if (f.tonality > kTonalShare) ++tonal_frames;
-  }
-  plan.tonal_fraction = active_frames ? static_cast<double>(tonal_frames) / static_cast<double>(active_frames) : 0.0;
+  double active = 0.0;
+  plan.tonal_fraction = s.tonal_fraction(active);
   if (plan.tonal_fraction > kTonalFrames) {
     s.classify_tone(plan, sample_rate_hz);
     std::vector<double> shares;
@@ -285,6 +294,19 @@ ExcitationPlan ExcitationDetector::finish(double sample_rate_hz) {
     plan.snr_db = 10.0 * std::log10(match / (1.0 - match));
   }
   return plan;
+}
+
+std::size_t ExcitationDetector::samples_seen() const { return impl_->samples; }
+
+bool ExcitationDetector::looks_tonal() const {
+  double active = 0.0;
+  return impl_->tonal_fraction(active) > kTonalFrames;
+}
+
+void ExcitationPlan::rescale_frequencies(double factor) {
+  low_hz *= factor;
+  high_hz *= factor;
+  for (Dwell& d : dwells) d.frequency_hz *= factor;
 }
 
 std::string ExcitationPlan::describe(double sample_rate_hz) const {

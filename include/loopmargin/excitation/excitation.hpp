@@ -47,6 +47,9 @@ struct ExcitationPlan {
   Diagnostics findings;
 
   std::string describe(double sample_rate_hz) const;  // one line for people
+  // Multiplies every frequency by `factor`: a plan made with a sample rate of
+  // 1 (frequencies in cycles per sample) becomes one in Hz.
+  void rescale_frequencies(double factor);
 };
 
 class ExcitationDetector {
@@ -60,6 +63,10 @@ class ExcitationDetector {
   ExcitationDetector& operator=(ExcitationDetector&&) noexcept;
 
   void push(std::span<const double> injection);
+  std::size_t samples_seen() const;
+  // Whether the frames so far hold one tone (a stepped sine or a chirp), by
+  // the rule finish() applies: only those need the whole record to decide.
+  bool looks_tonal() const;
   ExcitationPlan finish(double sample_rate_hz);
 
  private:
