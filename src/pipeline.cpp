@@ -55,6 +55,33 @@ class RoleSelector {
 
 void append(Diagnostics& to, const Diagnostics& from) { to.insert(to.end(), from.begin(), from.end()); }
 
+// Blocks already read, then the rest of a source: lets the analysis start
+// from what detection read, in the same pass over the file.
+class ReplaySource final : public SampleSource {
+ public:
+  ReplaySource(std::vector<SampleBlock> blocks, SampleSource& rest) : blocks_(std::move(blocks)), rest_(rest) {}
+  const std::vector<std::string>& channel_names() const override { return rest_.channel_names(); }
+  std::vector<std::string> channel_units() const override { return rest_.channel_units(); }
+  const std::string& origin() const override { return rest_.origin(); }
+  SourceSummary summary() const override { return rest_.summary(); }
+  bool next(SampleBlock& block) override {
+    if (next_ < blocks_.size()) {
+      block = std::move(blocks_[next_++]);
+      return true;
+    }
+    return rest_.next(block);
+  }
+
+ private:
+  std::vector<SampleBlock> blocks_;
+  std::size_t next_ = 0;
+  SampleSource& rest_;
+};
+
+// Blocks kept for replay: enough for the detection prefix with any reader's
+// block size (readers hand out at most 65536 samples a block).
+constexpr std::size_t kMaxPrefixBlocks = 64;
+
 }  // namespace
 
 namespace {
@@ -174,38 +201,53 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
     result.excitation_kind = *forced;
     return result;
   }
-  // Pass 1 reads the injection. A noise or periodic injection shows what it
-  // is within its first kDetectionPrefix samples, and pass 1 stops there;
-  // tones (stepped, chirp) and given dwells need the whole record.
-  constexpr std::size_t kDetectionPrefix = 1 << 18;
+  // A noise or periodic injection shows what it is within its first
+  // ExcitationDetector::kPeriodSearchSamples samples: those are kept, and
+  // the analysis goes on from them in the same pass. Tones (stepped, chirp)
+  // and given dwells need the whole record first, and a second pass.
   const bool dwells_given = !options.schedule_path.empty() || !options.marker_channel.empty();
   const bool needs_whole = dwells_given || forced == ExcitationKind::kStepped;
   ExcitationDetector detector;
   MarkerDwells marker;
   std::optional<SourceSummary> first_pass;
+  auto source = open();
+  std::vector<SampleBlock> prefix;
   {
-    const auto source = open();
-    const std::optional<std::size_t> marker_index =
-        options.marker_channel.empty()
-            ? std::nullopt
-            : std::optional(channel_index(*source, options.marker_channel, "the frequency marker"));
+    const bool has_marker = !options.marker_channel.empty();
+    const std::size_t marker_index =
+        has_marker ? channel_index(*source, options.marker_channel, "the frequency marker") : 0;
     RoleSelector roles(*source, options.roles);
     SampleBlock block;
-    bool stopped_early = false;
+    bool decided = false;
     while (source->next(block)) {
       detector.push(roles.select(block)[0]);
-      if (marker_index) marker.push(block.channels[*marker_index], block.first_sample);
-      if (!needs_whole && detector.samples_seen() >= kDetectionPrefix && !detector.looks_tonal()) {
-        stopped_early = true;
-        break;
+      if (has_marker) marker.push(block.channels[marker_index], block.first_sample);
+      if (!needs_whole && prefix.size() < kMaxPrefixBlocks) prefix.push_back(block);
+      if (!needs_whole && detector.samples_seen() >= ExcitationDetector::kPeriodSearchSamples) {
+        decided = !detector.looks_tonal();
+        if (decided) break;
       }
     }
-    if (!stopped_early) first_pass = source->summary();
+    if (!decided) first_pass = source->summary();
   }
-  // Without the whole first pass the sample rate is known only after pass 2:
+  // Without the whole first pass the sample rate is known only at the end:
   // the plan is made in cycles per sample and rescaled then.
   const double sample_rate_hz = first_pass ? first_pass->sample_rate_hz : 1.0;
   ExcitationPlan plan = detector.finish(sample_rate_hz);
+  if (!first_pass) {  // go on in the same pass: replay the prefix, then the rest
+    const ExcitationKind kind = forced.value_or(plan.kind);
+    const std::size_t period = options.period_samples ? options.period_samples : plan.period_samples;
+    if (kind == ExcitationKind::kPeriodic && period == 0) {
+      throw NumericalError(source->origin() + ": no period found in the injection; give the period in samples");
+    }
+    ReplaySource replay(std::move(prefix), *source);
+    AnalysisResult result = kind == ExcitationKind::kPeriodic ? analyze_periodic(replay, options, period, progress)
+                                                              : analyze_recording(replay, options, progress);
+    plan.rescale_frequencies(result.record->sample_rate_hz);
+    result.excitation_kind = kind;
+    result.excitation = std::move(plan);
+    return result;
+  }
   if (!options.schedule_path.empty()) {
     plan.dwells = dwells_in_samples(read_dwell_schedule(options.schedule_path), sample_rate_hz, first_pass->sample_count,
                                     options.schedule_path);
@@ -213,7 +255,7 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
     plan.dwells = marker.finish();
   }
   const ExcitationKind kind = dwells_given ? ExcitationKind::kStepped : forced.value_or(plan.kind);
-  const auto source = open();
+  source = open();
   AnalysisResult result;
   if (kind == ExcitationKind::kPeriodic) {
     if (plan.period_samples == 0) {
@@ -227,7 +269,6 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
   } else {
     result = analyze_recording(*source, options, progress);
   }
-  if (!first_pass && result.record) plan.rescale_frequencies(result.record->sample_rate_hz);
   result.excitation_kind = kind;
   result.excitation = std::move(plan);
   return result;

@@ -55,7 +55,7 @@ struct ExcitationPlan {
 class ExcitationDetector {
  public:
   static constexpr std::size_t kFrameSamples = 1024;
-  static constexpr std::size_t kPeriodSearchSamples = 1 << 17;
+  static constexpr std::size_t kPeriodSearchSamples = 1 << 16;
 
   ExcitationDetector();
   ~ExcitationDetector();
