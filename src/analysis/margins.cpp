@@ -118,15 +118,45 @@ double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, 
   return std::clamp(root, group.front().log_f, group.back().log_f);
 }
 
-// The value of a curve at log frequency `log_f`, from a local fit over the
-// lines a group spans.
-double value_at(const LineTable& table, const Curve& curve, const std::vector<Crossing>& group, double log_f,
-                const MarginOptions& options) {
+// The local fit of a curve over the lines a group spans (the one that placed
+// a single crossing; a straight line over a merged group).
+LocalFit fit_for(const LineTable& table, const Curve& curve, const std::vector<Crossing>& group,
+                 const MarginOptions& options) {
   const std::size_t first = group.front().bracket.index;
   const std::size_t last = group.back().bracket.index;
   const Window w = window_around(first, last, options.fit_half_width, table.size());
   const int degree = first == last ? detail::fit_degree(curve.sigmas, w.first, w.last) : 1;
-  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree).at(log_f);
+  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree);
+}
+
+// A crossing and the other curve's value there, with standard deviations:
+// the crossing moves by the fitted curve's sigma over its slope, and the
+// other value carries its own fit's sigma plus its slope times that move.
+struct Placed {
+  double log_f = 0.0;
+  double log_f_sigma = 0.0;
+  double other = 0.0;
+  double other_sigma = 0.0;
+};
+
+Placed place(const LineTable& table, const Curve& crossing_curve, const Curve& other_curve, const std::vector<Crossing>& group,
+             double log_f, const MarginOptions& options) {
+  const LocalFit own = fit_for(table, crossing_curve, group, options);
+  const LocalFit other = fit_for(table, other_curve, group, options);
+  const double slope = std::abs(own.derivative_at(log_f));
+  const double log_f_sigma = slope > 0.0 ? own.sigma_at(log_f) / slope : 0.0;
+  const double moved = other.derivative_at(log_f) * log_f_sigma;
+  return {log_f, log_f_sigma, other.at(log_f), std::hypot(other.sigma_at(log_f), moved)};
+}
+
+std::optional<Interval> interval(double value, double sigma, double z) {
+  if (!(sigma > 0.0)) return std::nullopt;
+  return Interval{value - z * sigma, value + z * sigma};
+}
+
+std::optional<Interval> frequency_interval(double log_f, double log_f_sigma, double z) {
+  if (!(log_f_sigma > 0.0)) return std::nullopt;
+  return Interval{std::pow(10.0, log_f - z * log_f_sigma), std::pow(10.0, log_f + z * log_f_sigma)};
 }
 
 // What a group of merged crossings says.
@@ -219,8 +249,10 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
   const auto groups = crossing_groups(detail::gain_brackets(table), table, gain, options);
   report_unresolved(groups, table, "gain crossing", options, findings);
   std::vector<GainCrossover> result;
+  const double z = two_sided_z(options.confidence);
   for (const Group& g : groups) {
-    const double phase_margin_deg = wrap_deg(180.0 + value_at(table, phase, g.members, g.log_f, options));
+    const Placed p = place(table, gain, phase, g.members, g.log_f, options);
+    const double phase_margin_deg = wrap_deg(180.0 + p.other);
     if (g.verdict == Verdict::kNearMiss) {
       report_near_miss(g, table, "|L| comes within noise of 0 dB (phase margin there about " +
                                      std::to_string(std::lround(phase_margin_deg)) + " deg)", findings);
@@ -231,6 +263,13 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
     c.phase_margin_deg = phase_margin_deg;
     c.delay_margin_s = rad_from_deg(phase_margin_deg) / rad_per_s_from_hz(c.frequency_hz);
     c.merged_crossings = g.members.size();
+    c.frequency_ci_hz = frequency_interval(p.log_f, p.log_f_sigma, z);
+    c.phase_margin_ci_deg = interval(phase_margin_deg, p.other_sigma, z);
+    // DM = PM / omega: relative errors of PM (rad) and omega add in quadrature.
+    const double omega = rad_per_s_from_hz(c.frequency_hz);
+    const double delay_sigma = std::hypot(rad_from_deg(p.other_sigma) / omega,
+                                          c.delay_margin_s * std::numbers::ln10 * p.log_f_sigma);
+    c.delay_margin_ci_s = interval(c.delay_margin_s, delay_sigma, z);
     result.push_back(c);
   }
   return result;
@@ -243,8 +282,10 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
   const auto groups = crossing_groups(detail::phase_brackets(table), table, phase, options);
   report_unresolved(groups, table, "phase crossing", options, findings);
   std::vector<PhaseCrossover> result;
+  const double z = two_sided_z(options.confidence);
   for (const Group& g : groups) {
-    const double gain_db = value_at(table, gain, g.members, g.log_f, options);
+    const Placed p = place(table, phase, gain, g.members, g.log_f, options);
+    const double gain_db = p.other;
     if (g.verdict == Verdict::kNearMiss) {
       report_near_miss(g, table, "the phase comes within noise of -180 deg (|L| there about " +
                                      std::to_string(std::lround(gain_db)) + " dB)", findings);
@@ -255,6 +296,8 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
     c.gain_margin_db = -gain_db;
     c.limits = detail::direction_of(c.gain_margin_db);
     c.merged_crossings = g.members.size();
+    c.frequency_ci_hz = frequency_interval(p.log_f, p.log_f_sigma, z);
+    c.gain_margin_ci_db = interval(c.gain_margin_db, p.other_sigma, z);
     result.push_back(c);
   }
   std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz < b.frequency_hz; });
@@ -285,12 +328,33 @@ ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options)
     const double u = detail::golden_minimum(fitted, table.log_f[k - 1], table.log_f[k + 1]);
     point.frequency_hz = std::pow(10.0, u);
     point.modulus_margin = fitted(u);
+    // |1 + L| moves along the direction of 1 + L: the parts' fitted sigmas,
+    // weighted by that direction.
+    const double angle = std::atan2(fit_im.at(u), 1.0 + fit_re.at(u));
+    const double sigma = std::hypot(std::cos(angle) * fit_re.sigma_at(u), std::sin(angle) * fit_im.sigma_at(u));
+    const double z = two_sided_z(options.confidence);
+    point.modulus_margin_ci = interval(point.modulus_margin, sigma, z);
+    if (point.modulus_margin_ci && point.modulus_margin_ci->low > 0.0) {
+      point.peak_sensitivity_ci_db = Interval{-db_from_ratio(point.modulus_margin_ci->high),
+                                              -db_from_ratio(point.modulus_margin_ci->low)};
+    }
   }
   point.peak_sensitivity_db = -db_from_ratio(point.modulus_margin);
   return point;
 }
 
 }  // namespace
+
+double two_sided_z(double confidence) {
+  if (!(confidence > 0.0 && confidence < 1.0)) throw ConfigError("the confidence level must lie between 0 and 1");
+  // P(|Z| < z) = erf(z / sqrt 2): solved by bisection, to far below any use.
+  double low = 0.0, high = 40.0;
+  for (int i = 0; i < 200; ++i) {
+    const double mid = 0.5 * (low + high);
+    (std::erf(mid / std::numbers::sqrt2) < confidence ? low : high) = mid;
+  }
+  return 0.5 * (low + high);
+}
 
 const char* direction_name(GainDirection direction) {
   return direction == GainDirection::kIncrease ? "increase" : "decrease";
@@ -305,6 +369,7 @@ Margins find_margins(const Response& loop, const MarginOptions& options) {
   margins.band_low_hz = loop.frequency_hz.front();
   margins.band_high_hz = loop.frequency_hz.back();
   margins.line_count = loop.size();
+  margins.confidence = options.confidence;
   margins.gain_crossovers = gain_crossovers(table, options, margins.findings);
   margins.phase_crossovers = phase_crossovers(table, options, margins.findings);
   margins.modulus = modulus_point(table, options);

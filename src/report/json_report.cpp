@@ -14,6 +14,11 @@ using Json = nlohmann::ordered_json;
 
 Json optional_number(const std::optional<double>& value) { return value ? Json(*value) : Json(nullptr); }
 
+// An interval as {"ci_low", "ci_high"}, or null.
+Json interval_json(const std::optional<Interval>& i) {
+  return i ? Json{{"ci_low", i->low}, {"ci_high", i->high}} : Json(nullptr);
+}
+
 Json summary_json(const MarginSummary& s) {
   return {{"gain_crossover_hz", optional_number(s.gain_crossover_hz)},
           {"phase_margin_deg", optional_number(s.phase_margin_deg)},
@@ -24,24 +29,40 @@ Json summary_json(const MarginSummary& s) {
           {"delay_margin_s", optional_number(s.delay_margin_s)},
           {"modulus_margin", optional_number(s.modulus_margin)},
           {"peak_sensitivity_db", optional_number(s.peak_sensitivity_db)},
-          {"modulus_freq_hz", optional_number(s.modulus_frequency_hz)}};
+          {"modulus_freq_hz", optional_number(s.modulus_frequency_hz)},
+          {"intervals",
+           {{"gain_crossover_hz", interval_json(s.gain_crossover_ci_hz)},
+            {"phase_margin_deg", interval_json(s.phase_margin_ci_deg)},
+            {"phase_crossover_hz", interval_json(s.phase_crossover_ci_hz)},
+            {"gain_margin_db", interval_json(s.gain_margin_ci_db)},
+            {"delay_margin_s", interval_json(s.delay_margin_ci_s)},
+            {"modulus_margin", interval_json(s.modulus_margin_ci)},
+            {"peak_sensitivity_db", interval_json(s.peak_sensitivity_ci_db)}}}};
 }
 
 void put_margins(Json& out, const Margins& m) {
   out["band"] = {{"low_hz", m.band_low_hz}, {"high_hz", m.band_high_hz}, {"lines", m.line_count}};
+  out["confidence"] = m.confidence;
   out["gain_crossovers"] = Json::array();
   for (const auto& c : m.gain_crossovers) {
     out["gain_crossovers"].push_back({{"freq_hz", c.frequency_hz},
                                       {"phase_margin_deg", c.phase_margin_deg},
                                       {"delay_margin_s", c.delay_margin_s},
-                                      {"merged_crossings", c.merged_crossings}});
+                                      {"merged_crossings", c.merged_crossings},
+                                      {"intervals",
+                                       {{"freq_hz", interval_json(c.frequency_ci_hz)},
+                                        {"phase_margin_deg", interval_json(c.phase_margin_ci_deg)},
+                                        {"delay_margin_s", interval_json(c.delay_margin_ci_s)}}}});
   }
   out["phase_crossovers"] = Json::array();
   for (const auto& c : m.phase_crossovers) {
     out["phase_crossovers"].push_back({{"freq_hz", c.frequency_hz},
                                        {"gain_margin_db", c.gain_margin_db},
                                        {"limits", direction_name(c.limits)},
-                                       {"merged_crossings", c.merged_crossings}});
+                                       {"merged_crossings", c.merged_crossings},
+                                       {"intervals",
+                                        {{"freq_hz", interval_json(c.frequency_ci_hz)},
+                                         {"gain_margin_db", interval_json(c.gain_margin_ci_db)}}}});
   }
   out["modulus"] = m.modulus ? Json{{"freq_hz", m.modulus->frequency_hz},
                                     {"modulus_margin", m.modulus->modulus_margin},

@@ -2,6 +2,7 @@
 
 #include "loopmargin/format.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <vector>
@@ -31,17 +32,37 @@ struct Row {
   std::string label;
   std::string measured;
   std::string truth;
+  std::string interval;  // "" when there is none
 };
 
+// "44.0 to 48.2" with the row's own formatting of each end.
+template <typename Format>
+std::string range(const std::optional<Interval>& i, Format format) {
+  if (!i) return "";
+  return format(i->low) + " to " + format(i->high);
+}
+
 std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
+  const auto deg = [](double v) { return printf_string("%.1f deg", v); };
+  const auto db = [](double v) { return printf_string("%+.1f dB", v); };
+  const auto plain_db = [](double v) { return printf_string("%.1f dB", v); };
+  const auto ratio = [](double v) { return printf_string("%.3f", v); };
+  const auto hz = [](double v) { return format_frequency(v); };
+  const auto s = [](double v) { return format_time(v); };
   return {
-      {"gain crossover", frequency_or_dash(m.gain_crossover_hz), frequency_or_dash(t.gain_crossover_hz)},
-      {"phase margin", number_or_dash(m.phase_margin_deg, "%.1f deg"), number_or_dash(t.phase_margin_deg, "%.1f deg")},
-      {"delay margin", time_or_dash(m.delay_margin_s), time_or_dash(t.delay_margin_s)},
-      {"phase crossover", frequency_or_dash(m.phase_crossover_hz), frequency_or_dash(t.phase_crossover_hz)},
-      {"gain margin", number_or_dash(m.gain_margin_db, "%+.1f dB"), number_or_dash(t.gain_margin_db, "%+.1f dB")},
-      {"modulus margin", number_or_dash(m.modulus_margin, "%.3f"), number_or_dash(t.modulus_margin, "%.3f")},
-      {"peak sensitivity", number_or_dash(m.peak_sensitivity_db, "%.1f dB"), number_or_dash(t.peak_sensitivity_db, "%.1f dB")},
+      {"gain crossover", frequency_or_dash(m.gain_crossover_hz), frequency_or_dash(t.gain_crossover_hz),
+       range(m.gain_crossover_ci_hz, hz)},
+      {"phase margin", number_or_dash(m.phase_margin_deg, "%.1f deg"), number_or_dash(t.phase_margin_deg, "%.1f deg"),
+       range(m.phase_margin_ci_deg, deg)},
+      {"delay margin", time_or_dash(m.delay_margin_s), time_or_dash(t.delay_margin_s), range(m.delay_margin_ci_s, s)},
+      {"phase crossover", frequency_or_dash(m.phase_crossover_hz), frequency_or_dash(t.phase_crossover_hz),
+       range(m.phase_crossover_ci_hz, hz)},
+      {"gain margin", number_or_dash(m.gain_margin_db, "%+.1f dB"), number_or_dash(t.gain_margin_db, "%+.1f dB"),
+       range(m.gain_margin_ci_db, db)},
+      {"modulus margin", number_or_dash(m.modulus_margin, "%.3f"), number_or_dash(t.modulus_margin, "%.3f"),
+       range(m.modulus_margin_ci, ratio)},
+      {"peak sensitivity", number_or_dash(m.peak_sensitivity_db, "%.1f dB"),
+       number_or_dash(t.peak_sensitivity_db, "%.1f dB"), range(m.peak_sensitivity_ci_db, plain_db)},
   };
 }
 
@@ -108,11 +129,15 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
   write_crossings(out, result.margins);
   const auto rows = summary_rows(result.margins.summary, truth.value_or(MarginSummary{}));
   char line[200];
-  std::snprintf(line, sizeof line, "  %-18s %-16s%s\n", "summary", value_heading.c_str(), truth ? "truth" : "");
+  const bool intervals = std::any_of(rows.begin(), rows.end(), [](const Row& r) { return !r.interval.empty(); });
+  const std::string interval_heading =
+      intervals ? printf_string("%.0f %% interval", 100.0 * result.margins.confidence) : std::string();
+  std::snprintf(line, sizeof line, "  %-18s %-16s%-28s%s\n", "summary", value_heading.c_str(),
+                interval_heading.c_str(), truth ? "truth" : "");
   out << line;
   for (const Row& row : rows) {
-    std::snprintf(line, sizeof line, "  %-18s %-16s%s\n", row.label.c_str(), row.measured.c_str(),
-                  truth ? row.truth.c_str() : "");
+    std::snprintf(line, sizeof line, "  %-18s %-16s%-28s%s\n", row.label.c_str(), row.measured.c_str(),
+                  row.interval.c_str(), truth ? row.truth.c_str() : "");
     out << line;
   }
   if (!result.findings.empty()) out << "\n  findings\n";

@@ -23,6 +23,14 @@
 namespace loopmargin {
 
 enum class GainDirection { kIncrease, kDecrease };
+
+// A two-sided interval at MarginOptions::confidence, from the lines'
+// uncertainty propagated through the local fits (first order). Absent for
+// lines without uncertainty (an exact table).
+struct Interval {
+  double low = 0.0;
+  double high = 0.0;
+};
 const char* direction_name(GainDirection direction);  // "increase" / "decrease"
 
 struct GainCrossover {
@@ -30,6 +38,9 @@ struct GainCrossover {
   double phase_margin_deg = 0.0;
   double delay_margin_s = 0.0;  // negative when PM is negative
   std::size_t merged_crossings = 1;  // noise crossings merged into this one
+  std::optional<Interval> frequency_ci_hz;
+  std::optional<Interval> phase_margin_ci_deg;
+  std::optional<Interval> delay_margin_ci_s;
 };
 
 struct PhaseCrossover {
@@ -37,6 +48,8 @@ struct PhaseCrossover {
   double gain_margin_db = 0.0;
   GainDirection limits = GainDirection::kIncrease;  // the gain change this crossing limits
   std::size_t merged_crossings = 1;
+  std::optional<Interval> frequency_ci_hz;
+  std::optional<Interval> gain_margin_ci_db;
 };
 
 struct ModulusPoint {
@@ -44,6 +57,8 @@ struct ModulusPoint {
   double modulus_margin = 0.0;        // min |1 + L|
   double peak_sensitivity_db = 0.0;   // 20 log10 (1 / min |1 + L|)
   bool at_band_edge = false;          // the minimum may lie outside the band
+  std::optional<Interval> modulus_margin_ci;
+  std::optional<Interval> peak_sensitivity_ci_db;
 };
 
 struct MarginSummary {
@@ -57,6 +72,14 @@ struct MarginSummary {
   std::optional<double> modulus_margin;
   std::optional<double> peak_sensitivity_db;
   std::optional<double> modulus_frequency_hz;
+  // Intervals of the values above, from the crossing each value came from.
+  std::optional<Interval> gain_crossover_ci_hz;
+  std::optional<Interval> phase_margin_ci_deg;
+  std::optional<Interval> phase_crossover_ci_hz;
+  std::optional<Interval> gain_margin_ci_db;
+  std::optional<Interval> delay_margin_ci_s;
+  std::optional<Interval> modulus_margin_ci;
+  std::optional<Interval> peak_sensitivity_ci_db;
 };
 
 struct Margins {
@@ -67,8 +90,12 @@ struct Margins {
   double band_low_hz = 0.0;
   double band_high_hz = 0.0;
   std::size_t line_count = 0;
+  double confidence = 0.95;  // of the intervals
   Diagnostics findings;
 };
+
+// The standard normal quantile z with P(|Z| < z) = confidence.
+double two_sided_z(double confidence);
 
 struct MarginOptions {
   // Lines on each side of a crossing used by its local least-squares fit.
@@ -83,6 +110,8 @@ struct MarginOptions {
   // nepers, of angle L in rad) exceeds this cannot be placed: it is left out
   // of the lists and reported as a finding. 0.25 is 2.2 dB and 14 deg.
   double max_line_sigma = 0.25;
+  // Level of the intervals (two-sided).
+  double confidence = 0.95;
 };
 
 // Margins from measured or tabulated lines (ascending frequency). Crossings
