@@ -121,11 +121,20 @@ class DemoScenarios(unittest.TestCase):
         run("margins", stem + ".lines.csv", "--json", stem + ".again.json")
         again = load(stem + ".again.json")["summary"]
         first = self.results["servo_velocity"][0]["summary"]
+        intervals = first.pop("intervals")
         for key, value in first.items():
             if value is None:
                 self.assertIsNone(again[key], key)
             else:
                 self.assertAlmostEqual(again[key], value, delta=1e-9 * max(1.0, abs(value)), msg=key)
+        # The CSV carries each line's sigma (mag_sigma_db), so the intervals come back too.
+        for key, interval in intervals.items():
+            if interval is None:
+                self.assertIsNone(again["intervals"][key], key)
+                continue
+            for end in ("ci_low", "ci_high"):
+                self.assertAlmostEqual(again["intervals"][key][end], interval[end],
+                                       delta=1e-6 * max(1.0, abs(interval[end])), msg=key)
 
     def test_text_report_prints_truth_beside_measurement(self):
         stem = os.path.join(self.folder, "buck_48v_12v")
