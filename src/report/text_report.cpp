@@ -84,10 +84,10 @@ void write_method(std::ostream& out, const AnalysisResult& r) {
   } else if (r.record) {
     const auto& rec = *r.record;
     const auto& w = r.options.welch;
-    if (r.excitation) out << "  excitation  " << r.excitation->describe(rec.sample_rate_hz) << "\n";
     out << "  recording   " << rec.sample_count << " samples at " << format_frequency(rec.sample_rate_hz) << " ("
         << format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) << "); z = " << rec.roles.injection
         << ", x = " << rec.roles.x << ", y = " << rec.roles.y << "\n";
+    if (r.excitation) out << "  excitation  " << r.excitation->describe(rec.sample_rate_hz) << "\n";
     out << "  estimate    "
         << (r.options.response.estimator == Estimator::kReference ? "reference method S_zy/S_zx"
                                                                   : "two-channel S_xy/S_xx (biased in closed loop)")
