@@ -45,6 +45,21 @@ ModulusPoint refine_modulus(const LoopFunction& loop, const detail::LineTable& t
   return {std::pow(10.0, u), s_m, -db_from_ratio(s_m), at_edge};
 }
 
+DiskMargin refine_disk(const LoopFunction& loop, const detail::LineTable& table) {
+  const auto spread = [&](double u) {
+    return at_log_f(loop, u, [](auto l) { return std::abs((1.0 - l) / (1.0 + l)); });
+  };
+  std::size_t k = 0;
+  for (std::size_t i = 1; i < table.size(); ++i) {
+    if (spread(table.log_f[i]) > spread(table.log_f[k])) k = i;
+  }
+  const bool at_edge = k == 0 || k + 1 == table.size();
+  const double a = table.log_f[k == 0 ? 0 : k - 1];
+  const double b = table.log_f[std::min(k + 1, table.size() - 1)];
+  const double u = detail::golden_minimum([&](double v) { return -spread(v); }, a, b);
+  return disk_margin_from_peak(spread(u), std::pow(10.0, u), at_edge);
+}
+
 }  // namespace
 
 Margins exact_margins(const LoopFunction& loop, double low_hz, double high_hz, std::size_t grid_lines) {
@@ -68,6 +83,7 @@ Margins exact_margins(const LoopFunction& loop, double low_hz, double high_hz, s
     margins.phase_crossovers.push_back(refine_phase(loop, table, bracket));
   }
   margins.modulus = refine_modulus(loop, table);
+  margins.disk = refine_disk(loop, table);
   margins.summary = detail::summarize(margins);
   detail::add_absence_findings(table, margins);
   return margins;

@@ -304,34 +304,55 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
   return result;
 }
 
-// The smallest |1 + L| between the neighbours of the smallest line, on local
-// fits of Re L and Im L (interpolating for exact lines, smoothing for
-// measured ones).
+// L near line k from local fits of Re L and Im L (interpolating for exact
+// lines, smoothing for measured ones), with each part's fitted sigma.
+struct LocalLoop {
+  LocalFit re;
+  LocalFit im;
+  std::complex<double> at(double u) const { return {re.at(u), im.at(u)}; }
+};
+
+LocalLoop local_loop(const LineTable& table, std::size_t k, const MarginOptions& options) {
+  const Window w = window_around(k, k, options.fit_half_width, table.size());
+  std::vector<double> re(table.size()), im(table.size()), sigmas(table.size());
+  for (std::size_t i = w.first; i <= w.last; ++i) {
+    re[i] = table.value[i].real();
+    im[i] = table.value[i].imag();
+    sigmas[i] = table.relative_sigma[i] * std::abs(table.value[i]);  // absolute sigma of each part
+  }
+  const int degree = detail::fit_degree(table.relative_sigma, w.first, w.last);
+  return {detail::fit_local(table.log_f, re, sigmas, w.first, w.last, degree),
+          detail::fit_local(table.log_f, im, sigmas, w.first, w.last, degree)};
+}
+
+// The line where `measure` of L is largest, and the log frequency between its
+// neighbours where the local fit of L makes it largest.
+template <typename Measure>
+std::pair<std::size_t, double> peak_of(const LineTable& table, const MarginOptions& options, Measure measure,
+                                       LocalLoop* fitted) {
+  std::size_t k = 0;
+  for (std::size_t i = 1; i < table.size(); ++i) {
+    if (measure(table.value[i]) > measure(table.value[k])) k = i;
+  }
+  if (k == 0 || k + 1 == table.size() || table.size() < 4) return {k, table.log_f[k]};
+  *fitted = local_loop(table, k, options);
+  const auto negative = [&](double u) { return -measure(fitted->at(u)); };
+  return {k, detail::golden_minimum(negative, table.log_f[k - 1], table.log_f[k + 1])};
+}
+
 ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options) {
-  const std::size_t k = detail::modulus_minimum_index(table);
-  const auto distance = [&](std::size_t i) { return std::abs(1.0 + table.value[i]); };
-  ModulusPoint point{std::pow(10.0, table.log_f[k]), distance(k), 0.0, k == 0 || k + 1 == table.size()};
-  if (!point.at_band_edge && table.size() >= 4) {
-    const Window w = window_around(k, k, options.fit_half_width, table.size());
-    std::vector<double> re, im;
-    for (const auto& v : table.value) {
-      re.push_back(v.real());
-      im.push_back(v.imag());
-    }
-    const int degree = detail::fit_degree(table.relative_sigma, w.first, w.last);
-    // Absolute sigma of each part: relative sigma times |L|.
-    std::vector<double> sigmas(table.size());
-    for (std::size_t i = w.first; i <= w.last; ++i) sigmas[i] = table.relative_sigma[i] * std::abs(table.value[i]);
-    const LocalFit fit_re = detail::fit_local(table.log_f, re, sigmas, w.first, w.last, degree);
-    const LocalFit fit_im = detail::fit_local(table.log_f, im, sigmas, w.first, w.last, degree);
-    const auto fitted = [&](double u) { return std::hypot(1.0 + fit_re.at(u), fit_im.at(u)); };
-    const double u = detail::golden_minimum(fitted, table.log_f[k - 1], table.log_f[k + 1]);
-    point.frequency_hz = std::pow(10.0, u);
-    point.modulus_margin = fitted(u);
+  const auto closeness = [](std::complex<double> l) { return -std::abs(1.0 + l); };
+  LocalLoop fit;
+  const auto [k, u] = peak_of(table, options, closeness, &fit);
+  const bool edge = k == 0 || k + 1 == table.size() || table.size() < 4;
+  ModulusPoint point{std::pow(10.0, u), std::abs(1.0 + table.value[k]), 0.0, edge};
+  if (!edge) {
+    const std::complex<double> l = fit.at(u);
+    point.modulus_margin = std::min(std::abs(1.0 + l), std::abs(1.0 + table.value[k]));
     // |1 + L| moves along the direction of 1 + L: the parts' fitted sigmas,
     // weighted by that direction.
-    const double angle = std::atan2(fit_im.at(u), 1.0 + fit_re.at(u));
-    const double sigma = std::hypot(std::cos(angle) * fit_re.sigma_at(u), std::sin(angle) * fit_im.sigma_at(u));
+    const double angle = std::arg(1.0 + l);
+    const double sigma = std::hypot(std::cos(angle) * fit.re.sigma_at(u), std::sin(angle) * fit.im.sigma_at(u));
     const double z = two_sided_z(options.confidence);
     point.modulus_margin_ci = interval(point.modulus_margin, sigma, z);
     if (point.modulus_margin_ci && point.modulus_margin_ci->low > 0.0) {
@@ -343,7 +364,30 @@ ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options)
   return point;
 }
 
+// The largest |S - T| = |(1 - L)/(1 + L)| over the band.
+DiskMargin disk_point(const LineTable& table, const MarginOptions& options) {
+  const auto spread = [](std::complex<double> l) { return std::abs((1.0 - l) / (1.0 + l)); };
+  LocalLoop fit;
+  const auto [k, u] = peak_of(table, options, spread, &fit);
+  const bool edge = k == 0 || k + 1 == table.size() || table.size() < 4;
+  const double peak = edge ? spread(table.value[k]) : std::max(spread(fit.at(u)), spread(table.value[k]));
+  return disk_margin_from_peak(peak, std::pow(10.0, u), edge);
+}
+
 }  // namespace
+
+DiskMargin disk_margin_from_peak(double peak, double frequency_hz, bool at_band_edge) {
+  DiskMargin d;
+  d.alpha = 2.0 / peak;
+  d.frequency_hz = frequency_hz;
+  d.at_band_edge = at_band_edge;
+  // At alpha = 2 (to rounding) the disk admits any gain increase.
+  const bool unbounded = d.alpha >= 2.0 * (1.0 - 1e-9);
+  d.gain_low_db = unbounded ? -INFINITY : db_from_ratio((2.0 - d.alpha) / (2.0 + d.alpha));
+  if (!unbounded) d.gain_high_db = db_from_ratio((2.0 + d.alpha) / (2.0 - d.alpha));
+  d.phase_deg = deg_from_rad(2.0 * std::atan(d.alpha / 2.0));
+  return d;
+}
 
 double two_sided_z(double confidence) {
   if (!(confidence > 0.0 && confidence < 1.0)) throw ConfigError("the confidence level must lie between 0 and 1");
@@ -373,6 +417,7 @@ Margins find_margins(const Response& loop, const MarginOptions& options) {
   margins.gain_crossovers = gain_crossovers(table, options, margins.findings);
   margins.phase_crossovers = phase_crossovers(table, options, margins.findings);
   margins.modulus = modulus_point(table, options);
+  margins.disk = disk_point(table, options);
   margins.summary = detail::summarize(margins);
   detail::add_absence_findings(table, margins);
   return margins;

@@ -69,6 +69,13 @@ void put_margins(Json& out, const Margins& m) {
                                     {"peak_sensitivity_db", m.modulus->peak_sensitivity_db},
                                     {"at_band_edge", m.modulus->at_band_edge}}
                              : Json(nullptr);
+  out["disk"] = m.disk ? Json{{"alpha", m.disk->alpha},
+                              {"freq_hz", m.disk->frequency_hz},
+                              {"gain_low_db", std::isfinite(m.disk->gain_low_db) ? Json(m.disk->gain_low_db) : Json(nullptr)},
+                              {"gain_high_db", optional_number(m.disk->gain_high_db)},
+                              {"phase_deg", m.disk->phase_deg},
+                              {"at_band_edge", m.disk->at_band_edge}}
+                       : Json(nullptr);
   out["summary"] = summary_json(m.summary);
 }
 

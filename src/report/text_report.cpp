@@ -140,6 +140,13 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
                   row.interval.c_str(), truth ? row.truth.c_str() : "");
     out << line;
   }
+  if (const auto& d = result.margins.disk) {
+    out << "\n  disk margin        alpha " << printf_string("%.3f", d->alpha) << ": the loop tolerates gain "
+        << (std::isfinite(d->gain_low_db) ? printf_string("%+.1f dB", d->gain_low_db) : std::string("down to 0"))
+        << " to " << (d->gain_high_db ? printf_string("%+.1f dB", *d->gain_high_db) : std::string("unbounded"))
+        << " together with phase +-" << printf_string("%.1f deg", d->phase_deg) << " (worst at "
+        << format_frequency(d->frequency_hz) << (d->at_band_edge ? ", at the band edge" : "") << ")\n";
+  }
   if (!result.findings.empty()) out << "\n  findings\n";
   for (const auto& d : result.findings) {
     out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";

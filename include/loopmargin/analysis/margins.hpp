@@ -61,6 +61,24 @@ struct ModulusPoint {
   std::optional<Interval> peak_sensitivity_ci_db;
 };
 
+// Balanced disk margin (skew 0): alpha = 2 / max |S - T| over the band, with
+// S = 1/(1+L), T = L/(1+L), so S - T = (1-L)/(1+L). The loop tolerates any
+// simultaneous gain change within [(2-alpha)/(2+alpha), (2+alpha)/(2-alpha)]
+// and phase change within +-2 atan(alpha/2) (P. Seiler, A. Packard,
+// P. Gahinet, "An introduction to disk margins", IEEE Control Systems
+// Magazine, 2020). Over the measured band only.
+struct DiskMargin {
+  double alpha = 0.0;
+  double frequency_hz = 0.0;             // where |S - T| peaks
+  double gain_low_db = 0.0;              // 20 log10 (2-alpha)/(2+alpha); -inf when alpha >= 2
+  std::optional<double> gain_high_db;    // 20 log10 (2+alpha)/(2-alpha); unset (unbounded) when alpha >= 2
+  double phase_deg = 0.0;                // 2 atan(alpha/2)
+  bool at_band_edge = false;
+};
+
+// The disk margin of a given peak of |S - T| at a frequency.
+DiskMargin disk_margin_from_peak(double peak, double frequency_hz, bool at_band_edge);
+
 struct MarginSummary {
   std::optional<double> gain_crossover_hz;   // the crossover with the smallest phase margin
   std::optional<double> phase_margin_deg;    // the smallest over gain crossovers
@@ -86,6 +104,7 @@ struct Margins {
   std::vector<GainCrossover> gain_crossovers;    // ascending frequency
   std::vector<PhaseCrossover> phase_crossovers;  // ascending frequency
   std::optional<ModulusPoint> modulus;
+  std::optional<DiskMargin> disk;
   MarginSummary summary;
   double band_low_hz = 0.0;
   double band_high_hz = 0.0;

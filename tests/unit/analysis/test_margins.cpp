@@ -223,3 +223,34 @@ TEST_CASE("fewer than two lines are refused", "[analysis][margins]") {
   r.relative_sigma = {0.0};
   CHECK_THROWS_AS(find_margins(r), NumericalError);
 }
+
+TEST_CASE("disk margin of an integrator is alpha = 2 with 90 deg of phase", "[analysis][disk]") {
+  // L = a/s: |S - T| = |(jw - a)/(jw + a)| = 1 at every frequency, so
+  // alpha = 2 (closed form): any gain increase and 2 atan(1) = 90 deg
+  // (Seiler, Packard, Gahinet, IEEE Control Systems Magazine 2020, for the
+  // definitions).
+  const LoopFunction loop = [](double f) { return 5.0 / known::s_of(f); };
+  const Margins m = find_margins(known::sample(loop, 0.01, 100.0, 100));
+  REQUIRE(m.disk.has_value());
+  CHECK(m.disk->alpha == Approx(2.0).margin(1e-9));
+  CHECK(m.disk->phase_deg == Approx(90.0).margin(1e-6));
+  CHECK_FALSE(m.disk->gain_high_db.has_value());
+}
+
+TEST_CASE("disk margins are inner bounds of the classical margins on every known loop", "[analysis][disk]") {
+  // Seiler, Packard, Gahinet 2020: the disk gain range lies inside the gain
+  // margins and the disk phase inside the phase margins. The sampled disk
+  // margin matches the exact one (golden-section on the loop function).
+  for (const auto& k : known::table()) {
+    INFO(k.name);
+    const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
+    const Margins exact = exact_margins(k.loop, k.low_hz, k.high_hz);
+    REQUIRE(m.disk.has_value());
+    CHECK(m.disk->alpha == Approx(exact.disk->alpha).epsilon(1e-4));
+    for (const auto& c : m.gain_crossovers) CHECK(std::abs(c.phase_margin_deg) >= m.disk->phase_deg - 1e-6);
+    for (const auto& c : m.phase_crossovers) {
+      if (c.gain_margin_db > 0.0 && m.disk->gain_high_db) CHECK(c.gain_margin_db >= *m.disk->gain_high_db - 1e-6);
+      if (c.gain_margin_db < 0.0) CHECK(c.gain_margin_db <= m.disk->gain_low_db + 1e-6);
+    }
+  }
+}
