@@ -11,9 +11,10 @@
 namespace loopmargin::detail {
 
 LineTable make_line_table(const std::vector<double>& frequency_hz, const std::vector<std::complex<double>>& value,
-                          const std::vector<double>& relative_sigma) {
+                          const std::vector<double>& relative_sigma, const std::vector<double>& coherence) {
   LineTable table;
   table.value = value;
+  table.coherence = coherence;
   double previous_rad = 0.0;
   double unwrapped_deg = 0.0;
   for (std::size_t k = 0; k < value.size(); ++k) {

@@ -19,13 +19,14 @@ struct LineTable {
   std::vector<double> gain_sigma_db;
   std::vector<double> phase_sigma_deg;
   std::vector<double> relative_sigma;
+  std::vector<double> coherence;  // empty when unknown
   std::vector<std::complex<double>> value;
 
   std::size_t size() const { return log_f.size(); }
 };
 
 LineTable make_line_table(const std::vector<double>& frequency_hz, const std::vector<std::complex<double>>& value,
-                          const std::vector<double>& relative_sigma);
+                          const std::vector<double>& relative_sigma, const std::vector<double>& coherence = {});
 
 // A crossing of `level` between line `index` and line `index + 1`.
 struct Bracket {

@@ -149,6 +149,34 @@ Placed place(const LineTable& table, const Curve& crossing_curve, const Curve& o
   return {log_f, log_f_sigma, other.at(log_f), std::hypot(other.sigma_at(log_f), moved)};
 }
 
+// Why a crossing deserves less trust than its interval gives it.
+std::vector<std::string> trust_flags(const LineTable& table, const std::vector<Crossing>& group,
+                                     const MarginOptions& options) {
+  constexpr double kLowCoherence = 0.5;
+  constexpr std::size_t kEdgeLines = 2;
+  const double sparse = std::log10(1.10);
+  std::vector<std::string> flags;
+  const std::size_t first = group.front().bracket.index;
+  const std::size_t last = group.back().bracket.index + 1;
+  const Window w = window_around(first, last - 1, options.fit_half_width, table.size());
+  if (!table.coherence.empty()) {
+    for (std::size_t i = w.first; i <= w.last; ++i) {
+      if (table.coherence[i] <= kLowCoherence) {
+        flags.emplace_back(kTrustLowCoherence);
+        break;
+      }
+    }
+  }
+  if (first < kEdgeLines || last + kEdgeLines >= table.size()) flags.emplace_back(kTrustBandEdge);
+  for (std::size_t i = first; i < last; ++i) {
+    if (table.log_f[i + 1] - table.log_f[i] > sparse) {
+      flags.emplace_back(kTrustSparseLines);
+      break;
+    }
+  }
+  return flags;
+}
+
 std::optional<Interval> interval(double value, double sigma, double z) {
   if (!(sigma > 0.0)) return std::nullopt;
   return Interval{value - z * sigma, value + z * sigma};
@@ -270,6 +298,7 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
     const double delay_sigma = std::hypot(rad_from_deg(p.other_sigma) / omega,
                                           c.delay_margin_s * std::numbers::ln10 * p.log_f_sigma);
     c.delay_margin_ci_s = interval(c.delay_margin_s, delay_sigma, z);
+    c.trust_flags = trust_flags(table, g.members, options);
     result.push_back(c);
   }
   return result;
@@ -298,6 +327,7 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
     c.merged_crossings = g.members.size();
     c.frequency_ci_hz = frequency_interval(p.log_f, p.log_f_sigma, z);
     c.gain_margin_ci_db = interval(c.gain_margin_db, p.other_sigma, z);
+    c.trust_flags = trust_flags(table, g.members, options);
     result.push_back(c);
   }
   std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz < b.frequency_hz; });
@@ -408,7 +438,7 @@ Margins find_margins(const Response& loop, const MarginOptions& options) {
   if (loop.size() < 2) throw NumericalError("margins need at least two lines; the response has " +
                                             std::to_string(loop.size()));
   if (options.fit_half_width < 1) throw ConfigError("the local fit needs at least one line on each side");
-  const LineTable table = detail::make_line_table(loop.frequency_hz, loop.value, loop.relative_sigma);
+  const LineTable table = detail::make_line_table(loop.frequency_hz, loop.value, loop.relative_sigma, loop.coherence);
   Margins margins;
   margins.band_low_hz = loop.frequency_hz.front();
   margins.band_high_hz = loop.frequency_hz.back();

@@ -52,7 +52,8 @@ void put_margins(Json& out, const Margins& m) {
                                       {"intervals",
                                        {{"freq_hz", interval_json(c.frequency_ci_hz)},
                                         {"phase_margin_deg", interval_json(c.phase_margin_ci_deg)},
-                                        {"delay_margin_s", interval_json(c.delay_margin_ci_s)}}}});
+                                        {"delay_margin_s", interval_json(c.delay_margin_ci_s)}}},
+                                      {"trust_flags", c.trust_flags}});
   }
   out["phase_crossovers"] = Json::array();
   for (const auto& c : m.phase_crossovers) {
@@ -62,7 +63,8 @@ void put_margins(Json& out, const Margins& m) {
                                        {"merged_crossings", c.merged_crossings},
                                        {"intervals",
                                         {{"freq_hz", interval_json(c.frequency_ci_hz)},
-                                         {"gain_margin_db", interval_json(c.gain_margin_ci_db)}}}});
+                                         {"gain_margin_db", interval_json(c.gain_margin_ci_db)}}},
+                                       {"trust_flags", c.trust_flags}});
   }
   out["modulus"] = m.modulus ? Json{{"freq_hz", m.modulus->frequency_hz},
                                     {"modulus_margin", m.modulus->modulus_margin},

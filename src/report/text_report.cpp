@@ -100,23 +100,30 @@ void write_method(std::ostream& out, const AnalysisResult& r) {
       << format_frequency(r.margins.band_high_hz) << "\n\n";
 }
 
+std::string flags_text(const std::vector<std::string>& flags) {
+  if (flags.empty()) return "";
+  std::string text = "   trust less: ";
+  for (std::size_t i = 0; i < flags.size(); ++i) text += (i ? ", " : "") + flags[i];
+  return text;
+}
+
 void write_crossings(std::ostream& out, const Margins& m) {
   out << "  gain crossovers (|L| = 1)\n";
   if (m.gain_crossovers.empty()) out << "    none in band\n";
   for (const auto& c : m.gain_crossovers) {
     char line[160];
-    std::snprintf(line, sizeof line, "    %-12s phase margin %7.1f deg   delay margin %s%s\n",
+    std::snprintf(line, sizeof line, "    %-12s phase margin %7.1f deg   delay margin %s%s",
                   format_frequency(c.frequency_hz).c_str(), c.phase_margin_deg, format_time(c.delay_margin_s).c_str(),
                   c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
-    out << line;
+    out << line << flags_text(c.trust_flags) << "\n";
   }
   out << "  phase crossovers (angle L = -180 deg)\n";
   if (m.phase_crossovers.empty()) out << "    none in band\n";
   for (const auto& c : m.phase_crossovers) {
     char line[160];
-    std::snprintf(line, sizeof line, "    %-12s gain margin  %+7.1f dB    limits gain %s\n",
+    std::snprintf(line, sizeof line, "    %-12s gain margin  %+7.1f dB    limits gain %s",
                   format_frequency(c.frequency_hz).c_str(), c.gain_margin_db, direction_name(c.limits));
-    out << line;
+    out << line << flags_text(c.trust_flags) << "\n";
   }
   out << "\n";
 }

@@ -15,6 +15,7 @@
 #include <complex>
 #include <functional>
 #include <optional>
+#include <string>
 #include <vector>
 
 #include "loopmargin/record/diagnostic.hpp"
@@ -23,6 +24,14 @@
 namespace loopmargin {
 
 enum class GainDirection { kIncrease, kDecrease };
+
+// Reasons to trust a crossing less than its interval says, as stable names:
+//   "low-coherence"  a line of its local fit has coherence at or below 0.5
+//   "band-edge"      it lies within two lines of the end of the band
+//   "sparse-lines"   its neighbouring lines are more than 10 % apart in frequency
+inline constexpr const char* kTrustLowCoherence = "low-coherence";
+inline constexpr const char* kTrustBandEdge = "band-edge";
+inline constexpr const char* kTrustSparseLines = "sparse-lines";
 
 // A two-sided interval at MarginOptions::confidence, from the lines'
 // uncertainty propagated through the local fits (first order). Absent for
@@ -41,6 +50,7 @@ struct GainCrossover {
   std::optional<Interval> frequency_ci_hz;
   std::optional<Interval> phase_margin_ci_deg;
   std::optional<Interval> delay_margin_ci_s;
+  std::vector<std::string> trust_flags;  // see TrustFlag below; empty when nothing calls it into question
 };
 
 struct PhaseCrossover {
@@ -50,6 +60,7 @@ struct PhaseCrossover {
   std::size_t merged_crossings = 1;
   std::optional<Interval> frequency_ci_hz;
   std::optional<Interval> gain_margin_ci_db;
+  std::vector<std::string> trust_flags;
 };
 
 struct ModulusPoint {

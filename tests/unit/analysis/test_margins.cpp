@@ -254,3 +254,19 @@ TEST_CASE("disk margins are inner bounds of the classical margins on every known
     }
   }
 }
+
+TEST_CASE("crossings that deserve less trust are flagged with the reason", "[analysis][trust]") {
+  const auto k = known::table()[0];  // 1/(s(s+1)(s+2)): gain crossover at 0.4457 rad/s
+  const auto flags_of = [](const Margins& m) { return m.gain_crossovers.at(0).trust_flags; };
+  using Flags = std::vector<std::string>;
+  CHECK(flags_of(find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade))).empty());
+  // Five lines a decade: neighbours 58 % apart.
+  CHECK(flags_of(find_margins(known::sample(k.loop, k.low_hz, k.high_hz, 5))) == Flags{kTrustSparseLines});
+  // A band that starts just below the crossover.
+  CHECK(flags_of(find_margins(known::sample(k.loop, known::hz(0.445), k.high_hz, kLinesPerDecade))) ==
+        Flags{kTrustBandEdge});
+  // Lines of low coherence around it.
+  Response r = known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade);
+  r.coherence.assign(r.size(), 0.3);
+  CHECK(flags_of(find_margins(r)) == Flags{kTrustLowCoherence});
+}
