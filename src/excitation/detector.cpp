@@ -36,7 +36,6 @@ constexpr double kBandFloor = 0.01;  // 20 dB
 struct Frame {
   double power = 0.0;
   double tonality = 0.0;
-  double peak_cycles = 0.0;  // peak frequency in cycles per sample
 };
 
 struct Plateau {
@@ -115,7 +114,7 @@ struct ExcitationDetector::Impl {
       mean_spectrum[k] += power[k];
       if (k + 2 >= peak && k <= peak + 2) near += power[k];
     }
-    frames.push_back({total, total > 0.0 ? near / total : 0.0, static_cast<double>(peak) / kFrameSamples});
+    frames.push_back({total, total > 0.0 ? near / total : 0.0});
     frame_buffer.clear();
   }
 

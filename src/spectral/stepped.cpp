@@ -34,7 +34,6 @@ struct SteppedSineEstimator::Impl {
   std::size_t current = 0;
   std::vector<double> buffer[kChannels];
   Response response;
-  std::vector<DwellResult> results;
   std::vector<double> too_short_hz;
   std::vector<double> distorted_hz;
   std::vector<double> mismatched_hz;  // dwells whose injection is not at the stated frequency
@@ -86,7 +85,6 @@ struct SteppedSineEstimator::Impl {
     response.value.push_back(y.phasor() / x.phasor());
     response.coherence.push_back(1.0 / (1.0 + std::pow(10.0, -snr_db / 10.0)));
     response.relative_sigma.push_back(std::sqrt(relative / 2.0));
-    results.push_back({z.frequency_hz, snr_db, worst});
   }
 
   void next_dwell() {
@@ -168,7 +166,5 @@ Response SteppedSineEstimator::finish(Diagnostics& findings) {
   sorted.effective_averages = 1.0;
   return sorted;
 }
-
-const std::vector<DwellResult>& SteppedSineEstimator::dwell_results() const { return impl_->results; }
 
 }  // namespace loopmargin

@@ -27,13 +27,6 @@ struct SteppedOptions {
   double max_harmonic_ratio = 0.05;  // a harmonic above this share of the fundamental is reported
 };
 
-// Per dwell, for reports.
-struct DwellResult {
-  double frequency_hz = 0.0;
-  double snr_db = 0.0;             // the weaker of x and y: fundamental power over residual power
-  double worst_harmonic = 0.0;     // largest of harmonics 2..5 over the fundamental, in x or y
-};
-
 class SteppedSineEstimator {
  public:
   explicit SteppedSineEstimator(SteppedOptions options);
@@ -46,7 +39,6 @@ class SteppedSineEstimator {
 
   // Throws NumericalError when no dwell could be fitted.
   Response finish(Diagnostics& findings);
-  const std::vector<DwellResult>& dwell_results() const;
 
  private:
   struct Impl;
