@@ -2,6 +2,7 @@
 #pragma once
 
 #include <cmath>
+#include <cstddef>
 #include <numbers>
 
 namespace loopmargin {
@@ -23,6 +24,14 @@ inline double wrap_deg(double angle_deg) {
   if (wrapped <= -180.0) wrapped += 360.0;
   if (wrapped > 180.0) wrapped -= 360.0;
   return wrapped;
+}
+
+// A sample index or count from a non-negative real, rounded to nearest and
+// clamped to [0, limit] so that no input can overflow the conversion.
+inline std::size_t clamped_samples(double samples, std::size_t limit) {
+  if (!(samples > 0.0)) return 0;
+  if (samples >= static_cast<double>(limit)) return limit;
+  return static_cast<std::size_t>(std::llround(samples));
 }
 
 }  // namespace loopmargin

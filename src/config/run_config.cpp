@@ -19,9 +19,10 @@ void set_if(std::optional<U> value, T& target) {
   if (value) target = static_cast<T>(*value);
 }
 
-std::size_t whole_number(double value, const std::string& where, const char* key) {
-  if (!(value >= 0.0) || value != std::floor(value)) throw ConfigError(where + ": '" + key + "' must be a whole number");
-  return static_cast<std::size_t>(value);
+std::optional<std::size_t> optional_count(const toml::table& t, const char* key, const std::string& where) {
+  const auto value = detail::optional_whole(t, key, where);
+  if (!value) return std::nullopt;
+  return static_cast<std::size_t>(*value);
 }
 
 void read_input(const toml::table& t, const std::string& where, RecordingOptions& r) {
@@ -40,7 +41,7 @@ void read_input(const toml::table& t, const std::string& where, RecordingOptions
     if (*order != "little" && *order != "big") throw ConfigError(where + ": 'byte_order' must be little or big");
     r.raw.big_endian = *order == "big";
   }
-  if (const auto header = optional_number(t, "header_bytes", where)) r.raw.header_bytes = whole_number(*header, where, "header_bytes");
+  set_if(optional_count(t, "header_bytes", where), r.raw.header_bytes);
   set_if(optional_numbers(t, "scale", where), r.scale);
   set_if(optional_numbers(t, "offset", where), r.offset);
   set_if(optional_text(t, "dataset", where), r.hdf5.dataset);
@@ -58,7 +59,7 @@ void read_roles(const toml::table& t, const std::string& where, ChannelRoles& ro
 void read_spectral(const toml::table& t, const std::string& where, AnalysisOptions& a) {
   check_keys(t, {"window", "segment", "overlap", "estimator", "injection_floor_db"}, where);
   if (const auto window = optional_text(t, "window", where)) a.welch.window = window_from_name(*window);
-  if (const auto segment = optional_number(t, "segment", where)) a.welch.segment_length = whole_number(*segment, where, "segment");
+  set_if(optional_count(t, "segment", where), a.welch.segment_length);
   set_if(optional_number(t, "overlap", where), a.welch.overlap);
   if (const auto estimator = optional_text(t, "estimator", where)) a.response.estimator = estimator_from_name(*estimator);
   set_if(optional_number(t, "injection_floor_db", where), a.response.injection_floor_db);
@@ -71,8 +72,8 @@ void read_excitation(const toml::table& t, const std::string& where, AnalysisOpt
   if (const auto kind = optional_text(t, "kind", where)) {
     a.excitation = *kind == "auto" ? std::nullopt : std::optional(excitation_from_name(*kind));
   }
-  if (const auto p = optional_number(t, "period_samples", where)) a.period_samples = whole_number(*p, where, "period_samples");
-  if (const auto p = optional_number(t, "skip_periods", where)) a.skip_periods = whole_number(*p, where, "skip_periods");
+  set_if(optional_count(t, "period_samples", where), a.period_samples);
+  set_if(optional_count(t, "skip_periods", where), a.skip_periods);
   set_if(optional_number(t, "settle_cycles", where), a.settle_cycles);
   set_if(optional_number(t, "settle_s", where), a.settle_s);
 }

@@ -47,6 +47,18 @@ std::optional<double> optional_number(const toml::table& table, const char* key,
   return value;
 }
 
+std::optional<std::int64_t> optional_whole(const toml::table& table, const char* key, const std::string& where,
+                                           WholeRange range) {
+  const auto value = optional_number(table, key, where);
+  if (!value) return std::nullopt;
+  if (*value != std::floor(*value) || *value < static_cast<double>(range.low) ||
+      *value > static_cast<double>(range.high)) {
+    throw ConfigError(where + ": '" + key + "' must be a whole number from " + std::to_string(range.low) + " to " +
+                      std::to_string(range.high));
+  }
+  return static_cast<std::int64_t>(*value);
+}
+
 double required_number(const toml::table& table, const char* key, const std::string& where) {
   const auto value = optional_number(table, key, where);
   if (!value) throw ConfigError(where + ": missing key '" + key + "'");

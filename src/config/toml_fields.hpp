@@ -2,6 +2,7 @@
 // table and the key. Unknown keys are refused so that a typo cannot pass.
 #pragma once
 
+#include <cstdint>
 #include <optional>
 #include <set>
 #include <string>
@@ -19,6 +20,14 @@ void check_keys(const toml::table& table, const std::set<std::string>& allowed, 
 const toml::table* optional_table(const toml::table& parent, const char* key, const std::string& where);
 
 std::optional<double> optional_number(const toml::table& table, const char* key, const std::string& where);
+// Bounds for a whole-number key; the default suits counts and byte offsets.
+struct WholeRange {
+  std::int64_t low = 0;
+  std::int64_t high = std::int64_t{1} << 50;
+};
+// A whole number within range; nullopt when absent; ConfigError otherwise.
+std::optional<std::int64_t> optional_whole(const toml::table& table, const char* key, const std::string& where,
+                                           WholeRange range = {});
 double required_number(const toml::table& table, const char* key, const std::string& where);
 std::optional<std::string> optional_text(const toml::table& table, const char* key, const std::string& where);
 // A list of strings; nullopt when absent.

@@ -8,6 +8,7 @@
 #include "ingest/line_reader.hpp"
 #include "ingest/number_text.hpp"
 #include "loopmargin/error.hpp"
+#include "loopmargin/units.hpp"
 
 namespace loopmargin {
 
@@ -39,7 +40,11 @@ std::vector<ScheduledDwell> read_dwell_schedule(const std::string& path) {
       }
       return *v;
     };
-    out.push_back({value("freq_hz"), value("start_s"), value("length_s")});
+    const double frequency_hz = value("freq_hz");
+    if (frequency_hz == 0.0) {
+      throw InputError(path + ": line " + std::to_string(lines.line_number()) + ": freq_hz must be above zero");
+    }
+    out.push_back({frequency_hz, value("start_s"), value("length_s")});
   }
   if (out.empty()) throw InputError(path + ": no dwells after the header");
   return out;
@@ -49,8 +54,8 @@ std::vector<Dwell> dwells_in_samples(const std::vector<ScheduledDwell>& schedule
                                      std::size_t sample_count, const std::string& origin) {
   std::vector<Dwell> out;
   for (const auto& d : schedule) {
-    const auto first = static_cast<std::size_t>(std::llround(d.start_s * sample_rate_hz));
-    const auto end = std::min(sample_count, static_cast<std::size_t>(std::llround((d.start_s + d.length_s) * sample_rate_hz)));
+    const auto first = clamped_samples(d.start_s * sample_rate_hz, sample_count);
+    const auto end = clamped_samples((d.start_s + d.length_s) * sample_rate_hz, sample_count);
     if (first >= sample_count) {
       throw InputError(origin + ": the schedule's dwell at " + std::to_string(d.frequency_hz) + " Hz starts at " +
                        std::to_string(d.start_s) + " s, past the record's end");

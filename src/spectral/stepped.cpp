@@ -41,7 +41,8 @@ struct SteppedSineEstimator::Impl {
   explicit Impl(SteppedOptions o) : options(std::move(o)) {
     for (const Dwell& d : options.dwells) {
       const double settle = std::max(options.settle_cycles / d.frequency_hz, options.settle_s) * options.sample_rate_hz;
-      windows.push_back({d.first_sample + static_cast<std::size_t>(std::ceil(settle)), d.end_sample});
+      const std::size_t dwell_length = d.end_sample - std::min(d.first_sample, d.end_sample);
+      windows.push_back({d.first_sample + clamped_samples(std::ceil(settle), dwell_length), d.end_sample});
     }
   }
 

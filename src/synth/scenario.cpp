@@ -24,6 +24,12 @@ double number(const toml::table& table, const char* key, const std::string& wher
   return fallback ? optional_number(table, key, where).value_or(*fallback) : required_number(table, key, where);
 }
 
+template <typename T>
+T whole(const toml::table& table, const char* key, const std::string& where, T fallback,
+        detail::WholeRange range = {}) {
+  return static_cast<T>(detail::optional_whole(table, key, where, range).value_or(fallback));
+}
+
 std::string text(const toml::table& table, const char* key, const std::string& where, const std::string& fallback) {
   return optional_text(table, key, where).value_or(fallback);
 }
@@ -51,7 +57,7 @@ Stage read_stage(const toml::table& table, const std::string& where) {
   Stage stage;
   stage.name = text(table, "name", where, where);
   stage.gain = number(table, "gain", where, 1.0);
-  stage.integrators = static_cast<int>(number(table, "integrators", where, 0.0));
+  stage.integrators = whole(table, "integrators", where, 0, {0, 64});
   stage.zeros = factors(table, "zeros", where);
   stage.poles = factors(table, "poles", where);
   const std::string method = text(table, "discretize", where, "zoh");
@@ -82,11 +88,11 @@ Injection read_injection(const toml::table& table, const std::string& where) {
   in.rms = number(table, "rms", where);
   in.low_hz = number(table, "low_hz", where, 0.0);
   in.high_hz = number(table, "high_hz", where, 0.0);
-  in.period_samples = static_cast<std::size_t>(number(table, "period_samples", where, 8192.0));
+  in.period_samples = whole<std::size_t>(table, "period_samples", where, 8192);
   in.odd_only = table["odd_only"].value_or(false);
-  in.prbs_order = static_cast<int>(number(table, "prbs_order", where, 10.0));
-  in.samples_per_bit = static_cast<std::size_t>(number(table, "samples_per_bit", where, 1.0));
-  in.points = static_cast<std::size_t>(number(table, "points", where, 20.0));
+  in.prbs_order = whole(table, "prbs_order", where, 10, {5, 16});
+  in.samples_per_bit = whole<std::size_t>(table, "samples_per_bit", where, 1, {1, 1 << 20});
+  in.points = whole<std::size_t>(table, "points", where, 20, {1, 100000});
   in.dwell_s = number(table, "dwell_s", where, 0.1);
   const std::string sweep = text(table, "sweep", where, "log");
   if (sweep != "log" && sweep != "linear") throw ConfigError(where + ": sweep = '" + sweep + "'; choose log or linear");
@@ -134,6 +140,10 @@ std::size_t Scenario::sample_count() const {
 void Scenario::validate() const {
   const std::string where = name.empty() ? "scenario" : name;
   require(sample_rate_hz > 0.0, where + ": [recording] sample_rate_hz must be positive");
+  constexpr double kMostSamples = 1e12;
+  require(duration_s * sample_rate_hz <= kMostSamples && injection.sweep_s * sample_rate_hz <= kMostSamples &&
+              injection.dwell_s * sample_rate_hz <= kMostSamples,
+          where + ": [recording] and [injection] durations must give at most 1e12 samples");
   require(duration_s > 0.0 && sample_count() >= 16, where + ": [recording] duration_s gives fewer than 16 samples");
   require(injection.rms > 0.0, where + ": [injection] rms must be positive");
   require(injection.period_samples >= 16, where + ": [injection] period_samples must be at least 16");
@@ -171,12 +181,12 @@ Scenario load_scenario(const std::string& path) {
   check_keys(recording, {"sample_rate_hz", "duration_s", "seed"}, path + " [recording]");
   s.sample_rate_hz = number(recording, "sample_rate_hz", path + " [recording]");
   s.duration_s = number(recording, "duration_s", path + " [recording]");
-  s.seed = static_cast<std::uint64_t>(number(recording, "seed", path + " [recording]", 1.0));
+  s.seed = whole<std::uint64_t>(recording, "seed", path + " [recording]", 1);
   s.injection = read_injection(sub_table(root, "injection", path), path + " [injection]");
   if (root["noise"]) s.noise = read_noise(sub_table(root, "noise", path), path + " [noise]");
   const auto& loop = sub_table(root, "loop", path);
   check_keys(loop, {"delay_samples", "stage"}, path + " [loop]");
-  s.delay_samples = static_cast<int>(number(loop, "delay_samples", path + " [loop]", 0.0));
+  s.delay_samples = whole(loop, "delay_samples", path + " [loop]", 0, {0, 1 << 20});
   if (const auto* stages = loop["stage"].as_array()) {
     for (std::size_t i = 0; i < stages->size(); ++i) {
       const auto* table = stages->get(i)->as_table();

@@ -297,6 +297,17 @@ class BadInput(unittest.TestCase):
         path = self.write('name = "x"\n[recording]\nsample_rate_hz = -1\nduration_s = 1\n', name="s.toml")
         self.expect(SETTINGS, "synth", path, "--out-dir", self.folder, contains=("[injection]",))
 
+    def test_whole_numbers_out_of_range(self):
+        # Found by fuzzing: a huge seed once overflowed its conversion to an integer.
+        with open(os.path.join(DEMO, "servo_velocity.toml")) as f:
+            good = f.read()
+        bad = good.replace("seed = 77", "seed = 1e300")
+        self.assertNotEqual(bad, good)
+        self.expect(SETTINGS, "synth", self.write(bad, name="s.toml"), "--out-dir", self.folder,
+                    contains=("'seed' must be a whole number",))
+        self.expect(SETTINGS, "analyze", self.write(self.good_recording()), "--config",
+                    self.write("[spectral]\nsegment = 2.5\n", name="c.toml"), contains=("'segment'",))
+
     def test_quiet_when_not_a_terminal(self):
         result = run("analyze", self.write(self.good_recording()))
         self.assertEqual(result.stderr, "")
