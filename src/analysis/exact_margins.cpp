@@ -84,6 +84,10 @@ Margins exact_margins(const LoopFunction& loop, double low_hz, double high_hz, s
   }
   margins.modulus = refine_modulus(loop, table);
   margins.disk = refine_disk(loop, table);
+  Response grid;
+  grid.frequency_hz = frequency_hz;
+  grid.value = value;
+  margins.stability = assess_stability(grid);
   margins.summary = detail::summarize(margins);
   detail::add_absence_findings(table, margins);
   return margins;

@@ -340,6 +340,12 @@ struct LocalLoop {
   LocalFit re;
   LocalFit im;
   std::complex<double> at(double u) const { return {re.at(u), im.at(u)}; }
+  // First-order sigma of |g(L)| at u, given g and dg/dL there: |g| moves by
+  // Re(w dL) with w = conj(g)/|g| * dg/dL, and dL = d(Re L) + i d(Im L).
+  double sigma_of_modulus(double u, std::complex<double> g, std::complex<double> dg_dl) const {
+    const std::complex<double> w = std::conj(g) / std::abs(g) * dg_dl;
+    return std::hypot(w.real() * re.sigma_at(u), w.imag() * im.sigma_at(u));
+  }
 };
 
 LocalLoop local_loop(const LineTable& table, std::size_t k, const MarginOptions& options) {
@@ -379,10 +385,7 @@ ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options)
   if (!edge) {
     const std::complex<double> l = fit.at(u);
     point.modulus_margin = std::min(std::abs(1.0 + l), std::abs(1.0 + table.value[k]));
-    // |1 + L| moves along the direction of 1 + L: the parts' fitted sigmas,
-    // weighted by that direction.
-    const double angle = std::arg(1.0 + l);
-    const double sigma = std::hypot(std::cos(angle) * fit.re.sigma_at(u), std::sin(angle) * fit.im.sigma_at(u));
+    const double sigma = fit.sigma_of_modulus(u, 1.0 + l, 1.0);
     const double z = two_sided_z(options.confidence);
     point.modulus_margin_ci = interval(point.modulus_margin, sigma, z);
     if (point.modulus_margin_ci && point.modulus_margin_ci->low > 0.0) {
@@ -401,7 +404,23 @@ DiskMargin disk_point(const LineTable& table, const MarginOptions& options) {
   const auto [k, u] = peak_of(table, options, spread, &fit);
   const bool edge = k == 0 || k + 1 == table.size() || table.size() < 4;
   const double peak = edge ? spread(table.value[k]) : std::max(spread(fit.at(u)), spread(table.value[k]));
-  return disk_margin_from_peak(peak, std::pow(10.0, u), edge);
+  DiskMargin disk = disk_margin_from_peak(peak, std::pow(10.0, u), edge);
+  if (edge) return disk;
+  // d/dL (1 - L)/(1 + L) = -2 / (1 + L)^2
+  const std::complex<double> l = fit.at(u);
+  const double sigma = fit.sigma_of_modulus(u, (1.0 - l) / (1.0 + l), -2.0 / ((1.0 + l) * (1.0 + l)));
+  const auto peak_ci = interval(peak, sigma, two_sided_z(options.confidence));
+  if (peak_ci && peak_ci->low > 0.0) {
+    // alpha = 2 / peak, and the guaranteed ranges grow with alpha.
+    const DiskMargin least = disk_margin_from_peak(peak_ci->high, disk.frequency_hz, edge);
+    const DiskMargin most = disk_margin_from_peak(peak_ci->low, disk.frequency_hz, edge);
+    disk.alpha_ci = Interval{least.alpha, most.alpha};
+    disk.phase_ci_deg = Interval{least.phase_deg, most.phase_deg};
+    if (least.gain_high_db) {
+      disk.gain_high_ci_db = Interval{*least.gain_high_db, most.gain_high_db.value_or(INFINITY)};
+    }
+  }
+  return disk;
 }
 
 }  // namespace
@@ -448,6 +467,7 @@ Margins find_margins(const Response& loop, const MarginOptions& options) {
   margins.phase_crossovers = phase_crossovers(table, options, margins.findings);
   margins.modulus = modulus_point(table, options);
   margins.disk = disk_point(table, options);
+  margins.stability = assess_stability(loop, {options.open_loop_rhp_poles});
   margins.summary = detail::summarize(margins);
   detail::add_absence_findings(table, margins);
   return margins;

@@ -66,6 +66,8 @@ struct AnalyzeArgs {
   std::size_t segment = 0;
   double overlap = 0.0;
   double injection_floor_db = 0.0;
+  double confidence = 0.0;
+  int rhp_poles = 0;
   CLI::App* command = nullptr;
 
   // True when the option exists for this verb and was given.
@@ -99,6 +101,8 @@ RunSettings resolve(const AnalyzeArgs& a) {
   if (a.given("--settle-cycles")) o.settle_cycles = a.settle_cycles;
   if (a.given("--schedule")) o.schedule_path = a.schedule;
   if (a.given("--marker")) o.marker_channel = a.marker;
+  if (a.given("--confidence")) o.margins.confidence = a.confidence;
+  if (a.given("--rhp-poles")) o.margins.open_loop_rhp_poles = a.rhp_poles;
   if (r.sample_rate_hz && !(*r.sample_rate_hz > 0.0)) throw ConfigError("the sample rate must be positive");
   o.welch.validate();
   return s;
@@ -128,6 +132,16 @@ namespace {
 
 // The options that say how to read a recording and which channel is which,
 // shared by analyze and inspect.
+// Options of the margins stage, shared by analyze and margins.
+void add_margin_options(CLI::App* cmd, double& confidence, int& rhp_poles) {
+  cmd->add_option("--confidence", confidence, "Level of every interval, 0.5 to 1 [0.95]")
+      ->check(CLI::Range(0.5, 0.9999))
+      ->type_name("LEVEL");
+  cmd->add_option("--rhp-poles", rhp_poles, "Open-loop poles in the right half plane, for the Nyquist count [0]")
+      ->check(CLI::Range(0, 64))
+      ->type_name("N");
+}
+
 void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
   a.command = cmd;
   cmd->add_option("recording", a.recording, "Recording: CSV/TSV text, raw binary, WAV or HDF5")
@@ -180,6 +194,7 @@ void add_analyze(CLI::App& app) {
       ->type_name("NAME");
   cmd->add_option("--truth", a->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
       ->type_name("FILE");
+  add_margin_options(cmd, a->confidence, a->rhp_poles);
   cmd->callback([a] { run_analyze(*a); });
 }
 
@@ -201,6 +216,7 @@ void add_margins(CLI::App& app) {
     std::string json_path;
     std::string csv_path;
     std::string convention = "direct";
+    MarginOptions margins;
   };
   auto args = std::make_shared<Args>();
   auto* cmd = app.add_subcommand("margins", "Margins from a frequency-response table (freq_hz with re,im or mag_db,phase_deg)");
@@ -210,9 +226,11 @@ void add_margins(CLI::App& app) {
       ->capture_default_str();
   cmd->add_option("--json", args->json_path, "Write the results as JSON to this file")->type_name("FILE");
   cmd->add_option("--csv", args->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
+  add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles);
   cmd->callback([args] {
     const Convention convention = convention_from_name(args->convention);
-    const AnalysisResult result = analyze_response(args->table, read_response_table(args->table), convention);
+    const AnalysisResult result =
+        analyze_response(args->table, read_response_table(args->table), convention, args->margins);
     write_outputs(result, args->json_path, args->csv_path);
     write_text_report(std::cout, result);
   });

@@ -88,14 +88,23 @@ Estimator estimator_from_name(const std::string& name) {
 
 RunSettings load_run_settings(const std::string& path, RunSettings settings) {
   const toml::table root = detail::parse_toml_file(path);
-  check_keys(root, {"input", "roles", "excitation", "spectral", "loop"}, path);
+  check_keys(root, {"input", "roles", "excitation", "spectral", "loop", "margins"}, path);
   if (const auto* t = optional_table(root, "excitation", path)) read_excitation(*t, path + " [excitation]", settings.analysis);
   if (const auto* t = optional_table(root, "input", path)) read_input(*t, path + " [input]", settings.recording);
   if (const auto* t = optional_table(root, "roles", path)) read_roles(*t, path + " [roles]", settings.analysis.roles);
   if (const auto* t = optional_table(root, "spectral", path)) read_spectral(*t, path + " [spectral]", settings.analysis);
   if (const auto* t = optional_table(root, "loop", path)) {
-    check_keys(*t, {"convention"}, path + " [loop]");
+    check_keys(*t, {"convention", "open_loop_rhp_poles"}, path + " [loop]");
     if (const auto c = optional_text(*t, "convention", path + " [loop]")) settings.analysis.convention = convention_from_name(*c);
+    set_if(detail::optional_whole(*t, "open_loop_rhp_poles", path + " [loop]", {0, 64}),
+           settings.analysis.margins.open_loop_rhp_poles);
+  }
+  if (const auto* t = optional_table(root, "margins", path)) {
+    check_keys(*t, {"confidence"}, path + " [margins]");
+    if (const auto c = optional_number(*t, "confidence", path + " [margins]")) {
+      if (!(*c > 0.5 && *c < 1.0)) throw ConfigError(path + " [margins]: 'confidence' must lie between 0.5 and 1");
+      settings.analysis.margins.confidence = *c;
+    }
   }
   settings.analysis.welch.validate();
   return settings;

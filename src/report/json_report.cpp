@@ -14,9 +14,11 @@ using Json = nlohmann::ordered_json;
 
 Json optional_number(const std::optional<double>& value) { return value ? Json(*value) : Json(nullptr); }
 
-// An interval as {"ci_low", "ci_high"}, or null.
+Json finite_or_null(double value) { return std::isfinite(value) ? Json(value) : Json(nullptr); }
+
+// An interval as {"ci_low", "ci_high"} (an unbounded end as null), or null.
 Json interval_json(const std::optional<Interval>& i) {
-  return i ? Json{{"ci_low", i->low}, {"ci_high", i->high}} : Json(nullptr);
+  return i ? Json{{"ci_low", finite_or_null(i->low)}, {"ci_high", finite_or_null(i->high)}} : Json(nullptr);
 }
 
 Json summary_json(const MarginSummary& s) {
@@ -69,15 +71,30 @@ void put_margins(Json& out, const Margins& m) {
   out["modulus"] = m.modulus ? Json{{"freq_hz", m.modulus->frequency_hz},
                                     {"modulus_margin", m.modulus->modulus_margin},
                                     {"peak_sensitivity_db", m.modulus->peak_sensitivity_db},
-                                    {"at_band_edge", m.modulus->at_band_edge}}
+                                    {"at_band_edge", m.modulus->at_band_edge},
+                                    {"intervals",
+                                     {{"modulus_margin", interval_json(m.modulus->modulus_margin_ci)},
+                                      {"peak_sensitivity_db", interval_json(m.modulus->peak_sensitivity_ci_db)}}}}
                              : Json(nullptr);
   out["disk"] = m.disk ? Json{{"alpha", m.disk->alpha},
                               {"freq_hz", m.disk->frequency_hz},
-                              {"gain_low_db", std::isfinite(m.disk->gain_low_db) ? Json(m.disk->gain_low_db) : Json(nullptr)},
+                              {"gain_low_db", finite_or_null(m.disk->gain_low_db)},
                               {"gain_high_db", optional_number(m.disk->gain_high_db)},
                               {"phase_deg", m.disk->phase_deg},
-                              {"at_band_edge", m.disk->at_band_edge}}
+                              {"at_band_edge", m.disk->at_band_edge},
+                              {"intervals",
+                               {{"alpha", interval_json(m.disk->alpha_ci)},
+                                {"gain_high_db", interval_json(m.disk->gain_high_ci_db)},
+                                {"phase_deg", interval_json(m.disk->phase_ci_deg)}}}}
                        : Json(nullptr);
+  const auto& st = m.stability;
+  out["stability"] = {{"verdict", verdict_name(st.verdict)},
+                      {"open_loop_rhp_poles", st.open_loop_rhp_poles},
+                      {"encirclements", st.encirclements ? Json(*st.encirclements) : Json(nullptr)},
+                      {"closed_loop_rhp_poles", st.closed_loop_rhp_poles ? Json(*st.closed_loop_rhp_poles) : Json(nullptr)},
+                      {"low_frequency_integrators", st.low_frequency_integrators},
+                      {"reason", st.reason},
+                      {"assumptions", st.assumptions}};
   out["summary"] = summary_json(m.summary);
 }
 

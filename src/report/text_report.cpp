@@ -42,13 +42,24 @@ std::string range(const std::optional<Interval>& i, Format format) {
   return format(i->low) + " to " + format(i->high);
 }
 
+std::string deg(double v) { return printf_string("%.1f deg", v); }
+std::string signed_db(double v) { return printf_string("%+.1f dB", v); }
+std::string plain_db(double v) { return printf_string("%.1f dB", v); }
+std::string ratio(double v) { return printf_string("%.3f", v); }
+std::string hz(double v) { return format_frequency(v); }
+std::string seconds(double v) { return format_time(v); }
+
+// The intervals of one crossing, under its values.
+void write_interval_line(std::ostream& out, double confidence, const std::vector<std::string>& ranges) {
+  if (std::all_of(ranges.begin(), ranges.end(), [](const std::string& r) { return r.empty(); })) return;
+  out << "      " << printf_string("%.0f %%:", 100.0 * confidence);
+  for (const auto& r : ranges) out << "  " << (r.empty() ? std::string("-") : r);
+  out << "\n";
+}
+
 std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
-  const auto deg = [](double v) { return printf_string("%.1f deg", v); };
-  const auto db = [](double v) { return printf_string("%+.1f dB", v); };
-  const auto plain_db = [](double v) { return printf_string("%.1f dB", v); };
-  const auto ratio = [](double v) { return printf_string("%.3f", v); };
-  const auto hz = [](double v) { return format_frequency(v); };
-  const auto s = [](double v) { return format_time(v); };
+  const auto db = signed_db;
+  const auto s = seconds;
   return {
       {"gain crossover", frequency_or_dash(m.gain_crossover_hz), frequency_or_dash(t.gain_crossover_hz),
        range(m.gain_crossover_ci_hz, hz)},
@@ -116,6 +127,8 @@ void write_crossings(std::ostream& out, const Margins& m) {
                   format_frequency(c.frequency_hz).c_str(), c.phase_margin_deg, format_time(c.delay_margin_s).c_str(),
                   c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
     out << line << flags_text(c.trust_flags) << "\n";
+    write_interval_line(out, m.confidence, {range(c.frequency_ci_hz, hz), range(c.phase_margin_ci_deg, deg),
+                                            range(c.delay_margin_ci_s, seconds)});
   }
   out << "  phase crossovers (angle L = -180 deg)\n";
   if (m.phase_crossovers.empty()) out << "    none in band\n";
@@ -124,8 +137,19 @@ void write_crossings(std::ostream& out, const Margins& m) {
     std::snprintf(line, sizeof line, "    %-12s gain margin  %+7.1f dB    limits gain %s",
                   format_frequency(c.frequency_hz).c_str(), c.gain_margin_db, direction_name(c.limits));
     out << line << flags_text(c.trust_flags) << "\n";
+    write_interval_line(out, m.confidence, {range(c.frequency_ci_hz, hz), range(c.gain_margin_ci_db, signed_db)});
   }
   out << "\n";
+}
+
+void write_stability(std::ostream& out, const StabilityAssessment& s) {
+  const char* indent = "                     ";
+  out << "\n  stability          " << verdict_name(s.verdict) << " (Nyquist count over the band)\n"
+      << indent << s.reason << "\n";
+  if (s.verdict == StabilityVerdict::kUndecided && !s.encirclements) return;
+  for (std::size_t i = 0; i < s.assumptions.size(); ++i) {
+    out << indent << (i == 0 ? "assumes  " : "         ") << s.assumptions[i] << "\n";
+  }
 }
 
 }  // namespace
@@ -153,7 +177,12 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
         << " to " << (d->gain_high_db ? printf_string("%+.1f dB", *d->gain_high_db) : std::string("unbounded"))
         << " together with phase +-" << printf_string("%.1f deg", d->phase_deg) << " (worst at "
         << format_frequency(d->frequency_hz) << (d->at_band_edge ? ", at the band edge" : "") << ")\n";
+    if (d->alpha_ci) {
+      out << printf_string("                     %.0f %%: ", 100.0 * result.margins.confidence) << "alpha "
+          << range(d->alpha_ci, ratio) << ", phase +-" << range(d->phase_ci_deg, deg) << "\n";
+    }
   }
+  write_stability(out, result.margins.stability);
   if (!result.findings.empty()) out << "\n  findings\n";
   for (const auto& d : result.findings) {
     out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";

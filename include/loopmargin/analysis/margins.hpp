@@ -18,6 +18,7 @@
 #include <string>
 #include <vector>
 
+#include "loopmargin/analysis/nyquist.hpp"
 #include "loopmargin/record/diagnostic.hpp"
 #include "loopmargin/spectral/response.hpp"
 
@@ -85,6 +86,9 @@ struct DiskMargin {
   std::optional<double> gain_high_db;    // 20 log10 (2+alpha)/(2-alpha); unset (unbounded) when alpha >= 2
   double phase_deg = 0.0;                // 2 atan(alpha/2)
   bool at_band_edge = false;
+  std::optional<Interval> alpha_ci;
+  std::optional<Interval> phase_ci_deg;
+  std::optional<Interval> gain_high_ci_db;  // high end +inf when the interval reaches alpha = 2; gain_low is its negative
 };
 
 // The disk margin of a given peak of |S - T| at a frequency.
@@ -117,6 +121,7 @@ struct Margins {
   std::optional<ModulusPoint> modulus;
   std::optional<DiskMargin> disk;
   MarginSummary summary;
+  StabilityAssessment stability;
   double band_low_hz = 0.0;
   double band_high_hz = 0.0;
   std::size_t line_count = 0;
@@ -142,6 +147,8 @@ struct MarginOptions {
   double max_line_sigma = 0.25;
   // Level of the intervals (two-sided).
   double confidence = 0.95;
+  // Open-loop poles in the right half plane, for the Nyquist count.
+  int open_loop_rhp_poles = 0;
 };
 
 // Margins from measured or tabulated lines (ascending frequency). Crossings
