@@ -139,14 +139,32 @@ struct Placed {
   double other_sigma = 0.0;
 };
 
+// The slope of a curve at a group, from a straight line over the wider
+// window, so that line noise does not set it.
+double wide_slope(const LineTable& table, const Curve& curve, const std::vector<Crossing>& group,
+                  const MarginOptions& options) {
+  const Window w = window_around(group.front().bracket.index, group.back().bracket.index, options.slope_half_width,
+                                 table.size());
+  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 1).slope();
+}
+
+// The sigma of a fitted curve at a crossing, never below that of the lines
+// beside it: the errors of neighbouring lines are correlated (a window's
+// kernel spans several lines, and leakage of coloured noise spreads over
+// more), so the fit earns no credit for averaging them.
+double curve_sigma(const LocalFit& fit, const Curve& curve, const Bracket& bracket, double log_f) {
+  return std::max(fit.sigma_at(log_f), bracket_sigma(curve.sigmas, bracket));
+}
+
 Placed place(const LineTable& table, const Curve& crossing_curve, const Curve& other_curve, const std::vector<Crossing>& group,
              double log_f, const MarginOptions& options) {
   const LocalFit own = fit_for(table, crossing_curve, group, options);
   const LocalFit other = fit_for(table, other_curve, group, options);
-  const double slope = std::abs(own.derivative_at(log_f));
-  const double log_f_sigma = slope > 0.0 ? own.sigma_at(log_f) / slope : 0.0;
-  const double moved = other.derivative_at(log_f) * log_f_sigma;
-  return {log_f, log_f_sigma, other.at(log_f), std::hypot(other.sigma_at(log_f), moved)};
+  const Bracket& nearest = group[group.size() / 2].bracket;
+  const double slope = std::abs(wide_slope(table, crossing_curve, group, options));
+  const double log_f_sigma = slope > 0.0 ? curve_sigma(own, crossing_curve, nearest, log_f) / slope : 0.0;
+  const double moved = wide_slope(table, other_curve, group, options) * log_f_sigma;
+  return {log_f, log_f_sigma, other.at(log_f), std::hypot(curve_sigma(other, other_curve, nearest, log_f), moved)};
 }
 
 // Why a crossing deserves less trust than its interval gives it.
