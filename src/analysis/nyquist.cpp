@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <vector>
 
 #include "analysis/crossings.hpp"
 #include "loopmargin/format.hpp"
@@ -28,29 +29,53 @@ double axis_crossings(double from_deg, double to_deg) {
   return half_floor(ray_index(from_deg)) - half_floor(ray_index(to_deg));
 }
 
-// Integrators at the bottom of the band, from the gain slope over the lowest
-// lines spanning up to a third of a decade (least squares).
-int integrators_at_bottom(const detail::LineTable& t) {
-  std::size_t last = 1;
+// L at the bottom of the band, read from the lowest lines (a third of a
+// decade, or eight lines if that is more), so that one noisy line cannot decide:
+// a straight line in log frequency through their gains (its slope gives the
+// integrators), and the mean of their unwrapped phases.
+struct Bottom {
+  int integrators = 0;
+  double gain_db = 0.0;         // the fitted gain at the lowest line
+  double relative_sigma = 0.0;  // of that fitted gain, about sigma * 2 / sqrt(lines)
+  double phase_deg = 0.0;
+};
+
+Bottom bottom_of_band(const detail::LineTable& t) {
+  std::size_t last = std::min<std::size_t>(7, t.size() - 1);
   while (last + 1 < t.size() && t.log_f[last + 1] - t.log_f[0] <= 1.0 / 3.0) ++last;
-  double mean_u = 0.0, mean_g = 0.0;
+  const double count = static_cast<double>(last + 1);
+  double mean_u = 0.0, mean_g = 0.0, mean_p = 0.0;
+  std::vector<double> sigmas;
   for (std::size_t i = 0; i <= last; ++i) {
-    mean_u += t.log_f[i];
-    mean_g += t.gain_db[i];
+    mean_u += t.log_f[i] / count;
+    mean_g += t.gain_db[i] / count;
+    mean_p += t.phase_deg[i] / count;
+    sigmas.push_back(t.relative_sigma[i]);
   }
-  mean_u /= static_cast<double>(last + 1);
-  mean_g /= static_cast<double>(last + 1);
   double suu = 0.0, sug = 0.0;
   for (std::size_t i = 0; i <= last; ++i) {
     suu += (t.log_f[i] - mean_u) * (t.log_f[i] - mean_u);
     sug += (t.log_f[i] - mean_u) * (t.gain_db[i] - mean_g);
   }
-  const double slope_db_per_decade = suu > 0.0 ? sug / suu : 0.0;
-  return static_cast<int>(std::clamp(std::lround(-slope_db_per_decade / 20.0), 0L, 4L));
+  const double slope = suu > 0.0 ? sug / suu : 0.0;
+  std::nth_element(sigmas.begin(), sigmas.begin() + sigmas.size() / 2, sigmas.end());
+  Bottom b;
+  b.integrators = static_cast<int>(std::clamp(std::lround(-slope / 20.0), 0L, 4L));
+  b.gain_db = mean_g + slope * (t.log_f[0] - mean_u);
+  b.relative_sigma = sigmas[sigmas.size() / 2] * 2.0 / std::sqrt(count);
+  b.phase_deg = mean_p;
+  return b;
 }
 
-bool clearly_above_unity(double gain_db, double sigma_db, double clear_sigmas) {
-  return gain_db > clear_sigmas * sigma_db && gain_db > 0.0;
+// Where |L| lies against 1, given its relative standard deviation: the
+// test is on |L| itself, so that a tiny, very noisy value stays inside.
+enum class Side { kInside, kOutside, kUnclear };
+Side side_of_unity(double gain_db, double relative_sigma, double clear_sigmas) {
+  const double magnitude = ratio_from_db(gain_db);
+  const double spread = clear_sigmas * relative_sigma;
+  if (magnitude * (1.0 + spread) < 1.0) return Side::kInside;
+  if (spread < 1.0 && magnitude * (1.0 - spread) > 1.0) return Side::kOutside;
+  return Side::kUnclear;
 }
 
 std::string gain_text(double gain_db) {
@@ -69,6 +94,25 @@ StabilityAssessment undecided(StabilityAssessment a, std::string reason) {
   return a;
 }
 
+// The lines whose relative uncertainty is at most `limit` (all of an exact table).
+Response informative_lines(const Response& loop, double limit) {
+  Response kept;
+  for (std::size_t k = 0; k < loop.size(); ++k) {
+    const double sigma = loop.relative_sigma.empty() ? 0.0 : loop.relative_sigma[k];
+    if (!(sigma <= limit) || !std::isfinite(std::abs(loop.value[k]))) continue;
+    kept.frequency_hz.push_back(loop.frequency_hz[k]);
+    kept.value.push_back(loop.value[k]);
+    kept.relative_sigma.push_back(sigma);
+  }
+  return kept;
+}
+
+std::string relative_text(double sigma) {
+  char text[32];
+  std::snprintf(text, sizeof text, "%.2g", sigma);
+  return text;
+}
+
 }  // namespace
 
 const char* verdict_name(StabilityVerdict verdict) {
@@ -83,12 +127,18 @@ const char* verdict_name(StabilityVerdict verdict) {
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
   StabilityAssessment a;
   a.open_loop_rhp_poles = options.open_loop_rhp_poles;
-  if (loop.size() < 2) return undecided(a, "fewer than two lines: nothing to count");
-  const auto table = detail::make_line_table(loop.frequency_hz, loop.value, loop.relative_sigma, loop.coherence);
+  const Response lines = informative_lines(loop, options.max_relative_sigma);
+  if (lines.size() < 2) {
+    return undecided(a, std::to_string(lines.size()) + " of " + std::to_string(loop.size()) +
+                            " lines have a relative uncertainty at or below " + relative_text(options.max_relative_sigma) +
+                            ": too few to count encirclements");
+  }
+  const auto table = detail::make_line_table(lines.frequency_hz, lines.value, lines.relative_sigma);
   const std::size_t top = table.size() - 1;
-  const double f_low = loop.frequency_hz.front();
-  const double f_high = loop.frequency_hz.back();
-  a.low_frequency_integrators = integrators_at_bottom(table);
+  const double f_low = lines.frequency_hz.front();
+  const double f_high = lines.frequency_hz.back();
+  const Bottom low_end = bottom_of_band(table);
+  a.low_frequency_integrators = low_end.integrators;
   const int n = a.low_frequency_integrators;
   a.assumptions = {
       std::to_string(a.open_loop_rhp_poles) + " open-loop poles in the right half plane (from the settings)",
@@ -97,29 +147,36 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
       "below " + format_frequency(f_low) + " L runs to " +
           (n == 0 ? std::string("a constant") : counted(n, "integrator") + " times a constant") +
           " without crossing the negative real axis beyond -1"};
-  if (clearly_above_unity(-table.gain_db[top], table.gain_sigma_db[top], options.clear_sigmas) == false) {
+  if (lines.size() < loop.size()) {
+    a.assumptions.push_back(std::to_string(loop.size() - lines.size()) + " lines with a relative uncertainty above " +
+                            relative_text(options.max_relative_sigma) +
+                            " were left out, and L does not circle -1 between the lines kept");
+  }
+  if (side_of_unity(table.gain_db[top], table.relative_sigma[top], options.clear_sigmas) != Side::kInside) {
     return undecided(a, "|L| is " + gain_text(table.gain_db[top]) + " at the top of the band (" +
                             format_frequency(f_high) + "), not clearly below 0 dB: encirclements above the band "
                             "cannot be ruled out; extend the band upward");
   }
   // Below the band L must stay on one side of the unit circle: outside it
   // (the usual loop with integrators), or inside it when L levels off.
-  const bool bottom_outside = clearly_above_unity(table.gain_db[0], table.gain_sigma_db[0], options.clear_sigmas);
-  const bool bottom_inside = n == 0 && clearly_above_unity(-table.gain_db[0], table.gain_sigma_db[0], options.clear_sigmas);
+  const Side bottom_side = side_of_unity(low_end.gain_db, low_end.relative_sigma, options.clear_sigmas);
+  const bool bottom_outside = bottom_side == Side::kOutside;
+  const bool bottom_inside = n == 0 && bottom_side == Side::kInside;
   if (!bottom_outside && !bottom_inside) {
-    return undecided(a, "|L| is " + gain_text(table.gain_db[0]) + " at the bottom of the band (" +
+    return undecided(a, "|L| is " + gain_text(low_end.gain_db) + " at the bottom of the band (" +
                             format_frequency(f_low) + ")" + (n > 0 ? " and still rising below it" : "") +
                             ": whether L crosses the negative real axis beyond -1 below the band cannot be "
                             "inferred; extend the band downward");
   }
   // The low-frequency asymptote K / (j w)^n: angle -90 n with K > 0, or 180 deg
-  // more with K < 0, whichever the bottom line lies nearer.
+  // more with K < 0, whichever the bottom lines lie nearer.
   const double positive_k = -90.0 * n;
   const double negative_k = positive_k - 180.0;
-  const double bottom = table.phase_deg[0];
-  const bool k_negative = std::abs(wrap_deg(bottom - negative_k)) < std::abs(wrap_deg(bottom - positive_k));
+  const double near = low_end.phase_deg;
+  const bool k_negative = std::abs(wrap_deg(near - negative_k)) < std::abs(wrap_deg(near - positive_k));
   const double asymptote = k_negative ? negative_k : positive_k;
-  const double shift = asymptote + wrap_deg(bottom - asymptote) - bottom;  // a multiple of 360
+  const double shift = asymptote + wrap_deg(near - asymptote) - near;  // a multiple of 360
+  const double bottom = table.phase_deg[0];
   // The arc at s = 0 turns clockwise through n * 180 deg from the mirror of the
   // asymptote's angle to the asymptote's angle.
   double count = bottom_outside ? axis_crossings(asymptote + 180.0 * n, asymptote) : 0.0;
@@ -134,12 +191,13 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
     const double axis = 360.0 * k - 180.0;
     const double w = to != from ? std::clamp((axis - from) / (to - from), 0.0, 1.0) : 0.0;
     const double gain_db = table.gain_db[i] + w * (table.gain_db[i + 1] - table.gain_db[i]);
-    const double sigma_db = std::max(table.gain_sigma_db[i], table.gain_sigma_db[i + 1]);
-    if (std::abs(gain_db) <= options.clear_sigmas * sigma_db) {
+    const Side side =
+        side_of_unity(gain_db, std::max(table.relative_sigma[i], table.relative_sigma[i + 1]), options.clear_sigmas);
+    if (side == Side::kUnclear) {
       return undecided(a, "L meets the negative real axis near " + format_frequency(std::pow(10.0, table.log_f[i])) +
                               " at " + gain_text(gain_db) + ", too close to -1 to tell on which side it passes");
     }
-    if (gain_db > 0.0) branch += c;
+    if (side == Side::kOutside) branch += c;
   }
   const double total = count + 2.0 * branch;
   const long encirclements = std::lround(total);

@@ -100,6 +100,12 @@ class DemoScenarios(unittest.TestCase):
         self.assertLess(abs(m["modulus_margin"] - t["modulus_margin"]), SIGMAS * abs(value) * relative_sigma)
         self.assertEqual(len(measured["gain_crossovers"]), len(truth["gain_crossovers"]))
         self.assertEqual(len(measured["phase_crossovers"]), len(truth["phase_crossovers"]))
+        # The loop ran in the simulation, so it is stable, and the count must say so.
+        self.assertEqual(measured["stability"]["verdict"], "stable", measured["stability"]["reason"])
+        self.assertEqual(truth["stability"]["verdict"], "stable")
+        disk = measured["disk"]["intervals"]["alpha"]
+        self.assertLessEqual(disk["ci_low"], measured["disk"]["alpha"])
+        self.assertLessEqual(measured["disk"]["alpha"], disk["ci_high"])
 
     def test_buck_margins_match_truth(self):
         self.check_scenario("buck_48v_12v")

@@ -43,6 +43,9 @@ struct StabilityOptions {
   // A crossing or band end this many standard deviations from |L| = 1 is
   // clear of it.
   double clear_sigmas = 2.0;
+  // Lines whose relative standard deviation (of |L| in nepers, of angle L in
+  // rad) exceeds this carry no usable phase and are left out of the count.
+  double max_relative_sigma = 0.5;
 };
 
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options = {});
