@@ -44,7 +44,7 @@ std::string range(const std::optional<Interval>& i, Format format) {
 
 std::string deg(double v) { return printf_string("%.1f deg", v); }
 std::string signed_db(double v) { return printf_string("%+.1f dB", v); }
-std::string plain_db(double v) { return printf_string("%.1f dB", v); }
+std::string plain_db(double v) { return std::isfinite(v) ? printf_string("%.1f dB", v) : std::string("unbounded"); }
 std::string ratio(double v) { return printf_string("%.3f", v); }
 std::string hz(double v) { return format_frequency(v); }
 std::string seconds(double v) { return format_time(v); }
@@ -179,7 +179,8 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
         << format_frequency(d->frequency_hz) << (d->at_band_edge ? ", at the band edge" : "") << ")\n";
     if (d->alpha_ci) {
       out << printf_string("                     %.0f %%: ", 100.0 * result.margins.confidence) << "alpha "
-          << range(d->alpha_ci, ratio) << ", phase +-" << range(d->phase_ci_deg, deg) << "\n";
+          << range(d->alpha_ci, ratio) << ", gain +-" << range(d->gain_high_ci_db, plain_db) << ", phase +-"
+          << range(d->phase_ci_deg, deg) << "\n";
     }
   }
   write_stability(out, result.margins.stability);
