@@ -441,6 +441,23 @@ DiskMargin disk_point(const LineTable& table, const MarginOptions& options) {
   return disk;
 }
 
+// One line or none: nothing can be bracketed. The result says so instead of
+// failing, so that the outputs and the report still show the line.
+Margins too_few_lines(const Response& loop, const MarginOptions& options) {
+  Margins margins;
+  margins.line_count = loop.size();
+  margins.confidence = options.confidence;
+  if (!loop.frequency_hz.empty()) {
+    margins.band_low_hz = loop.frequency_hz.front();
+    margins.band_high_hz = loop.frequency_hz.back();
+  }
+  margins.stability = assess_stability(loop, {options.open_loop_rhp_poles});
+  margins.findings.push_back(make_warning("margins.too-few-lines",
+                                          "margins need at least two lines to bracket a crossing; the response has " +
+                                              std::to_string(loop.size())));
+  return margins;
+}
+
 }  // namespace
 
 DiskMargin disk_margin_from_peak(double peak, double frequency_hz, bool at_band_edge) {
@@ -472,8 +489,7 @@ const char* direction_name(GainDirection direction) {
 }
 
 Margins find_margins(const Response& loop, const MarginOptions& options) {
-  if (loop.size() < 2) throw NumericalError("margins need at least two lines; the response has " +
-                                            std::to_string(loop.size()));
+  if (loop.size() < 2) return too_few_lines(loop, options);
   if (options.fit_half_width < 1) throw ConfigError("the local fit needs at least one line on each side");
   const LineTable table = detail::make_line_table(loop.frequency_hz, loop.value, loop.relative_sigma, loop.coherence);
   Margins margins;

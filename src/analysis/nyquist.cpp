@@ -127,6 +127,7 @@ const char* verdict_name(StabilityVerdict verdict) {
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
   StabilityAssessment a;
   a.open_loop_rhp_poles = options.open_loop_rhp_poles;
+  if (loop.size() < 2) return undecided(a, "fewer than two lines: nothing to count");
   const Response lines = informative_lines(loop, options.max_relative_sigma);
   if (lines.size() < 2) {
     return undecided(a, std::to_string(lines.size()) + " of " + std::to_string(loop.size()) +

@@ -1,5 +1,7 @@
 #include "cli/commands.hpp"
 
+#include "cli/outputs.hpp"
+
 #include <unistd.h>
 
 #include <chrono>
@@ -21,9 +23,6 @@
 namespace loopmargin::cli {
 namespace {
 
-void write_text_file(const std::string& path, const std::string& text) {
-  write_atomically(path, [&](std::ostream& out) { out << text; });
-}
 
 // Prints the samples read so far on stderr, at most once a second, when
 // stderr is a terminal.
@@ -54,8 +53,7 @@ class Progress {
 struct AnalyzeArgs {
   std::string recording;
   std::string config_path;
-  std::string json_path;
-  std::string csv_path;
+  OutputRequest outputs;
   std::string truth_path;
   bool quiet = false;
   std::string format, time_column, window, estimator, convention, z, x, y, excitation, schedule, marker;
@@ -108,13 +106,6 @@ RunSettings resolve(const AnalyzeArgs& a) {
   return s;
 }
 
-void write_outputs(const AnalysisResult& result, const std::string& json_path, const std::string& csv_path) {
-  if (!json_path.empty()) write_text_file(json_path, analysis_json(result));
-  if (!csv_path.empty()) {
-    write_atomically(csv_path, [&](std::ostream& out) { write_response_csv(out, result.loop.lines); });
-  }
-}
-
 void run_analyze(const AnalyzeArgs& a) {
   const RunSettings settings = resolve(a);
   const std::optional<MarginSummary> truth =
@@ -122,7 +113,7 @@ void run_analyze(const AnalyzeArgs& a) {
   const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
   Progress progress(a.quiet);
   const AnalysisResult result = analyze(open, settings.analysis, progress.function());
-  write_outputs(result, a.json_path, a.csv_path);
+  write_outputs(result, a.outputs, a.recording, a.config_path);
   write_text_report(std::cout, result, truth);
 }
 
@@ -169,8 +160,7 @@ void add_analyze(CLI::App& app) {
   auto a = std::make_shared<AnalyzeArgs>();
   auto* cmd = app.add_subcommand("analyze", "Loop response and margins from a series-injection recording");
   add_input_options(cmd, *a);
-  cmd->add_option("--json", a->json_path, "Write the results as JSON to this file")->type_name("FILE");
-  cmd->add_option("--csv", a->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
+  add_output_options(cmd, a->outputs);
   cmd->add_option("--window", a->window, "hann, hamming, blackman-harris or rectangular [hann]")->type_name("NAME");
   cmd->add_option("--segment", a->segment, "Samples per averaged segment [4096]")->type_name("N");
   cmd->add_option("--overlap", a->overlap, "Fraction of a segment shared with the next, 0 to 0.9 [0.5]")
@@ -213,8 +203,7 @@ void add_inspect(CLI::App& app) {
 void add_margins(CLI::App& app) {
   struct Args {
     std::string table;
-    std::string json_path;
-    std::string csv_path;
+    OutputRequest outputs;
     std::string convention = "direct";
     MarginOptions margins;
   };
@@ -224,14 +213,13 @@ void add_margins(CLI::App& app) {
   cmd->add_option("--convention", args->convention,
                   "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T)")
       ->capture_default_str();
-  cmd->add_option("--json", args->json_path, "Write the results as JSON to this file")->type_name("FILE");
-  cmd->add_option("--csv", args->csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
+  add_output_options(cmd, args->outputs);
   add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles);
   cmd->callback([args] {
     const Convention convention = convention_from_name(args->convention);
     const AnalysisResult result =
         analyze_response(args->table, read_response_table(args->table), convention, args->margins);
-    write_outputs(result, args->json_path, args->csv_path);
+    write_outputs(result, args->outputs, args->table, "");
     write_text_report(std::cout, result);
   });
 }

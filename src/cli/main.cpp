@@ -2,6 +2,7 @@
 #include <iostream>
 
 #include "cli/commands.hpp"
+#include "cli/outputs.hpp"
 #include "loopmargin/error.hpp"
 
 int main(int argc, char** argv) {
@@ -13,6 +14,7 @@ int main(int argc, char** argv) {
   cli::add_inspect(app);
   cli::add_margins(app);
   cli::add_synth(app);
+  cli::remember_command_line(argc, argv);
   try {
     app.parse(argc, argv);
     return cli::kOk;

@@ -124,7 +124,7 @@ Response read_response_table(const std::string& path) {
     response.relative_sigma.push_back(sigma_known ? row.number(*layout.mag_sigma) / db_from_nepers(1.0) : 0.0);
   }
   if (!coherence_known) response.coherence.clear();
-  if (response.size() < 2) throw InputError(path + ": fewer than two rows of data");
+  if (response.size() == 0) throw InputError(path + ": no rows of data after the header");
   return response;
 }
 

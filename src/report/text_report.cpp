@@ -79,36 +79,12 @@ std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
 
 void write_method(std::ostream& out, const AnalysisResult& r) {
   out << "loopmargin " << LOOPMARGIN_VERSION << "  " << r.origin << "\n";
-  if (r.record && r.excitation_kind && *r.excitation_kind != ExcitationKind::kBroadband &&
-      *r.excitation_kind != ExcitationKind::kChirp) {
-    const auto& rec = *r.record;
-    out << "  recording   " << rec.sample_count << " samples at " << format_frequency(rec.sample_rate_hz) << " ("
-        << format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) << "); z = " << rec.roles.injection
-        << ", x = " << rec.roles.x << ", y = " << rec.roles.y << "\n";
-    out << "  excitation  " << (r.excitation ? r.excitation->describe(rec.sample_rate_hz) : excitation_name(*r.excitation_kind))
-        << "\n";
-    out << "  estimate    "
-        << (*r.excitation_kind == ExcitationKind::kPeriodic
-                ? "spectra of whole periods averaged (" + std::to_string(rec.segments) + " periods), Y/X at the excited lines"
-                : "IEEE 1057 sine fits, one line per dwell (" + std::to_string(rec.segments) + " dwells), Y/X of the phasors")
-        << "\n";
-  } else if (r.record) {
-    const auto& rec = *r.record;
-    const auto& w = r.options.welch;
-    out << "  recording   " << rec.sample_count << " samples at " << format_frequency(rec.sample_rate_hz) << " ("
-        << format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) << "); z = " << rec.roles.injection
-        << ", x = " << rec.roles.x << ", y = " << rec.roles.y << "\n";
-    if (r.excitation) out << "  excitation  " << r.excitation->describe(rec.sample_rate_hz) << "\n";
-    out << "  estimate    "
-        << (r.options.response.estimator == Estimator::kReference ? "reference method S_zy/S_zx"
-                                                                  : "two-channel S_xy/S_xx (biased in closed loop)")
-        << ", " << window_name(w.window) << " window, " << w.segment_length << "-sample segments, "
-        << std::lround(w.overlap * 100.0) << " % overlap, " << rec.segments << " segments ("
-        << printf_string("%.1f", rec.effective_averages) << " independent)\n";
+  for (const auto& [label, text] : describe_method(r)) {
+    char heading[16];
+    std::snprintf(heading, sizeof heading, "  %-12s", label.c_str());
+    out << heading << text << "\n";
   }
-  out << "  loop        " << convention_formula(r.loop.convention) << " (" << convention_name(r.loop.convention)
-      << "), " << r.margins.line_count << " lines from " << format_frequency(r.margins.band_low_hz) << " to "
-      << format_frequency(r.margins.band_high_hz) << "\n\n";
+  out << "\n";
 }
 
 std::string flags_text(const std::vector<std::string>& flags) {
@@ -153,6 +129,47 @@ void write_stability(std::ostream& out, const StabilityAssessment& s) {
 }
 
 }  // namespace
+
+std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisResult& r) {
+  std::vector<std::pair<std::string, std::string>> lines;
+  if (r.record) {
+    const auto& rec = *r.record;
+    lines.emplace_back("recording", std::to_string(rec.sample_count) + " samples at " +
+                                        format_frequency(rec.sample_rate_hz) + " (" +
+                                        format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) +
+                                        "); z = " + rec.roles.injection + ", x = " + rec.roles.x + ", y = " + rec.roles.y);
+    if (r.excitation) {
+      lines.emplace_back("excitation", r.excitation->describe(rec.sample_rate_hz));
+    } else if (r.excitation_kind) {
+      lines.emplace_back("excitation", std::string(excitation_name(*r.excitation_kind)) + " (as set)");
+    }
+  }
+  const bool welch = r.record && (!r.excitation_kind || *r.excitation_kind == ExcitationKind::kBroadband ||
+                                  *r.excitation_kind == ExcitationKind::kChirp);
+  if (welch) {
+    const auto& w = r.options.welch;
+    lines.emplace_back("estimate", std::string(r.options.response.estimator == Estimator::kReference
+                                                   ? "reference method S_zy/S_zx"
+                                                   : "two-channel S_xy/S_xx (biased in closed loop)") +
+                                       ", " + window_name(w.window) + " window, " + std::to_string(w.segment_length) +
+                                       "-sample segments, " + std::to_string(std::lround(w.overlap * 100.0)) +
+                                       " % overlap, " + std::to_string(r.record->segments) + " segments (" +
+                                       printf_string("%.1f", r.record->effective_averages) + " independent)");
+  } else if (r.record) {
+    const std::string count = std::to_string(r.record->segments);
+    lines.emplace_back("estimate", *r.excitation_kind == ExcitationKind::kPeriodic
+                                       ? "spectra of whole periods averaged (" + count + " periods), Y/X at the excited lines"
+                                       : "IEEE 1057 sine fits, one line per dwell (" + count + " dwells), Y/X of the phasors");
+  }
+  const std::size_t count = r.margins.line_count;
+  lines.emplace_back("loop", std::string(convention_formula(r.loop.convention)) + " (" +
+                                 convention_name(r.loop.convention) + "), " +
+                                 (count == 1 ? "1 line at " + format_frequency(r.margins.band_low_hz)
+                                             : std::to_string(count) + " lines from " +
+                                                   format_frequency(r.margins.band_low_hz) + " to " +
+                                                   format_frequency(r.margins.band_high_hz)));
+  return lines;
+}
 
 void write_text_report(std::ostream& out, const AnalysisResult& result, const std::optional<MarginSummary>& truth,
                        const std::string& value_heading) {

@@ -4,6 +4,8 @@
 #include <optional>
 #include <ostream>
 #include <string>
+#include <utility>
+#include <vector>
 
 #include "loopmargin/pipeline.hpp"
 
@@ -15,6 +17,10 @@ namespace loopmargin {
 void write_text_report(std::ostream& out, const AnalysisResult& result,
                        const std::optional<MarginSummary>& truth = std::nullopt,
                        const std::string& value_heading = "measured");
+
+// How the result was obtained, as (label, text) lines: recording, excitation,
+// estimate, loop. Shared by the terminal summary and the HTML report.
+std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisResult& result);
 
 // What `inspect` prints: the recording, the excitation found, the findings.
 void write_inspection(std::ostream& out, const Inspection& inspection);

@@ -1,0 +1,110 @@
+#include "cli/outputs.hpp"
+
+#include <chrono>
+#include <ctime>
+#include <filesystem>
+#include <fstream>
+#include <sstream>
+
+#include "loopmargin/error.hpp"
+#include "loopmargin/report/atomic_file.hpp"
+#include "loopmargin/report/csv_report.hpp"
+#include "loopmargin/report/html_report.hpp"
+#include "loopmargin/report/json_report.hpp"
+#include "loopmargin/report/plots.hpp"
+
+namespace loopmargin::cli {
+namespace {
+
+namespace fs = std::filesystem;
+
+std::string& command_line() {
+  static std::string text;
+  return text;
+}
+
+
+std::string utc_text(std::chrono::system_clock::time_point when) {
+  const std::time_t t = std::chrono::system_clock::to_time_t(when);
+  std::tm parts{};
+  gmtime_r(&t, &parts);
+  char text[32];
+  std::strftime(text, sizeof text, "%Y-%m-%d %H:%M:%S UTC", &parts);
+  return text;
+}
+
+std::string modified_text(const std::string& path) {
+  std::error_code ec;
+  const auto when = fs::last_write_time(path, ec);
+  if (ec) return "";
+  return utc_text(std::chrono::file_clock::to_sys(when));
+}
+
+std::string file_text(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  std::ostringstream text;
+  text << in.rdbuf();
+  return text.str();
+}
+
+void make_folder(const std::string& path) {
+  std::error_code ec;
+  fs::create_directories(path, ec);
+  if (ec) throw OutputError(path + ": cannot create the folder: " + ec.message());
+}
+
+// The request with every unnamed output placed in the output folder.
+OutputRequest resolved(OutputRequest r, const std::string& input) {
+  if (r.out_dir.empty()) return r;
+  make_folder(r.out_dir);
+  const std::string stem = (fs::path(r.out_dir) / fs::path(input).stem()).string();
+  if (r.json_path.empty()) r.json_path = stem + ".json";
+  if (r.csv_path.empty()) r.csv_path = stem + ".lines.csv";
+  if (r.report_path.empty()) r.report_path = stem + ".report.html";
+  if (r.plots_dir.empty()) r.plots_dir = stem + "-plots";
+  return r;
+}
+
+}  // namespace
+
+void write_text_file(const std::string& path, const std::string& text) {
+  write_atomically(path, [&](std::ostream& out) { out << text; });
+}
+
+void remember_command_line(int argc, char** argv) {
+  std::string text = "loopmargin";
+  for (int i = 1; i < argc; ++i) text += std::string(" ") + argv[i];
+  command_line() = text;
+}
+
+void add_output_options(CLI::App* cmd, OutputRequest& r) {
+  cmd->add_option("--json", r.json_path, "Write the results as JSON to this file")->type_name("FILE");
+  cmd->add_option("--csv", r.csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
+  cmd->add_option("--report", r.report_path, "Write the HTML report (self-contained) to this file")->type_name("FILE");
+  cmd->add_option("--plots", r.plots_dir, "Write each plot as an SVG file into this folder")->type_name("DIR");
+  cmd->add_option("--out-dir", r.out_dir,
+                  "Write every output not named otherwise here: STEM.json, STEM.lines.csv, STEM.report.html, STEM-plots/")
+      ->type_name("DIR");
+}
+
+void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
+                   const std::string& settings) {
+  const OutputRequest r = resolved(request, input);
+  if (!r.json_path.empty()) write_text_file(r.json_path, analysis_json(result));
+  if (!r.csv_path.empty()) {
+    write_atomically(r.csv_path, [&](std::ostream& out) { write_response_csv(out, result.loop.lines); });
+  }
+  if (r.report_path.empty() && r.plots_dir.empty()) return;
+  const std::vector<Plot> plots = draw_plots(result);
+  if (!r.plots_dir.empty()) {
+    make_folder(r.plots_dir);
+    for (const Plot& p : plots) write_text_file((fs::path(r.plots_dir) / (p.name + ".svg")).string(), p.svg);
+  }
+  if (!r.report_path.empty()) {
+    ReportContext context{modified_text(input), utc_text(std::chrono::system_clock::now()), settings,
+                          settings.empty() ? "" : file_text(settings), command_line()};
+    write_text_file(r.report_path, html_report(result, plots, context));
+  }
+}
+
+}  // namespace loopmargin::cli

@@ -1,0 +1,34 @@
+// The files an analysis writes: JSON, response lines, the HTML report and
+// the SVG plots, each where the user asked, or all into an output folder.
+#pragma once
+
+#include <CLI/CLI.hpp>
+#include <string>
+
+#include "loopmargin/pipeline.hpp"
+
+namespace loopmargin::cli {
+
+struct OutputRequest {
+  std::string json_path;
+  std::string csv_path;
+  std::string report_path;
+  std::string plots_dir;
+  std::string out_dir;  // every output not named above, as STEM.json, STEM.lines.csv, STEM.report.html, STEM-plots/
+};
+
+// Adds --json, --csv, --report, --plots and --out-dir.
+void add_output_options(CLI::App* command, OutputRequest& request);
+
+// `input` names the file analysed (for the stem and its date), `settings`
+// the run settings file or "".
+void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
+                   const std::string& settings);
+
+// Writes the whole text or nothing (see write_atomically).
+void write_text_file(const std::string& path, const std::string& text);
+
+// The command line, for the report's record of how it was made.
+void remember_command_line(int argc, char** argv);
+
+}  // namespace loopmargin::cli

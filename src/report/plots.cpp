@@ -1,0 +1,508 @@
+#include "loopmargin/report/plots.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <complex>
+#include <cstdio>
+#include <numbers>
+
+#include "loopmargin/format.hpp"
+#include "loopmargin/units.hpp"
+#include "report/svg.hpp"
+
+namespace loopmargin {
+namespace {
+
+using svg::Canvas;
+using svg::Panel;
+using svg::Point;
+using svg::Stroke;
+using svg::Text;
+
+// The project's look: one deep teal for the measurement, a burnt orange for
+// what the analysis marks on it, grey for references, violet for the
+// modulus margin. Each also differs in line style, for greyscale print.
+const char* kCurve = "#0b5d7a";
+const char* kMarker = "#b8440f";
+const char* kReference = "#6b6f76";
+const char* kModulus = "#6d3fb5";
+const char* kInk = "#222831";
+const Stroke kCurveStroke{kCurve, 1.6};
+const Stroke kReferenceStroke{kReference, 1.0, "6 4"};
+const Stroke kMarkerLine{kMarker, 1.2, "2 3"};
+constexpr double kLeft = 78.0;
+constexpr double kPlotWidth = 640.0;
+constexpr double kWidth = 760.0;
+constexpr double kMostDecibels = 160.0;  // span of a magnitude axis; lower lines are clipped and said so
+
+std::string fixed(double v, int digits) {
+  char text[48];
+  std::snprintf(text, sizeof text, "%.*f", digits, v);
+  return text;
+}
+
+std::string signed_db(double v) {
+  char text[48];
+  std::snprintf(text, sizeof text, "%+.1f dB", v);
+  return text;
+}
+std::string deg(double v) { return fixed(v, 1) + "°"; }
+std::string tick_number(double v) { return fixed(v, std::abs(v - std::round(v)) < 1e-9 ? 0 : 1); }
+std::string tick_db(double v) { return tick_number(v); }
+std::string tick_hz(double v) { return format_frequency(v); }
+
+// The lines that can be drawn: positive frequency and a finite, non-zero value.
+struct Drawable {
+  std::vector<double> f;
+  std::vector<std::complex<double>> value;
+  std::vector<double> sigma;      // relative; 0 when unknown
+  std::vector<double> coherence;  // may be empty
+  std::size_t left_out = 0;
+};
+
+Drawable drawable(const Response& r) {
+  Drawable d;
+  for (std::size_t k = 0; k < r.size(); ++k) {
+    const auto v = r.value[k];
+    if (!(r.frequency_hz[k] > 0.0) || !std::isfinite(r.frequency_hz[k]) || !std::isfinite(v.real()) ||
+        !std::isfinite(v.imag()) || std::abs(v) == 0.0) {
+      ++d.left_out;
+      continue;
+    }
+    d.f.push_back(r.frequency_hz[k]);
+    d.value.push_back(v);
+    const double s = k < r.relative_sigma.size() ? r.relative_sigma[k] : 0.0;
+    d.sigma.push_back(std::isfinite(s) ? s : 0.0);
+    if (k < r.coherence.size()) d.coherence.push_back(r.coherence[k]);
+  }
+  if (d.coherence.size() != d.f.size()) d.coherence.clear();
+  return d;
+}
+
+std::vector<double> unwrapped_phase_deg(const std::vector<std::complex<double>>& values) {
+  std::vector<double> out;
+  double previous = 0.0;
+  for (const auto& v : values) {
+    const double angle = deg_from_rad(std::arg(v));
+    out.push_back(out.empty() ? angle : out.back() + wrap_deg(angle - previous));
+    previous = angle;
+  }
+  return out;
+}
+
+// The frequency axis of a set of lines: their range, widened by a factor of
+// two when there is a single line.
+svg::Scale frequency_scale(const std::vector<double>& f) {
+  double low = f.empty() ? 1.0 : f.front();
+  double high = f.empty() ? 10.0 : f.back();
+  if (!(high > low)) {
+    low /= 2.0;
+    high *= 2.0;
+  }
+  return {low, high, kLeft, kLeft + kPlotWidth, true};
+}
+
+std::vector<svg::Tick> frequency_ticks(const svg::Scale& fx) {
+  const double px_per_decade = std::abs(fx.to_px - fx.from_px) / std::log10(fx.high / fx.low);
+  return svg::log_ticks(fx.low, fx.high, tick_hz, px_per_decade >= 110.0);
+}
+
+void empty_message(Canvas& canvas, const Panel& p, const std::string& message) {
+  canvas.text({p.left + p.width / 2.0, p.top + p.height / 2.0}, message, {13.0, "middle", kMarker, true});
+}
+
+// Label placement that keeps labels of neighbouring markers from overlapping:
+// each label takes the next free row when one already sits within `gap` px.
+class LabelRows {
+ public:
+  explicit LabelRows(double gap) : gap_(gap) {}
+  int take(double x) {
+    int row = 0;
+    while (std::any_of(taken_.begin(), taken_.end(),
+                       [&](const auto& t) { return t.second == row && std::abs(t.first - x) < gap_; })) {
+      ++row;
+    }
+    taken_.push_back({x, row});
+    return row;
+  }
+
+ private:
+  double gap_;
+  std::vector<std::pair<double, int>> taken_;
+};
+
+Text marker_text(const std::string& anchor) {
+  Text t{11.0, anchor, kMarker, true, true};
+  return t;
+}
+
+// A label beside a vertical marker line, on the side with room.
+void side_label(Canvas& canvas, const Panel& p, double x, double y, const std::string& content) {
+  const bool room_right = x + 8.0 + 7.0 * static_cast<double>(content.size()) < p.right();
+  canvas.text({room_right ? x + 6.0 : x - 6.0, y}, content, marker_text(room_right ? "start" : "end"));
+}
+
+std::string interval_suffix(const std::optional<Interval>& i, std::string (*format)(double)) {
+  if (!i) return "";
+  return " [" + format(i->low) + ", " + format(i->high) + "]";
+}
+
+std::string plain_deg(double v) { return fixed(v, 1); }
+std::string plain_db(double v) { return fixed(v, 1); }
+
+// ---------------------------------------------------------------- Bode
+Plot bode(const AnalysisResult& result, const Drawable& d) {
+  Plot plot{"bode", "Bode plot of L: magnitude and phase against frequency", "", {}};
+  Canvas canvas(kWidth, 600.0, "Loop gain L: magnitude and phase");
+  canvas.text({kLeft, 24.0}, std::string("Loop gain ") + convention_formula(result.loop.convention) + ": magnitude and phase",
+              {14.0, "start", kInk, true});
+  const svg::Scale fx = frequency_scale(d.f);
+  Panel mag{kLeft, 44.0, kPlotWidth, 230.0, fx, {}};
+  Panel phase{kLeft, 300.0, kPlotWidth, 230.0, fx, {}};
+  if (d.f.empty()) {
+    mag.y = {-20.0, 20.0, mag.bottom(), mag.top};
+    phase.y = {-270.0, 0.0, phase.bottom(), phase.top};
+    svg::draw_frame(canvas, mag, {frequency_ticks(fx), {}, "", "magnitude (dB)"});
+    svg::draw_frame(canvas, phase, {frequency_ticks(fx), {}, "frequency", "phase (°)"});
+    empty_message(canvas, mag, "no finite lines to draw");
+    plot.notes.push_back("The response has no finite lines: nothing to draw.");
+    plot.svg = canvas.finish();
+    return plot;
+  }
+  const double z = two_sided_z(result.margins.confidence);
+  std::vector<double> gain, gain_sigma, ph = unwrapped_phase_deg(d.value), phase_sigma;
+  for (std::size_t k = 0; k < d.f.size(); ++k) {
+    gain.push_back(db_from_ratio(std::abs(d.value[k])));
+    gain_sigma.push_back(z * db_from_nepers(d.sigma[k]));
+    phase_sigma.push_back(z * deg_from_rad(d.sigma[k]));
+  }
+  double g_high = *std::max_element(gain.begin(), gain.end());
+  double g_low = std::max(*std::min_element(gain.begin(), gain.end()), g_high - kMostDecibels);
+  if (g_low > *std::min_element(gain.begin(), gain.end())) {
+    plot.notes.push_back("Lines more than " + fixed(kMostDecibels, 0) + " dB below the highest are clipped at the bottom of the magnitude plot.");
+  }
+  g_low = std::min(g_low, -10.0);
+  g_high = std::max(g_high, 10.0);
+  svg::round_out(g_low, g_high, 6);
+  double p_low = *std::min_element(ph.begin(), ph.end());
+  double p_high = *std::max_element(ph.begin(), ph.end());
+  p_low = std::min(p_low, -180.0);
+  p_high = std::max(p_high, p_low + 90.0);
+  svg::round_out(p_low, p_high, 6, 45.0);
+  mag.y = {g_low, g_high, mag.bottom(), mag.top};
+  phase.y = {p_low, p_high, phase.bottom(), phase.top};
+  const auto x_ticks = frequency_ticks(fx);
+  svg::draw_frame(canvas, mag, {x_ticks, svg::linear_ticks(g_low, g_high, 6, tick_db), "", "magnitude (dB)"});
+  svg::draw_frame(canvas, phase, {x_ticks, svg::linear_ticks(p_low, p_high, 6, tick_number, 45.0), "frequency",
+                                  "phase (°)"});
+  // The bands, the references and the curves, clipped to each panel.
+  for (const auto& [panel, values, sigmas] :
+       {std::tuple{&mag, &gain, &gain_sigma}, std::tuple{&phase, &ph, &phase_sigma}}) {
+    canvas.begin_clip(panel->left, panel->top, panel->width, panel->height);
+    std::vector<Point> upper, lower, curve;
+    for (std::size_t k = 0; k < d.f.size(); ++k) {
+      const double y = std::clamp((*values)[k], panel->y.low - 1e3, panel->y.high + 1e3);
+      curve.push_back(panel->at(d.f[k], y));
+      if ((*sigmas)[k] > 0.0) {
+        upper.push_back(panel->at(d.f[k], std::min(y + (*sigmas)[k], panel->y.high + 1e3)));
+        lower.push_back(panel->at(d.f[k], std::max(y - (*sigmas)[k], panel->y.low - 1e3)));
+      }
+    }
+    if (upper.size() == d.f.size()) {
+      std::vector<Point> band = svg::thin(upper);
+      const auto low_side = svg::thin(lower);
+      band.insert(band.end(), low_side.rbegin(), low_side.rend());
+      canvas.polygon(band, kCurve, 0.2);
+    }
+    canvas.end_clip();
+  }
+  canvas.line(mag.at(fx.low, 0.0), mag.at(fx.high, 0.0), kReferenceStroke);
+  for (double level = std::ceil((p_low + 180.0) / 360.0) * 360.0 - 180.0; level <= p_high; level += 360.0) {
+    canvas.line(phase.at(fx.low, level), phase.at(fx.high, level), kReferenceStroke);
+  }
+  for (auto [panel, values] : {std::pair{&mag, &gain}, std::pair{&phase, &ph}}) {
+    canvas.begin_clip(panel->left, panel->top, panel->width, panel->height);
+    std::vector<Point> curve;
+    for (std::size_t k = 0; k < d.f.size(); ++k) curve.push_back(panel->at(d.f[k], (*values)[k]));
+    canvas.path(svg::thin(curve), kCurveStroke);
+    canvas.end_clip();
+  }
+  // Margins: phase margins on the phase panel, gain margins on the magnitude panel.
+  LabelRows phase_rows(150.0), gain_rows(150.0);
+  const auto phase_at = [&](double f) {
+    const auto it = std::lower_bound(d.f.begin(), d.f.end(), f);
+    const std::size_t k = std::min<std::size_t>(it - d.f.begin(), d.f.size() - 1);
+    return ph[k];
+  };
+  for (const auto& c : result.margins.gain_crossovers) {
+    if (!fx.contains(c.frequency_hz)) continue;
+    const double x = fx(c.frequency_hz);
+    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
+    canvas.circle(mag.at(c.frequency_hz, 0.0), 4.0, {kMarker, 1.5}, "#ffffff");
+    // The phase margin spans from the -180 deg reference nearest the curve to the curve.
+    const double here = phase_at(c.frequency_hz);
+    const double level = std::round((here + 180.0) / 360.0) * 360.0 - 180.0;
+    const double at = level + c.phase_margin_deg;
+    canvas.line(phase.at(c.frequency_hz, level), phase.at(c.frequency_hz, at), {kMarker, 2.4});
+    canvas.circle(phase.at(c.frequency_hz, at), 3.0, {kMarker, 1.2}, kMarker);
+    const int row = phase_rows.take(x);
+    side_label(canvas, phase, x, 0.5 * (phase.y(level) + phase.y(at)) + 4.0 + 15.0 * row,
+               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, plain_deg) + " at " +
+                   format_frequency(c.frequency_hz));
+  }
+  for (const auto& c : result.margins.phase_crossovers) {
+    if (!fx.contains(c.frequency_hz)) continue;
+    const double x = fx(c.frequency_hz);
+    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
+    const double level = phase_at(c.frequency_hz);
+    canvas.rect(x - 3.5, phase.y(std::round((level + 180.0) / 360.0) * 360.0 - 180.0) - 3.5, 7.0, 7.0,
+                {kMarker, 1.5}, "#ffffff");
+    canvas.line(mag.at(c.frequency_hz, 0.0), mag.at(c.frequency_hz, -c.gain_margin_db), {kMarker, 2.4});
+    canvas.circle(mag.at(c.frequency_hz, -c.gain_margin_db), 3.0, {kMarker, 1.2}, kMarker);
+    const int row = gain_rows.take(x);
+    side_label(canvas, mag, x, 0.5 * (mag.y(0.0) + mag.y(-c.gain_margin_db)) + 4.0 + 15.0 * row,
+               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, plain_db) + " at " +
+                   format_frequency(c.frequency_hz));
+  }
+  // Key.
+  const double key_y = 585.0;
+  canvas.line({kLeft, key_y - 4.0}, {kLeft + 26.0, key_y - 4.0}, kCurveStroke);
+  canvas.text({kLeft + 32.0, key_y}, "measured L", {11.0});
+  canvas.rect(kLeft + 120.0, key_y - 10.0, 26.0, 10.0, {kCurve, 0.0}, "rgba(11,93,122,0.2)");
+  canvas.text({kLeft + 152.0, key_y}, fixed(100.0 * result.margins.confidence, 0) + " % interval of each line",
+              {11.0});
+  canvas.line({kLeft + 330.0, key_y - 4.0}, {kLeft + 356.0, key_y - 4.0}, kReferenceStroke);
+  canvas.text({kLeft + 362.0, key_y}, "0 dB and -180° (mod 360°)", {11.0});
+  canvas.line({kLeft + 530.0, key_y - 4.0}, {kLeft + 556.0, key_y - 4.0}, {kMarker, 2.4});
+  canvas.text({kLeft + 562.0, key_y}, "margins", {11.0});
+  if (result.margins.gain_crossovers.empty()) plot.notes.push_back("No gain crossover in the band: no phase margin to mark.");
+  if (result.margins.phase_crossovers.empty()) plot.notes.push_back("No phase crossover in the band: no gain margin to mark.");
+  plot.svg = canvas.finish();
+  return plot;
+}
+
+// ---------------------------------------------------------------- Nyquist
+struct ComplexView {
+  double re_low, re_high, im_low, im_high;
+};
+
+Panel square_panel(const ComplexView& v, double top, double size) {
+  return {kLeft, top, size, size, {v.re_low, v.re_high, kLeft, kLeft + size}, {v.im_low, v.im_high, top + size, top}};
+}
+
+// Small dots with labels at the decades along the curve, so that frequency
+// can be read off the complex plane.
+void decade_marks(Canvas& canvas, const Panel& p, const Drawable& d, const std::vector<Point>& points) {
+  for (std::size_t k = 1; k < d.f.size(); ++k) {
+    const double decade = std::pow(10.0, std::floor(std::log10(d.f[k])));
+    if (!(d.f[k - 1] < decade && d.f[k] >= decade)) continue;
+    const Point at = points[k];
+    if (at.x < p.left || at.x > p.right() || at.y < p.top || at.y > p.bottom()) continue;
+    canvas.circle(at, 2.6, {kCurve, 1.0}, kCurve);
+    canvas.text({at.x + 5.0, at.y - 5.0}, format_frequency(decade), {10.0, "start", kCurve, false, true});
+  }
+}
+
+Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
+  Plot plot{"nyquist-near", "L in the complex plane around the critical point -1", "", {}};
+  Canvas canvas(560.0, 560.0, "Loop gain L in the complex plane, near -1");
+  canvas.text({kLeft, 24.0}, "L in the complex plane, near -1", {14.0, "start", kInk, true});
+  const Panel p = square_panel({-2.5, 1.0, -1.75, 1.75}, 44.0, 440.0);
+  const auto ticks = [](double low, double high) { return svg::linear_ticks(low, high, 7, tick_number); };
+  svg::draw_frame(canvas, p, {ticks(-2.5, 1.0), ticks(-1.75, 1.75), "real part", "imaginary part"});
+  canvas.begin_clip(p.left, p.top, p.width, p.height);
+  canvas.line(p.at(-2.5, 0.0), p.at(1.0, 0.0), {kReference, 1.0});
+  canvas.line(p.at(0.0, -1.75), p.at(0.0, 1.75), {kReference, 1.0});
+  const double unit_px = p.x(1.0) - p.x(0.0);
+  canvas.circle(p.at(0.0, 0.0), unit_px, kReferenceStroke);
+  const auto& m = result.margins;
+  if (m.modulus) {
+    canvas.circle(p.at(-1.0, 0.0), m.modulus->modulus_margin * unit_px, {kModulus, 1.4, "1 3"});
+  }
+  std::vector<Point> points;
+  for (const auto& v : d.value) points.push_back(p.at(v.real(), v.imag()));
+  canvas.path(svg::thin(points), kCurveStroke);
+  // Phase margin: the ray to the crossover on the unit circle and the arc from -1 to it.
+  for (const auto& c : m.gain_crossovers) {
+    const double angle = rad_from_deg(c.phase_margin_deg - 180.0);  // of L at the crossover
+    const Point on_circle = p.at(std::cos(angle), std::sin(angle));
+    canvas.line(p.at(0.0, 0.0), on_circle, {kMarker, 1.2});
+    std::vector<Point> arc;
+    for (int i = 0; i <= 40; ++i) {
+      const double a = -std::numbers::pi + (angle + std::numbers::pi) * i / 40.0;
+      arc.push_back(p.at(0.55 * std::cos(a), 0.55 * std::sin(a)));
+    }
+    canvas.path(arc, {kMarker, 2.0});
+    canvas.circle(on_circle, 3.5, {kMarker, 1.5}, "#ffffff");
+    canvas.text({on_circle.x + 6.0, on_circle.y + 14.0}, "PM " + deg(c.phase_margin_deg), marker_text("start"));
+  }
+  for (const auto& c : m.phase_crossovers) {
+    const double re = -ratio_from_db(-c.gain_margin_db);  // the crossing lies on the negative real axis
+    if (re < -2.5) continue;
+    const Point at = p.at(re, 0.0);
+    canvas.line(p.at(-1.0, 0.0), at, {kMarker, 2.4});
+    canvas.rect(at.x - 3.5, at.y - 3.5, 7.0, 7.0, {kMarker, 1.5}, "#ffffff");
+    canvas.text({0.5 * (at.x + p.x(-1.0)), at.y + 18.0}, "GM " + signed_db(c.gain_margin_db), marker_text("middle"));
+  }
+  canvas.end_clip();
+  decade_marks(canvas, p, d, points);
+  // The critical point, drawn last so that nothing hides it.
+  const Point critical = p.at(-1.0, 0.0);
+  canvas.line({critical.x - 6.0, critical.y - 6.0}, {critical.x + 6.0, critical.y + 6.0}, {kInk, 2.0});
+  canvas.line({critical.x - 6.0, critical.y + 6.0}, {critical.x + 6.0, critical.y - 6.0}, {kInk, 2.0});
+  canvas.text({critical.x - 8.0, critical.y + 18.0}, "-1", {12.0, "end", kInk, true, true});
+  // Key.
+  double y = p.bottom() + 52.0;
+  canvas.line({kLeft, y - 4.0}, {kLeft + 24.0, y - 4.0}, kReferenceStroke);
+  canvas.text({kLeft + 30.0, y}, "|L| = 1", {11.0});
+  canvas.line({kLeft + 100.0, y - 4.0}, {kLeft + 124.0, y - 4.0}, {kModulus, 1.4, "1 3"});
+  canvas.text({kLeft + 130.0, y}, m.modulus ? "modulus margin " + fixed(m.modulus->modulus_margin, 3) + " around -1"
+                                            : "no modulus margin",
+              {11.0});
+  if (d.f.empty()) empty_message(canvas, p, "no finite lines to draw");
+  plot.svg = canvas.finish();
+  return plot;
+}
+
+Plot nyquist_whole(const Drawable& d) {
+  Plot plot{"nyquist-whole", "L over the whole band, radius drawn as log10(1 + |L|) so that every decade shows", "", {}};
+  Canvas canvas(560.0, 560.0, "Loop gain L in the complex plane, whole band");
+  canvas.text({kLeft, 24.0}, "L over the whole band (radius compressed)", {14.0, "start", kInk, true});
+  const auto squash = [](std::complex<double> v) { return std::polar(std::log10(1.0 + std::abs(v)), std::arg(v)); };
+  double reach = std::log10(2.0) * 1.3;
+  for (const auto& v : d.value) reach = std::max(reach, std::abs(squash(v)) * 1.05);
+  const Panel p = square_panel({-reach, reach, -reach, reach}, 44.0, 440.0);
+  canvas.rect(p.left, p.top, p.width, p.height, {kInk, 1.0}, "none");
+  canvas.begin_clip(p.left, p.top, p.width, p.height);
+  canvas.line(p.at(-reach, 0.0), p.at(reach, 0.0), {kReference, 1.0});
+  canvas.line(p.at(0.0, -reach), p.at(0.0, reach), {kReference, 1.0});
+  const double px = p.x(1.0) - p.x(0.0);
+  for (double magnitude = 0.1; std::log10(1.0 + magnitude) < reach; magnitude *= 10.0) {
+    const double r = std::log10(1.0 + magnitude);
+    canvas.circle(p.at(0.0, 0.0), r * px, {"#c9ced4", 1.0});
+    canvas.text({p.x(0.0) + r * px * 0.7071 + 3.0, p.y(0.0) - r * px * 0.7071 - 3.0}, "|L| = " + tick_number(magnitude),
+                {10.0, "start", kReference, false, true});
+  }
+  canvas.circle(p.at(0.0, 0.0), std::log10(2.0) * px, kReferenceStroke);
+  std::vector<Point> points, mirror;
+  for (const auto& v : d.value) {
+    const auto s = squash(v);
+    points.push_back(p.at(s.real(), s.imag()));
+    mirror.push_back(p.at(s.real(), -s.imag()));
+  }
+  canvas.path(svg::thin(mirror), {kCurve, 1.0, "3 3", 0.5});
+  canvas.path(svg::thin(points), kCurveStroke);
+  canvas.end_clip();
+  decade_marks(canvas, p, d, points);
+  const Point critical = p.at(-std::log10(2.0), 0.0);
+  canvas.line({critical.x - 5.0, critical.y - 5.0}, {critical.x + 5.0, critical.y + 5.0}, {kInk, 2.0});
+  canvas.line({critical.x - 5.0, critical.y + 5.0}, {critical.x + 5.0, critical.y - 5.0}, {kInk, 2.0});
+  canvas.text({critical.x - 7.0, critical.y + 16.0}, "-1", {12.0, "end", kInk, true, true});
+  const double key_y = p.bottom() + 26.0;
+  canvas.line({kLeft, key_y - 4.0}, {kLeft + 24.0, key_y - 4.0}, kCurveStroke);
+  canvas.text({kLeft + 30.0, key_y}, "L, rising frequency", {11.0});
+  canvas.line({kLeft + 150.0, key_y - 4.0}, {kLeft + 174.0, key_y - 4.0}, {kCurve, 1.0, "3 3", 0.5});
+  canvas.text({kLeft + 180.0, key_y}, "mirror (negative frequency)", {11.0});
+  canvas.text({kLeft, key_y + 18.0}, "Angle true to L, radius log10(1 + |L|); grey circles: |L| by decades.",
+              {11.0, "start", kReference});
+  if (d.f.empty()) empty_message(canvas, p, "no finite lines to draw");
+  plot.svg = canvas.finish();
+  return plot;
+}
+
+// ---------------------------------------------------------------- coherence
+constexpr double kCoherenceThreshold = 0.5;  // as the low-coherence finding uses
+
+Plot coherence(const Drawable& d) {
+  Plot plot{"coherence", "Coherence of each line, with the threshold below which lines are reported as uncertain", "", {}};
+  Canvas canvas(kWidth, 330.0, "Coherence against frequency");
+  canvas.text({kLeft, 24.0}, "Coherence of the measurement", {14.0, "start", kInk, true});
+  const svg::Scale fx = frequency_scale(d.f);
+  Panel p{kLeft, 44.0, kPlotWidth, 220.0, fx, {0.0, 1.0, 264.0, 44.0}};
+  svg::draw_frame(canvas, p, {frequency_ticks(fx),
+                              svg::linear_ticks(0.0, 1.0, 5, [](double v) { return fixed(v, 1); }), "frequency",
+                              "coherence"});
+  if (d.coherence.empty()) {
+    empty_message(canvas, p, "this estimate gives no coherence (see the per-line sigma instead)");
+    plot.notes.push_back("No coherence: the estimator (or a table) does not give one.");
+    plot.svg = canvas.finish();
+    return plot;
+  }
+  canvas.line(p.at(fx.low, kCoherenceThreshold), p.at(fx.high, kCoherenceThreshold), {kMarker, 1.2, "8 3 2 3"});
+  canvas.text({p.right() - 4.0, p.y(kCoherenceThreshold) - 5.0}, "threshold 0.5", marker_text("end"));
+  std::vector<Point> points;
+  for (std::size_t k = 0; k < d.f.size(); ++k) points.push_back(p.at(d.f[k], std::clamp(d.coherence[k], 0.0, 1.0)));
+  canvas.path(svg::thin(points), kCurveStroke);
+  plot.svg = canvas.finish();
+  return plot;
+}
+
+// ---------------------------------------------------------------- sensitivity
+Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
+  Plot plot{"sensitivity", "Sensitivity |S| = |1/(1 + L)| with its peak, the inverse of the modulus margin", "", {}};
+  Canvas canvas(kWidth, 330.0, "Sensitivity magnitude against frequency");
+  canvas.text({kLeft, 24.0}, "Sensitivity |S| = |1 / (1 + L)|", {14.0, "start", kInk, true});
+  const svg::Scale fx = frequency_scale(d.f);
+  Panel p{kLeft, 44.0, kPlotWidth, 220.0, fx, {}};
+  const double z = two_sided_z(result.margins.confidence);
+  std::vector<double> s_db, s_sigma;
+  for (std::size_t k = 0; k < d.f.size(); ++k) {
+    const auto one_plus = 1.0 + d.value[k];
+    s_db.push_back(-db_from_ratio(std::abs(one_plus)));
+    s_sigma.push_back(z * db_from_nepers(d.sigma[k] * std::abs(d.value[k] / one_plus)));
+  }
+  double low = s_db.empty() ? -20.0 : std::max(*std::min_element(s_db.begin(), s_db.end()), -kMostDecibels);
+  double high = s_db.empty() ? 10.0 : *std::max_element(s_db.begin(), s_db.end());
+  low = std::min(low, -10.0);
+  high = std::max(high + 3.0, 10.0);
+  svg::round_out(low, high, 6);
+  p.y = {low, high, p.bottom(), p.top};
+  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_db),
+                              "frequency", "|S| (dB)"});
+  if (d.f.empty()) {
+    empty_message(canvas, p, "no finite lines to draw");
+    plot.svg = canvas.finish();
+    return plot;
+  }
+  canvas.line(p.at(fx.low, 0.0), p.at(fx.high, 0.0), kReferenceStroke);
+  canvas.begin_clip(p.left, p.top, p.width, p.height);
+  std::vector<Point> upper, lower, curve;
+  for (std::size_t k = 0; k < d.f.size(); ++k) {
+    curve.push_back(p.at(d.f[k], s_db[k]));
+    upper.push_back(p.at(d.f[k], s_db[k] + s_sigma[k]));
+    lower.push_back(p.at(d.f[k], s_db[k] - s_sigma[k]));
+  }
+  if (std::any_of(s_sigma.begin(), s_sigma.end(), [](double s) { return s > 0.0; })) {
+    std::vector<Point> band = svg::thin(upper);
+    const auto low_side = svg::thin(lower);
+    band.insert(band.end(), low_side.rbegin(), low_side.rend());
+    canvas.polygon(band, kCurve, 0.2);
+  }
+  canvas.path(svg::thin(curve), kCurveStroke);
+  canvas.end_clip();
+  if (const auto& m = result.margins.modulus) {
+    const Point at = p.at(m->frequency_hz, m->peak_sensitivity_db);
+    canvas.line({at.x, at.y - 12.0}, {at.x, p.bottom()}, kMarkerLine);
+    canvas.polygon({{at.x, at.y - 3.0}, {at.x - 5.5, at.y - 12.5}, {at.x + 5.5, at.y - 12.5}}, kMarker, 1.0);
+    side_label(canvas, p, at.x + 4.0, at.y - 4.0,
+               "peak " + fixed(m->peak_sensitivity_db, 1) + " dB" +
+                   interval_suffix(m->peak_sensitivity_ci_db, plain_db) + " at " + format_frequency(m->frequency_hz) +
+                   (m->at_band_edge ? " (band edge)" : ""));
+  }
+  plot.svg = canvas.finish();
+  return plot;
+}
+
+}  // namespace
+
+std::vector<Plot> draw_plots(const AnalysisResult& result) {
+  const Drawable d = drawable(result.loop.lines);
+  std::vector<Plot> plots{bode(result, d), nyquist_near(result, d), nyquist_whole(d), coherence(d),
+                          sensitivity(result, d)};
+  if (d.left_out > 0) {
+    plots.front().notes.push_back(std::to_string(d.left_out) + " lines are not finite (or not above 0 Hz) and are left out of every plot.");
+  }
+  return plots;
+}
+
+}  // namespace loopmargin

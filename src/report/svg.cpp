@@ -1,0 +1,256 @@
+#include "report/svg.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <map>
+
+namespace loopmargin::svg {
+namespace {
+
+const char* kFont = "'DejaVu Sans', 'Liberation Sans', Arial, Helvetica, sans-serif";
+const char* kGrid = "#e2e5e9";
+const char* kMinorGrid = "#f1f3f5";
+const char* kInk = "#222831";
+
+std::string number(double v) {
+  char text[32];
+  std::snprintf(text, sizeof text, "%.1f", v);
+  return text;
+}
+
+std::string stroke_attributes(const Stroke& s) {
+  std::string out = " stroke=\"" + s.colour + "\" stroke-width=\"" + number(s.width) + "\"";
+  if (!s.dash.empty()) out += " stroke-dasharray=\"" + s.dash + "\"";
+  if (s.opacity < 1.0) out += " stroke-opacity=\"" + std::to_string(s.opacity).substr(0, 4) + "\"";
+  return out;
+}
+
+bool finite(Point p) { return std::isfinite(p.x) && std::isfinite(p.y); }
+
+double nice_step(double span, int count, double unit) {
+  const double raw = span / std::max(count, 1);
+  if (unit > 0.0 && raw >= unit) {
+    for (double m : {1.0, 2.0, 4.0, 8.0, 16.0, 32.0}) {
+      if (unit * m >= raw) return unit * m;
+    }
+  }
+  const double power = std::pow(10.0, std::floor(std::log10(raw)));
+  for (double m : {1.0, 2.0, 5.0, 10.0}) {
+    if (m * power >= raw) return m * power;
+  }
+  return 10.0 * power;
+}
+
+}  // namespace
+
+double Scale::operator()(double value) const {
+  const double a = log ? std::log10(low) : low;
+  const double b = log ? std::log10(high) : high;
+  const double v = log ? std::log10(value) : value;
+  return from_px + (v - a) / (b - a) * (to_px - from_px);
+}
+
+bool Scale::contains(double value) const {
+  return value >= std::min(low, high) && value <= std::max(low, high);
+}
+
+std::vector<Tick> log_ticks(double low, double high, const std::function<std::string(double)>& label,
+                            bool label_subdivisions) {
+  std::vector<Tick> ticks;
+  const int first = static_cast<int>(std::floor(std::log10(low)));
+  const int last = static_cast<int>(std::ceil(std::log10(high)));
+  for (int e = first; e <= last; ++e) {
+    const double decade = std::pow(10.0, e);
+    for (int m = 1; m <= 9; ++m) {
+      const double v = m * decade;
+      if (v < low * (1.0 - 1e-9) || v > high * (1.0 + 1e-9)) continue;
+      std::string text;
+      if (m == 1) text = label(v);
+      if (label_subdivisions && (m == 2 || m == 5)) text = std::to_string(m);
+      ticks.push_back({v, text, m == 1});
+    }
+  }
+  // A band narrower than a decade shows no decade: label its 2s and 5s in full.
+  if (std::none_of(ticks.begin(), ticks.end(), [](const Tick& t) { return t.major; })) {
+    for (Tick& t : ticks) {
+      if (!t.label.empty()) t.label = label(t.value);
+    }
+  }
+  return ticks;
+}
+
+void round_out(double& low, double& high, int count, double unit) {
+  if (!(high > low)) {
+    const double pad = std::max(std::abs(low) * 0.1, 1.0);
+    low -= pad;
+    high += pad;
+  }
+  const double step = nice_step(high - low, count, unit);
+  low = std::floor(low / step + 1e-9) * step;
+  high = std::ceil(high / step - 1e-9) * step;
+}
+
+std::vector<Tick> linear_ticks(double low, double high, int count, const std::function<std::string(double)>& label,
+                               double unit) {
+  std::vector<Tick> ticks;
+  const double step = nice_step(high - low, count, unit);
+  for (double v = std::ceil(low / step - 1e-9) * step; v <= high + step * 1e-9; v += step) {
+    const double clean = std::abs(v) < step * 1e-9 ? 0.0 : v;
+    ticks.push_back({clean, label(clean), true});
+  }
+  return ticks;
+}
+
+std::string escape(const std::string& text) {
+  std::string out;
+  for (char c : text) {
+    switch (c) {
+      case '&': out += "&amp;"; break;
+      case '<': out += "&lt;"; break;
+      case '>': out += "&gt;"; break;
+      case '"': out += "&quot;"; break;
+      case '\'': out += "&#39;"; break;
+      default: out += c;
+    }
+  }
+  return out;
+}
+
+Canvas::Canvas(double width, double height, std::string title)
+    : width_(width), height_(height), title_(std::move(title)) {}
+
+void Canvas::line(Point a, Point b, const Stroke& stroke) {
+  if (!finite(a) || !finite(b)) return;
+  body_ << "<line x1=\"" << number(a.x) << "\" y1=\"" << number(a.y) << "\" x2=\"" << number(b.x) << "\" y2=\""
+        << number(b.y) << "\"" << stroke_attributes(stroke) << "/>\n";
+}
+
+void Canvas::path(const std::vector<Point>& points, const Stroke& stroke) {
+  std::string d;
+  std::size_t run = 0;
+  const auto flush = [&] {
+    if (run >= 2) {
+      body_ << "<path fill=\"none\" stroke-linejoin=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
+    }
+    d.clear();
+    run = 0;
+  };
+  for (const Point& p : points) {
+    if (!finite(p)) {
+      flush();
+      continue;
+    }
+    d += run == 0 ? 'M' : 'L';
+    d += number(p.x);
+    d += ',';
+    d += number(p.y);
+    ++run;
+  }
+  flush();
+}
+
+void Canvas::polygon(const std::vector<Point>& points, const std::string& fill, double opacity) {
+  std::string list;
+  for (const Point& p : points) {
+    if (!finite(p)) continue;
+    list += number(p.x) + "," + number(p.y) + " ";
+  }
+  if (list.empty()) return;
+  body_ << "<polygon fill=\"" << fill << "\" fill-opacity=\"" << opacity << "\" stroke=\"none\" points=\"" << list
+        << "\"/>\n";
+}
+
+void Canvas::circle(Point centre, double radius, const Stroke& stroke, const std::string& fill) {
+  if (!finite(centre) || !std::isfinite(radius)) return;
+  body_ << "<circle cx=\"" << number(centre.x) << "\" cy=\"" << number(centre.y) << "\" r=\"" << number(radius)
+        << "\" fill=\"" << fill << "\"" << stroke_attributes(stroke) << "/>\n";
+}
+
+void Canvas::rect(double x, double y, double width, double height, const Stroke& stroke, const std::string& fill) {
+  body_ << "<rect x=\"" << number(x) << "\" y=\"" << number(y) << "\" width=\"" << number(width) << "\" height=\""
+        << number(height) << "\" fill=\"" << fill << "\"" << stroke_attributes(stroke) << "/>\n";
+}
+
+void Canvas::text(Point at, const std::string& content, const Text& style) {
+  if (!finite(at)) return;
+  body_ << "<text x=\"" << number(at.x) << "\" y=\"" << number(at.y) << "\" font-size=\"" << number(style.size)
+        << "\" text-anchor=\"" << style.anchor << "\" fill=\"" << style.colour << "\"";
+  if (style.bold) body_ << " font-weight=\"bold\"";
+  if (style.halo) body_ << " stroke=\"#ffffff\" stroke-width=\"3\" stroke-linejoin=\"round\" paint-order=\"stroke\"";
+  if (style.rotate != 0.0) {
+    body_ << " transform=\"rotate(" << number(style.rotate) << " " << number(at.x) << " " << number(at.y) << ")\"";
+  }
+  body_ << ">" << escape(content) << "</text>\n";
+}
+
+void Canvas::begin_clip(double x, double y, double width, double height) {
+  const std::string id = "clip" + std::to_string(++clips_);
+  body_ << "<clipPath id=\"" << id << "\"><rect x=\"" << number(x) << "\" y=\"" << number(y) << "\" width=\""
+        << number(width) << "\" height=\"" << number(height) << "\"/></clipPath>\n<g clip-path=\"url(#" << id
+        << ")\">\n";
+}
+
+void Canvas::end_clip() { body_ << "</g>\n"; }
+
+std::string Canvas::finish() const {
+  std::ostringstream out;
+  out << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << number(width_) << "\" height=\"" << number(height_)
+      << "\" viewBox=\"0 0 " << number(width_) << " " << number(height_) << "\" font-family=\"" << kFont
+      << "\" role=\"img\">\n<title>" << escape(title_) << "</title>\n<rect width=\"100%\" height=\"100%\" fill=\"#ffffff\"/>\n"
+      << body_.str() << "</svg>\n";
+  return out.str();
+}
+
+void draw_frame(Canvas& canvas, const Panel& p, const AxisLabels& labels) {
+  for (const Tick& t : labels.x_ticks) {
+    const double x = p.x(t.value);
+    canvas.line({x, p.top}, {x, p.bottom()}, {t.major || !t.label.empty() ? kGrid : kMinorGrid, 1.0});
+    canvas.line({x, p.bottom()}, {x, p.bottom() + (t.major ? 5.0 : 3.0)}, {kInk, 1.0});
+    if (!t.label.empty() && !labels.x_title.empty()) {
+      canvas.text({x, p.bottom() + 17.0}, t.label, {t.major ? 11.0 : 9.5, "middle", t.major ? kInk : "#555b63"});
+    }
+  }
+  for (const Tick& t : labels.y_ticks) {
+    const double y = p.y(t.value);
+    canvas.line({p.left, y}, {p.right(), y}, {t.major || !t.label.empty() ? kGrid : kMinorGrid, 1.0});
+    canvas.line({p.left - 4.0, y}, {p.left, y}, {kInk, 1.0});
+    if (!t.label.empty()) canvas.text({p.left - 7.0, y + 4.0}, t.label, {11.0, "end"});
+  }
+  canvas.rect(p.left, p.top, p.width, p.height, {kInk, 1.0}, "none");
+  if (!labels.x_title.empty()) {
+    canvas.text({p.left + p.width / 2.0, p.bottom() + 36.0}, labels.x_title, {12.0, "middle"});
+  }
+  if (!labels.y_title.empty()) {
+    Text t{12.0, "middle"};
+    t.rotate = -90.0;
+    canvas.text({p.left - 48.0, p.top + p.height / 2.0}, labels.y_title, t);
+  }
+}
+
+std::vector<Point> thin(const std::vector<Point>& points) {
+  std::vector<Point> out;
+  std::size_t k = 0;
+  while (k < points.size()) {
+    if (!finite(points[k])) {
+      out.push_back(points[k++]);
+      continue;
+    }
+    const double column = std::floor(points[k].x);
+    std::size_t end = k;
+    std::size_t low = k, high = k;
+    while (end < points.size() && finite(points[end]) && std::floor(points[end].x) == column) {
+      if (points[end].y < points[low].y) low = end;
+      if (points[end].y > points[high].y) high = end;
+      ++end;
+    }
+    std::vector<std::size_t> keep{k, low, high, end - 1};
+    std::sort(keep.begin(), keep.end());
+    keep.erase(std::unique(keep.begin(), keep.end()), keep.end());
+    for (std::size_t i : keep) out.push_back(points[i]);
+    k = end;
+  }
+  return out;
+}
+
+}  // namespace loopmargin::svg

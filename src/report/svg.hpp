@@ -1,0 +1,109 @@
+// A small SVG writer for the report's plots: scales, ticks, a plot panel
+// with its frame, and the drawing primitives the plots use. Coordinates are
+// pixels with y downward; Scale maps data to pixels.
+#pragma once
+
+#include <functional>
+#include <sstream>
+#include <string>
+#include <vector>
+
+namespace loopmargin::svg {
+
+struct Point {
+  double x = 0.0;
+  double y = 0.0;
+};
+
+struct Scale {
+  double low = 0.0;  // data range
+  double high = 1.0;
+  double from_px = 0.0;  // pixel range (from_px at low)
+  double to_px = 1.0;
+  bool log = false;
+  double operator()(double value) const;
+  bool contains(double value) const;
+};
+
+struct Tick {
+  double value = 0.0;
+  std::string label;  // empty: an unlabelled minor tick
+  bool major = false;
+};
+
+// Decades labelled in full; 2 and 5 as bare multipliers when `label_subdivisions`
+// (there is room); the other integers as unlabelled minor ticks.
+std::vector<Tick> log_ticks(double low, double high, const std::function<std::string(double)>& label,
+                            bool label_subdivisions);
+// Steps of 1, 2 or 5 times a power of ten (or of `unit`, e.g. 45 deg), about `count` of them.
+std::vector<Tick> linear_ticks(double low, double high, int count, const std::function<std::string(double)>& label,
+                               double unit = 0.0);
+// A range widened to whole ticks of linear_ticks.
+void round_out(double& low, double& high, int count, double unit = 0.0);
+
+struct Stroke {
+  std::string colour = "#222831";
+  double width = 1.0;
+  std::string dash;  // SVG dash array, "" for solid
+  double opacity = 1.0;
+};
+
+struct Text {
+  double size = 11.0;
+  std::string anchor = "start";  // start, middle, end
+  std::string colour = "#222831";
+  bool bold = false;
+  bool halo = false;  // a white outline so that the text reads over curves
+  double rotate = 0.0;
+};
+
+std::string escape(const std::string& text);
+
+class Canvas {
+ public:
+  Canvas(double width, double height, std::string title);
+
+  void line(Point a, Point b, const Stroke& stroke);
+  // Breaks the path at non-finite points; draws no segment of fewer than two.
+  void path(const std::vector<Point>& points, const Stroke& stroke);
+  void polygon(const std::vector<Point>& points, const std::string& fill, double opacity);
+  void circle(Point centre, double radius, const Stroke& stroke, const std::string& fill = "none");
+  void rect(double x, double y, double width, double height, const Stroke& stroke, const std::string& fill);
+  void text(Point at, const std::string& content, const Text& style);
+  // Everything drawn between begin_clip and end_clip stays inside the rectangle.
+  void begin_clip(double x, double y, double width, double height);
+  void end_clip();
+  std::string finish() const;
+
+ private:
+  double width_;
+  double height_;
+  std::string title_;
+  std::ostringstream body_;
+  int clips_ = 0;
+};
+
+// A plot area with its scales, drawn with grid, ticks, labels and frame.
+struct Panel {
+  double left = 0.0, top = 0.0, width = 0.0, height = 0.0;
+  Scale x, y;
+  Point at(double xv, double yv) const { return {x(xv), y(yv)}; }
+  double right() const { return left + width; }
+  double bottom() const { return top + height; }
+};
+
+struct AxisLabels {
+  std::vector<Tick> x_ticks;
+  std::vector<Tick> y_ticks;
+  std::string x_title;  // "" for none (a panel above another)
+  std::string y_title;
+};
+
+void draw_frame(Canvas& canvas, const Panel& panel, const AxisLabels& labels);
+
+// Pixel-space points thinned to at most four per pixel column (first, lowest,
+// highest, last), in their order: the drawing keeps its envelope, the data
+// are untouched.
+std::vector<Point> thin(const std::vector<Point>& points);
+
+}  // namespace loopmargin::svg
