@@ -34,6 +34,9 @@ constexpr double kLeft = 78.0;
 constexpr double kPlotWidth = 640.0;
 constexpr double kWidth = 760.0;
 constexpr double kMostDecibels = 160.0;  // span of a magnitude axis; lower lines are clipped and said so
+// Lines whose relative sigma (nepers, rad) exceeds this are drawn faint and
+// do not set the axes: their phase is noise (as the Nyquist count treats them).
+constexpr double kMostTrustedSigma = 0.5;
 
 std::string fixed(double v, int digits) {
   char text[48];
@@ -57,6 +60,7 @@ struct Drawable {
   std::vector<std::complex<double>> value;
   std::vector<double> sigma;      // relative; 0 when unknown
   std::vector<double> coherence;  // may be empty
+  std::vector<bool> reliable;     // relative sigma at most kMostTrustedSigma (or unknown)
   std::size_t left_out = 0;
 };
 
@@ -73,21 +77,107 @@ Drawable drawable(const Response& r) {
     d.value.push_back(v);
     const double s = k < r.relative_sigma.size() ? r.relative_sigma[k] : 0.0;
     d.sigma.push_back(std::isfinite(s) ? s : 0.0);
+    d.reliable.push_back(!(d.sigma.back() > kMostTrustedSigma));
     if (k < r.coherence.size()) d.coherence.push_back(r.coherence[k]);
   }
   if (d.coherence.size() != d.f.size()) d.coherence.clear();
   return d;
 }
 
-std::vector<double> unwrapped_phase_deg(const std::vector<std::complex<double>>& values) {
+// Phase unwrapped along the reliable lines; a noisy line takes the branch
+// nearest the last reliable one, so that noise cannot shift what follows.
+std::vector<double> unwrapped_phase_deg(const Drawable& d) {
   std::vector<double> out;
-  double previous = 0.0;
-  for (const auto& v : values) {
-    const double angle = deg_from_rad(std::arg(v));
-    out.push_back(out.empty() ? angle : out.back() + wrap_deg(angle - previous));
-    previous = angle;
+  double reference = 0.0;
+  bool anchored = false;
+  for (std::size_t k = 0; k < d.value.size(); ++k) {
+    const double angle = deg_from_rad(std::arg(d.value[k]));
+    const double unwrapped = anchored ? reference + wrap_deg(angle - reference) : angle;
+    out.push_back(unwrapped);
+    if (d.reliable[k]) {
+      reference = unwrapped;
+      anchored = true;
+    }
   }
   return out;
+}
+
+// Shifts an unwrapped phase by whole turns so that it lies in [-360, 0) deg at
+// the first gain crossover (where PM = 180 + phase), or else at the median of
+// the reliable lines: the branch a loop's phase is read in.
+void place_phase_branch(std::vector<double>& phase, const Drawable& d, const Margins& margins) {
+  if (phase.empty()) return;
+  std::size_t at = 0;
+  if (!margins.gain_crossovers.empty()) {
+    at = std::lower_bound(d.f.begin(), d.f.end(), margins.gain_crossovers.front().frequency_hz) - d.f.begin();
+  } else {
+    std::vector<std::size_t> trusted;
+    for (std::size_t k = 0; k < phase.size(); ++k) {
+      if (d.reliable[k]) trusted.push_back(k);
+    }
+    if (!trusted.empty()) at = trusted[trusted.size() / 2];
+  }
+  at = std::min(at, phase.size() - 1);
+  const double shift = -360.0 * std::floor(phase[at] / 360.0 + 1.0);
+  for (double& p : phase) p += shift;
+}
+
+// The range of the reliable values (all of them when fewer than two are),
+// without the outermost half per cent of each end when there are hundreds:
+// a few wild lines must not squash the rest.
+std::pair<double, double> value_range(const std::vector<double>& values, const std::vector<bool>& reliable) {
+  const bool use_all = std::count(reliable.begin(), reliable.end(), true) < 2;
+  std::vector<double> kept;
+  for (std::size_t k = 0; k < values.size(); ++k) {
+    if (use_all || reliable[k]) kept.push_back(values[k]);
+  }
+  std::sort(kept.begin(), kept.end());
+  const std::size_t trim = kept.size() >= 200 ? kept.size() / 200 : 0;
+  return {kept[trim], kept[kept.size() - 1 - trim]};
+}
+
+// The interval band of a curve, one polygon per run of reliable lines.
+void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
+               const std::vector<double>& half_width, const std::vector<bool>& reliable) {
+  std::vector<Point> upper, lower;
+  const auto flush = [&] {
+    if (upper.size() >= 2) {
+      std::vector<Point> band = svg::thin(upper);
+      const auto low_side = svg::thin(lower);
+      band.insert(band.end(), low_side.rbegin(), low_side.rend());
+      canvas.polygon(band, kCurve, 0.2);
+    }
+    upper.clear();
+    lower.clear();
+  };
+  const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
+  for (std::size_t k = 0; k < f.size(); ++k) {
+    if (!reliable[k] || !(half_width[k] > 0.0)) {
+      flush();
+      continue;
+    }
+    upper.push_back(p.at(f[k], std::clamp(values[k] + half_width[k], far_low, far_high)));
+    lower.push_back(p.at(f[k], std::clamp(values[k] - half_width[k], far_low, far_high)));
+  }
+  flush();
+}
+
+// The curve: every line faint, the reliable ones solid over it.
+void draw_curve(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
+                const std::vector<bool>& reliable) {
+  std::vector<Point> all, trusted;
+  const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
+  for (std::size_t k = 0; k < f.size(); ++k) {
+    const Point at = p.at(f[k], std::clamp(values[k], far_low, far_high));
+    all.push_back(at);
+    trusted.push_back(reliable[k] ? at : Point{NAN, NAN});
+  }
+  canvas.begin_clip(p.left, p.top, p.width, p.height);
+  if (std::find(reliable.begin(), reliable.end(), false) != reliable.end()) {
+    canvas.path(svg::thin(all), {kCurve, 1.0, "", 0.35});
+  }
+  canvas.path(svg::thin(trusted), kCurveStroke);
+  canvas.end_clip();
 }
 
 // The frequency axis of a set of lines: their range, widened by a factor of
@@ -170,22 +260,23 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
     return plot;
   }
   const double z = two_sided_z(result.margins.confidence);
-  std::vector<double> gain, gain_sigma, ph = unwrapped_phase_deg(d.value), phase_sigma;
+  std::vector<double> gain, gain_sigma, ph = unwrapped_phase_deg(d), phase_sigma;
+  place_phase_branch(ph, d, result.margins);
   for (std::size_t k = 0; k < d.f.size(); ++k) {
     gain.push_back(db_from_ratio(std::abs(d.value[k])));
     gain_sigma.push_back(z * db_from_nepers(d.sigma[k]));
     phase_sigma.push_back(z * deg_from_rad(d.sigma[k]));
   }
-  double g_high = *std::max_element(gain.begin(), gain.end());
-  double g_low = std::max(*std::min_element(gain.begin(), gain.end()), g_high - kMostDecibels);
-  if (g_low > *std::min_element(gain.begin(), gain.end())) {
-    plot.notes.push_back("Lines more than " + fixed(kMostDecibels, 0) + " dB below the highest are clipped at the bottom of the magnitude plot.");
+  auto [g_low, g_high] = value_range(gain, d.reliable);
+  if (g_low < g_high - kMostDecibels) {
+    g_low = g_high - kMostDecibels;
+    plot.notes.push_back("Lines more than " + fixed(kMostDecibels, 0) +
+                         " dB below the highest are clipped at the bottom of the magnitude plot.");
   }
   g_low = std::min(g_low, -10.0);
   g_high = std::max(g_high, 10.0);
   svg::round_out(g_low, g_high, 6);
-  double p_low = *std::min_element(ph.begin(), ph.end());
-  double p_high = *std::max_element(ph.begin(), ph.end());
+  auto [p_low, p_high] = value_range(ph, d.reliable);
   p_low = std::min(p_low, -180.0);
   p_high = std::max(p_high, p_low + 90.0);
   svg::round_out(p_low, p_high, 6, 45.0);
@@ -195,38 +286,18 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
   svg::draw_frame(canvas, mag, {x_ticks, svg::linear_ticks(g_low, g_high, 6, tick_db), "", "magnitude (dB)"});
   svg::draw_frame(canvas, phase, {x_ticks, svg::linear_ticks(p_low, p_high, 6, tick_number, 45.0), "frequency",
                                   "phase (°)"});
-  // The bands, the references and the curves, clipped to each panel.
-  for (const auto& [panel, values, sigmas] :
+  for (const auto& [panel, values, widths] :
        {std::tuple{&mag, &gain, &gain_sigma}, std::tuple{&phase, &ph, &phase_sigma}}) {
     canvas.begin_clip(panel->left, panel->top, panel->width, panel->height);
-    std::vector<Point> upper, lower, curve;
-    for (std::size_t k = 0; k < d.f.size(); ++k) {
-      const double y = std::clamp((*values)[k], panel->y.low - 1e3, panel->y.high + 1e3);
-      curve.push_back(panel->at(d.f[k], y));
-      if ((*sigmas)[k] > 0.0) {
-        upper.push_back(panel->at(d.f[k], std::min(y + (*sigmas)[k], panel->y.high + 1e3)));
-        lower.push_back(panel->at(d.f[k], std::max(y - (*sigmas)[k], panel->y.low - 1e3)));
-      }
-    }
-    if (upper.size() == d.f.size()) {
-      std::vector<Point> band = svg::thin(upper);
-      const auto low_side = svg::thin(lower);
-      band.insert(band.end(), low_side.rbegin(), low_side.rend());
-      canvas.polygon(band, kCurve, 0.2);
-    }
+    draw_band(canvas, *panel, d.f, *values, *widths, d.reliable);
     canvas.end_clip();
   }
   canvas.line(mag.at(fx.low, 0.0), mag.at(fx.high, 0.0), kReferenceStroke);
   for (double level = std::ceil((p_low + 180.0) / 360.0) * 360.0 - 180.0; level <= p_high; level += 360.0) {
     canvas.line(phase.at(fx.low, level), phase.at(fx.high, level), kReferenceStroke);
   }
-  for (auto [panel, values] : {std::pair{&mag, &gain}, std::pair{&phase, &ph}}) {
-    canvas.begin_clip(panel->left, panel->top, panel->width, panel->height);
-    std::vector<Point> curve;
-    for (std::size_t k = 0; k < d.f.size(); ++k) curve.push_back(panel->at(d.f[k], (*values)[k]));
-    canvas.path(svg::thin(curve), kCurveStroke);
-    canvas.end_clip();
-  }
+  draw_curve(canvas, mag, d.f, gain, d.reliable);
+  draw_curve(canvas, phase, d.f, ph, d.reliable);
   // Margins: phase margins on the phase panel, gain margins on the magnitude panel.
   LabelRows phase_rows(150.0), gain_rows(150.0);
   const auto phase_at = [&](double f) {
@@ -246,9 +317,8 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
     canvas.line(phase.at(c.frequency_hz, level), phase.at(c.frequency_hz, at), {kMarker, 2.4});
     canvas.circle(phase.at(c.frequency_hz, at), 3.0, {kMarker, 1.2}, kMarker);
     const int row = phase_rows.take(x);
-    side_label(canvas, phase, x, 0.5 * (phase.y(level) + phase.y(at)) + 4.0 + 15.0 * row,
-               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, plain_deg) + " at " +
-                   format_frequency(c.frequency_hz));
+    side_label(canvas, phase, x, phase.y(level) + (at >= level ? 17.0 : -8.0) + 15.0 * row,
+               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, plain_deg));
   }
   for (const auto& c : result.margins.phase_crossovers) {
     if (!fx.contains(c.frequency_hz)) continue;
@@ -260,9 +330,8 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
     canvas.line(mag.at(c.frequency_hz, 0.0), mag.at(c.frequency_hz, -c.gain_margin_db), {kMarker, 2.4});
     canvas.circle(mag.at(c.frequency_hz, -c.gain_margin_db), 3.0, {kMarker, 1.2}, kMarker);
     const int row = gain_rows.take(x);
-    side_label(canvas, mag, x, 0.5 * (mag.y(0.0) + mag.y(-c.gain_margin_db)) + 4.0 + 15.0 * row,
-               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, plain_db) + " at " +
-                   format_frequency(c.frequency_hz));
+    side_label(canvas, mag, x, mag.y(0.0) + (c.gain_margin_db >= 0.0 ? -8.0 : 17.0) - 15.0 * row,
+               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, plain_db));
   }
   // Key.
   const double key_y = 585.0;
@@ -275,6 +344,10 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
   canvas.text({kLeft + 362.0, key_y}, "0 dB and -180° (mod 360°)", {11.0});
   canvas.line({kLeft + 530.0, key_y - 4.0}, {kLeft + 556.0, key_y - 4.0}, {kMarker, 2.4});
   canvas.text({kLeft + 562.0, key_y}, "margins", {11.0});
+  if (std::find(d.reliable.begin(), d.reliable.end(), false) != d.reliable.end()) {
+    plot.notes.push_back("Faint parts of the curve are lines too noisy to trust (relative standard deviation above " +
+                         fixed(kMostTrustedSigma, 1) + "); they do not set the axes.");
+  }
   if (result.margins.gain_crossovers.empty()) plot.notes.push_back("No gain crossover in the band: no phase margin to mark.");
   if (result.margins.phase_crossovers.empty()) plot.notes.push_back("No phase crossover in the band: no gain margin to mark.");
   plot.svg = canvas.finish();
@@ -430,9 +503,7 @@ Plot coherence(const Drawable& d) {
   }
   canvas.line(p.at(fx.low, kCoherenceThreshold), p.at(fx.high, kCoherenceThreshold), {kMarker, 1.2, "8 3 2 3"});
   canvas.text({p.right() - 4.0, p.y(kCoherenceThreshold) - 5.0}, "threshold 0.5", marker_text("end"));
-  std::vector<Point> points;
-  for (std::size_t k = 0; k < d.f.size(); ++k) points.push_back(p.at(d.f[k], std::clamp(d.coherence[k], 0.0, 1.0)));
-  canvas.path(svg::thin(points), kCurveStroke);
+  draw_curve(canvas, p, d.f, d.coherence, std::vector<bool>(d.f.size(), true));
   plot.svg = canvas.finish();
   return plot;
 }
@@ -451,14 +522,12 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
     s_db.push_back(-db_from_ratio(std::abs(one_plus)));
     s_sigma.push_back(z * db_from_nepers(d.sigma[k] * std::abs(d.value[k] / one_plus)));
   }
-  double low = s_db.empty() ? -20.0 : std::max(*std::min_element(s_db.begin(), s_db.end()), -kMostDecibels);
-  double high = s_db.empty() ? 10.0 : *std::max_element(s_db.begin(), s_db.end());
-  low = std::min(low, -10.0);
+  auto [low, high] = s_db.empty() ? std::pair{-20.0, 10.0} : value_range(s_db, d.reliable);
+  low = std::min(std::max(low, high - kMostDecibels), -10.0);
   high = std::max(high + 3.0, 10.0);
   svg::round_out(low, high, 6);
   p.y = {low, high, p.bottom(), p.top};
-  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_db),
-                              "frequency", "|S| (dB)"});
+  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_db), "frequency", "|S| (dB)"});
   if (d.f.empty()) {
     empty_message(canvas, p, "no finite lines to draw");
     plot.svg = canvas.finish();
@@ -466,20 +535,9 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
   }
   canvas.line(p.at(fx.low, 0.0), p.at(fx.high, 0.0), kReferenceStroke);
   canvas.begin_clip(p.left, p.top, p.width, p.height);
-  std::vector<Point> upper, lower, curve;
-  for (std::size_t k = 0; k < d.f.size(); ++k) {
-    curve.push_back(p.at(d.f[k], s_db[k]));
-    upper.push_back(p.at(d.f[k], s_db[k] + s_sigma[k]));
-    lower.push_back(p.at(d.f[k], s_db[k] - s_sigma[k]));
-  }
-  if (std::any_of(s_sigma.begin(), s_sigma.end(), [](double s) { return s > 0.0; })) {
-    std::vector<Point> band = svg::thin(upper);
-    const auto low_side = svg::thin(lower);
-    band.insert(band.end(), low_side.rbegin(), low_side.rend());
-    canvas.polygon(band, kCurve, 0.2);
-  }
-  canvas.path(svg::thin(curve), kCurveStroke);
+  draw_band(canvas, p, d.f, s_db, s_sigma, d.reliable);
   canvas.end_clip();
+  draw_curve(canvas, p, d.f, s_db, d.reliable);
   if (const auto& m = result.margins.modulus) {
     const Point at = p.at(m->frequency_hz, m->peak_sensitivity_db);
     canvas.line({at.x, at.y - 12.0}, {at.x, p.bottom()}, kMarkerLine);
