@@ -107,7 +107,7 @@ void write_method(std::ostream& out, const AnalysisResult& r, const ReportContex
     out << "<tr><th>" << escape(label) << "</th><td>" << html << "</td></tr>\n";
   };
   row("input", "<code>" + escape(r.origin) + "</code>");
-  if (!c.recording_modified.empty()) row("recorded", escape(c.recording_modified) + " (file modification time)");
+  if (!c.recording_modified.empty()) row("file date", escape(c.recording_modified) + " (last modified)");
   for (const auto& [label, text] : describe_method(r)) row(label, escape(text));
   row("intervals", fixed(100.0 * r.margins.confidence, 0) + " %, two-sided, from each line's standard deviation");
   if (c.settings_path.empty()) {
