@@ -360,19 +360,25 @@ struct LocalLoop {
   std::complex<double> at(double u) const { return {re.at(u), im.at(u)}; }
   // First-order sigma of |g(L)| at u, given g and dg/dL there: |g| moves by
   // Re(w dL) with w = conj(g)/|g| * dg/dL, and dL = d(Re L) + i d(Im L).
-  double sigma_of_modulus(double u, std::complex<double> g, std::complex<double> dg_dl) const {
+  // Never below what the nearest line's own sigma (absolute, `line_sigma`)
+  // gives: neighbouring lines' errors are correlated (see curve_sigma).
+  double sigma_of_modulus(double u, std::complex<double> g, std::complex<double> dg_dl, double line_sigma) const {
     const std::complex<double> w = std::conj(g) / std::abs(g) * dg_dl;
-    return std::hypot(w.real() * re.sigma_at(u), w.imag() * im.sigma_at(u));
+    return std::max(std::hypot(w.real() * re.sigma_at(u), w.imag() * im.sigma_at(u)), std::abs(dg_dl) * line_sigma);
   }
 };
 
+// The absolute standard deviation of L at line k (each of Re and Im).
+double line_sigma(const LineTable& table, std::size_t k) { return table.relative_sigma[k] * std::abs(table.value[k]); }
+
 LocalLoop local_loop(const LineTable& table, std::size_t k, const MarginOptions& options) {
-  const Window w = window_around(k, k, options.fit_half_width, table.size());
+  const bool measured = table.relative_sigma[k] > 0.0;
+  const Window w = window_around(k, k, measured ? options.peak_half_width : options.fit_half_width, table.size());
   std::vector<double> re(table.size()), im(table.size()), sigmas(table.size());
   for (std::size_t i = w.first; i <= w.last; ++i) {
     re[i] = table.value[i].real();
     im[i] = table.value[i].imag();
-    sigmas[i] = table.relative_sigma[i] * std::abs(table.value[i]);  // absolute sigma of each part
+    sigmas[i] = line_sigma(table, i);
   }
   const int degree = detail::fit_degree(table.relative_sigma, w.first, w.last);
   return {detail::fit_local(table.log_f, re, sigmas, w.first, w.last, degree),
@@ -402,8 +408,11 @@ ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options)
   ModulusPoint point{std::pow(10.0, u), std::abs(1.0 + table.value[k]), 0.0, edge};
   if (!edge) {
     const std::complex<double> l = fit.at(u);
-    point.modulus_margin = std::min(std::abs(1.0 + l), std::abs(1.0 + table.value[k]));
-    const double sigma = fit.sigma_of_modulus(u, 1.0 + l, 1.0);
+    // An exact table's minimum cannot lie above a line; a measured one is
+    // read off the fit alone, since the smallest noisy line is biased low.
+    const bool measured = table.relative_sigma[k] > 0.0;
+    point.modulus_margin = measured ? std::abs(1.0 + l) : std::min(std::abs(1.0 + l), std::abs(1.0 + table.value[k]));
+    const double sigma = fit.sigma_of_modulus(u, 1.0 + l, 1.0, line_sigma(table, k));
     const double z = two_sided_z(options.confidence);
     point.modulus_margin_ci = interval(point.modulus_margin, sigma, z);
     if (point.modulus_margin_ci && point.modulus_margin_ci->low > 0.0) {
@@ -426,7 +435,8 @@ DiskMargin disk_point(const LineTable& table, const MarginOptions& options) {
   if (edge) return disk;
   // d/dL (1 - L)/(1 + L) = -2 / (1 + L)^2
   const std::complex<double> l = fit.at(u);
-  const double sigma = fit.sigma_of_modulus(u, (1.0 - l) / (1.0 + l), -2.0 / ((1.0 + l) * (1.0 + l)));
+  const double sigma =
+      fit.sigma_of_modulus(u, (1.0 - l) / (1.0 + l), -2.0 / ((1.0 + l) * (1.0 + l)), line_sigma(table, k));
   const auto peak_ci = interval(peak, sigma, two_sided_z(options.confidence));
   if (peak_ci && peak_ci->low > 0.0) {
     // alpha = 2 / peak, and the guaranteed ranges grow with alpha.

@@ -113,7 +113,7 @@ void run_analyze(const AnalyzeArgs& a) {
   const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
   Progress progress(a.quiet);
   const AnalysisResult result = analyze(open, settings.analysis, progress.function());
-  write_outputs(result, a.outputs, a.recording, a.config_path);
+  write_outputs(result, a.outputs, a.recording, a.config_path, truth);
   write_text_report(std::cout, result, truth);
 }
 

@@ -88,7 +88,7 @@ void add_output_options(CLI::App* cmd, OutputRequest& r) {
 }
 
 void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
-                   const std::string& settings) {
+                   const std::string& settings, const std::optional<MarginSummary>& truth) {
   const OutputRequest r = resolved(request, input);
   if (!r.json_path.empty()) write_text_file(r.json_path, analysis_json(result));
   if (!r.csv_path.empty()) {
@@ -102,7 +102,7 @@ void write_outputs(const AnalysisResult& result, const OutputRequest& request, c
   }
   if (!r.report_path.empty()) {
     ReportContext context{modified_text(input), utc_text(std::chrono::system_clock::now()), settings,
-                          settings.empty() ? "" : file_text(settings), command_line()};
+                          settings.empty() ? "" : file_text(settings), command_line(), truth};
     write_text_file(r.report_path, html_report(result, plots, context));
   }
 }

@@ -3,6 +3,7 @@
 #pragma once
 
 #include <CLI/CLI.hpp>
+#include <optional>
 #include <string>
 
 #include "loopmargin/pipeline.hpp"
@@ -23,7 +24,7 @@ void add_output_options(CLI::App* command, OutputRequest& request);
 // `input` names the file analysed (for the stem and its date), `settings`
 // the run settings file or "".
 void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
-                   const std::string& settings);
+                   const std::string& settings, const std::optional<MarginSummary>& truth = std::nullopt);
 
 // Writes the whole text or nothing (see write_atomically).
 void write_text_file(const std::string& path, const std::string& text);

@@ -171,6 +171,29 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
   }
 }
 
+// A simulated recording's truth beside the result, and whether each
+// interval holds it.
+void write_truth(std::ostream& out, const AnalysisResult& r, const MarginSummary& t) {
+  const auto& m = r.margins.summary;
+  out << "<h2>Compared with the simulation's truth</h2>\n<table>\n<tr><th>quantity</th><th>measured</th><th>"
+      << fixed(100.0 * r.margins.confidence, 0) << " % interval</th><th>truth</th><th>inside</th></tr>\n";
+  const auto row = [&](const char* name, const std::optional<double>& value, const std::optional<Interval>& ci,
+                       const std::optional<double>& truth, std::string (*format)(double)) {
+    const bool inside = ci && truth && ci->low <= *truth && *truth <= ci->high;
+    out << "<tr><td>" << name << "</td><td class=\"num\">" << (value ? format(*value) : "none in band")
+        << "</td><td class=\"num\">" << range(ci, format) << "</td><td class=\"num\">"
+        << (truth ? format(*truth) : "none in band") << "</td><td>" << (ci && truth ? (inside ? "yes" : "no") : "")
+        << "</td></tr>\n";
+  };
+  row("gain crossover", m.gain_crossover_hz, m.gain_crossover_ci_hz, t.gain_crossover_hz, hz);
+  row("phase margin", m.phase_margin_deg, m.phase_margin_ci_deg, t.phase_margin_deg, deg);
+  row("delay margin", m.delay_margin_s, m.delay_margin_ci_s, t.delay_margin_s, seconds);
+  row("phase crossover", m.phase_crossover_hz, m.phase_crossover_ci_hz, t.phase_crossover_hz, hz);
+  row("gain margin", m.gain_margin_db, m.gain_margin_ci_db, t.gain_margin_db, db);
+  row("modulus margin", m.modulus_margin, m.modulus_margin_ci, t.modulus_margin, ratio);
+  out << "</table>\n";
+}
+
 void write_plots(std::ostream& out, const std::vector<Plot>& plots) {
   out << "<h2>Plots</h2>\n";
   for (const Plot& p : plots) {
@@ -219,6 +242,7 @@ std::string html_report(const AnalysisResult& result, const std::vector<Plot>& p
   write_glance(out, result);
   write_method(out, result, context);
   write_margins(out, result);
+  if (context.truth) write_truth(out, result, *context.truth);
   write_plots(out, plots);
   write_findings(out, result.findings);
   write_cautions(out);

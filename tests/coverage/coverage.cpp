@@ -75,7 +75,8 @@ struct Scores {
 struct Tally {
   int runs = 0;
   int crossover = 0, phase_margin = 0, gain_margin = 0;
-  Scores crossover_z, phase_margin_z, gain_margin_z;
+  Scores crossover_z, phase_margin_z, gain_margin_z, modulus_z;
+  int modulus = 0;
   double fraction(int hits) const { return runs ? static_cast<double>(hits) / runs : 0.0; }
 };
 
@@ -104,6 +105,8 @@ void run_cell(const Cell& cell, int runs, std::uint64_t first_seed, Tally& cell_
       t->crossover_z.add(log_i(m.gain_crossover_ci_hz), log_f(m.gain_crossover_hz), log_f(truth.gain_crossover_hz), z);
       t->phase_margin_z.add(m.phase_margin_ci_deg, m.phase_margin_deg, truth.phase_margin_deg, z);
       t->gain_margin_z.add(m.gain_margin_ci_db, m.gain_margin_db, truth.gain_margin_db, z);
+      t->modulus += holds(m.modulus_margin_ci, truth.modulus_margin);
+      t->modulus_z.add(m.modulus_margin_ci, m.modulus_margin, truth.modulus_margin, z);
     }
   }
 }
@@ -113,6 +116,8 @@ void print(const char* name, const Tally& t) {
               100.0 * t.fraction(t.crossover), 100.0 * t.fraction(t.phase_margin), 100.0 * t.fraction(t.gain_margin),
               t.crossover_z.mean(), t.crossover_z.rms(), t.phase_margin_z.mean(), t.phase_margin_z.rms(),
               t.gain_margin_z.mean(), t.gain_margin_z.rms());
+  std::printf("  %-26s        modulus margin (not held to the limits) %6.1f %%   z mean/rms %+.2f/%.2f\n", "",
+              100.0 * t.fraction(t.modulus), t.modulus_z.mean(), t.modulus_z.rms());
 }
 
 }  // namespace

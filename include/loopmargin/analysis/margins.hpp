@@ -135,6 +135,10 @@ double two_sided_z(double confidence);
 struct MarginOptions {
   // Lines on each side of a crossing used by its local least-squares fit.
   std::size_t fit_half_width = 2;
+  // Lines on each side of a peak (modulus and disk margins) in the local fit
+  // of measured lines: wider than a crossing's, so that the fit does not
+  // follow the noise of the line that happens to lie lowest.
+  std::size_t peak_half_width = 4;
   // Lines on each side used to estimate the curve's slope when judging how
   // far line noise can move a crossing (wider than the fit: noise must not
   // set the slope).

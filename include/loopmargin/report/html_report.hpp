@@ -4,6 +4,7 @@
 // scripts or images: it opens offline in any browser and prints on A4.
 #pragma once
 
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -19,6 +20,7 @@ struct ReportContext {
   std::string settings_path;       // the run settings file, "" when none was given
   std::string settings_text;       // its contents, hashed and shown in the report
   std::string command_line;        // the command that produced the result
+  std::optional<MarginSummary> truth;  // of a simulated recording, shown beside the result
 };
 
 std::string html_report(const AnalysisResult& result, const std::vector<Plot>& plots, const ReportContext& context);
