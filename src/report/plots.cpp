@@ -5,6 +5,7 @@
 #include <complex>
 #include <cstdio>
 #include <numbers>
+#include <optional>
 
 #include "loopmargin/format.hpp"
 #include "loopmargin/units.hpp"
@@ -136,41 +137,57 @@ std::pair<double, double> value_range(const std::vector<double>& values, const s
   return {kept[trim], kept[kept.size() - 1 - trim]};
 }
 
-// The interval band of a curve, one polygon per run of reliable lines.
-void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
-               const std::vector<double>& half_width, const std::vector<bool>& reliable) {
-  std::vector<Point> upper, lower;
-  const auto flush = [&] {
-    if (upper.size() >= 2) {
-      std::vector<Point> band = svg::thin(upper);
-      const auto low_side = svg::thin(lower);
-      band.insert(band.end(), low_side.rbegin(), low_side.rend());
-      canvas.polygon(band, kCurve, 0.2);
-    }
-    upper.clear();
-    lower.clear();
-  };
-  const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
+// Runs of reliable lines, as [first, last] index pairs: a run goes on across
+// noisy lines until the gap between reliable ones spans kMostBridgedPixels.
+constexpr double kMostBridgedPixels = 6.0;
+std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(const Panel& p, const std::vector<double>& f,
+                                                               const std::vector<bool>& reliable) {
+  std::vector<std::pair<std::size_t, std::size_t>> runs;
+  std::optional<std::size_t> last;
   for (std::size_t k = 0; k < f.size(); ++k) {
-    if (!reliable[k] || !(half_width[k] > 0.0)) {
-      flush();
-      continue;
+    if (!reliable[k]) continue;
+    if (last && p.x(f[k]) - p.x(f[*last]) <= kMostBridgedPixels) {
+      runs.back().second = k;
+    } else {
+      runs.push_back({k, k});
     }
-    upper.push_back(p.at(f[k], std::clamp(values[k] + half_width[k], far_low, far_high)));
-    lower.push_back(p.at(f[k], std::clamp(values[k] - half_width[k], far_low, far_high)));
+    last = k;
   }
-  flush();
+  return runs;
 }
 
-// The curve: every line faint, the reliable ones solid over it.
+// The interval band of a curve over the reliable lines, one polygon a run.
+void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
+               const std::vector<double>& half_width, const std::vector<bool>& reliable) {
+  const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
+  for (const auto& [first, last] : reliable_runs(p, f, reliable)) {
+    std::vector<Point> upper, lower;
+    for (std::size_t k = first; k <= last; ++k) {
+      if (!reliable[k] || !(half_width[k] > 0.0)) continue;
+      upper.push_back(p.at(f[k], std::clamp(values[k] + half_width[k], far_low, far_high)));
+      lower.push_back(p.at(f[k], std::clamp(values[k] - half_width[k], far_low, far_high)));
+    }
+    if (upper.size() < 2) continue;
+    std::vector<Point> band = svg::thin(upper);
+    const auto low_side = svg::thin(lower);
+    band.insert(band.end(), low_side.rbegin(), low_side.rend());
+    canvas.polygon(band, kCurve, 0.2);
+  }
+}
+
+// The curve: every line faint, and the reliable ones solid over it (through
+// isolated noisy lines, broken where a noisy stretch is wide).
 void draw_curve(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
                 const std::vector<bool>& reliable) {
-  std::vector<Point> all, trusted;
   const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
-  for (std::size_t k = 0; k < f.size(); ++k) {
-    const Point at = p.at(f[k], std::clamp(values[k], far_low, far_high));
-    all.push_back(at);
-    trusted.push_back(reliable[k] ? at : Point{NAN, NAN});
+  const auto at = [&](std::size_t k) { return p.at(f[k], std::clamp(values[k], far_low, far_high)); };
+  std::vector<Point> all, trusted;
+  for (std::size_t k = 0; k < f.size(); ++k) all.push_back(at(k));
+  for (const auto& [first, last] : reliable_runs(p, f, reliable)) {
+    for (std::size_t k = first; k <= last; ++k) {
+      if (reliable[k]) trusted.push_back(at(k));
+    }
+    trusted.push_back({NAN, NAN});
   }
   canvas.begin_clip(p.left, p.top, p.width, p.height);
   if (std::find(reliable.begin(), reliable.end(), false) != reliable.end()) {
@@ -355,6 +372,32 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
 }
 
 // ---------------------------------------------------------------- Nyquist
+
+// The points near the view (20 px around it) and their neighbours; the rest
+// become breaks, so that a curve far outside costs nothing in the file.
+std::vector<Point> in_view(const Panel& p, const std::vector<Point>& points) {
+  const auto near = [&](const Point& q) {
+    return q.x > p.left - 20.0 && q.x < p.right() + 20.0 && q.y > p.top - 20.0 && q.y < p.bottom() + 20.0;
+  };
+  std::vector<Point> out;
+  for (std::size_t k = 0; k < points.size(); ++k) {
+    const bool keep = near(points[k]) || (k > 0 && near(points[k - 1])) ||
+                      (k + 1 < points.size() && near(points[k + 1]));
+    out.push_back(keep ? points[k] : Point{NAN, NAN});
+  }
+  return out;
+}
+
+// L in the complex plane: every line faint, the reliable ones solid.
+void draw_plane_curve(Canvas& canvas, const Panel& p, const std::vector<Point>& points,
+                      const std::vector<bool>& reliable) {
+  std::vector<Point> trusted;
+  for (std::size_t k = 0; k < points.size(); ++k) {
+    if (reliable[k]) trusted.push_back(points[k]);
+  }
+  if (trusted.size() < points.size()) canvas.path(svg::thin_path(in_view(p, points), 1.5), {kCurve, 1.0, "", 0.35});
+  canvas.path(svg::thin_path(in_view(p, trusted)), kCurveStroke);
+}
 struct ComplexView {
   double re_low, re_high, im_low, im_high;
 };
@@ -394,7 +437,7 @@ Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
   }
   std::vector<Point> points;
   for (const auto& v : d.value) points.push_back(p.at(v.real(), v.imag()));
-  canvas.path(svg::thin(points), kCurveStroke);
+  draw_plane_curve(canvas, p, points, d.reliable);
   // Phase margin: the ray to the crossover on the unit circle and the arc from -1 to it.
   for (const auto& c : m.gain_crossovers) {
     const double angle = rad_from_deg(c.phase_margin_deg - 180.0);  // of L at the crossover
@@ -463,8 +506,8 @@ Plot nyquist_whole(const Drawable& d) {
     points.push_back(p.at(s.real(), s.imag()));
     mirror.push_back(p.at(s.real(), -s.imag()));
   }
-  canvas.path(svg::thin(mirror), {kCurve, 1.0, "3 3", 0.5});
-  canvas.path(svg::thin(points), kCurveStroke);
+  canvas.path(svg::thin_path(in_view(p, mirror), 1.5), {kCurve, 1.0, "3 3", 0.5});
+  draw_plane_curve(canvas, p, points, d.reliable);
   canvas.end_clip();
   decade_marks(canvas, p, d, points);
   const Point critical = p.at(-std::log10(2.0), 0.0);

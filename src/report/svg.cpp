@@ -253,4 +253,33 @@ std::vector<Point> thin(const std::vector<Point>& points) {
   return out;
 }
 
+namespace {
+std::vector<Point> spaced(const std::vector<Point>& points, double spacing) {
+  std::vector<Point> out;
+  for (std::size_t k = 0; k < points.size(); ++k) {
+    const Point& p = points[k];
+    if (!finite(p)) {
+      if (!out.empty() && finite(out.back())) out.push_back(p);  // one break for a run of them
+      continue;
+    }
+    const bool end = k + 1 == points.size() || !finite(points[k + 1]);
+    if (out.empty() || !finite(out.back()) || end ||
+        std::hypot(p.x - out.back().x, p.y - out.back().y) >= spacing) {
+      out.push_back(p);
+    }
+  }
+  return out;
+}
+}  // namespace
+
+std::vector<Point> thin_path(const std::vector<Point>& points, double spacing, std::size_t most_points) {
+  std::vector<Point> out = spaced(points, spacing);
+  // Breaks and run ends always stay, so the spacing grows only as far as the view is wide.
+  while (out.size() > most_points && spacing < 2000.0) {
+    spacing *= 1.5;
+    out = spaced(points, spacing);
+  }
+  return out;
+}
+
 }  // namespace loopmargin::svg

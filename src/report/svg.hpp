@@ -105,5 +105,10 @@ void draw_frame(Canvas& canvas, const Panel& panel, const AxisLabels& labels);
 // highest, last), in their order: the drawing keeps its envelope, the data
 // are untouched.
 std::vector<Point> thin(const std::vector<Point>& points);
+// For curves that are not functions of x (the complex plane): drops each
+// point closer than `spacing` px to the last one kept; keeps the ends and
+// the breaks at non-finite points. Widens the spacing until at most
+// `most_points` remain, which bounds the file whatever the line count.
+std::vector<Point> thin_path(const std::vector<Point>& points, double spacing = 0.75, std::size_t most_points = 3000);
 
 }  // namespace loopmargin::svg
