@@ -132,3 +132,22 @@ TEST_CASE("awkward responses still draw and say what is missing", "[report]") {
   AnalysisResult empty_result;
   CHECK_THAT(draw_plots(empty_result)[0].svg, Catch::Contains("no finite lines to draw"));
 }
+
+TEST_CASE("complex-plane thinning keeps within its point budget even between many breaks", "[report]") {
+  // A noisy scribble in a 20 px square, broken every 50th point: the breaks and
+  // the ends of runs always stay, so the budget is 3000 plus three a run, and
+  // the widening of the spacing must stop rather than loop for ever.
+  std::vector<svg::Point> scribble;
+  for (int i = 0; i < 50000; ++i) {
+    scribble.push_back(i % 50 == 49 ? svg::Point{NAN, NAN}
+                                    : svg::Point{10.0 + 10.0 * std::sin(i * 1.7), 10.0 + 10.0 * std::cos(i * 2.3)});
+  }
+  const auto thin = svg::thin_path(scribble, 0.75, 3000);
+  CHECK(thin.size() <= 3000 + 3 * 1000);
+  std::vector<svg::Point> smooth;
+  for (int i = 0; i < 50000; ++i) smooth.push_back({i * 0.01, 100.0 * std::sin(i * 1e-4)});
+  const auto thin_smooth = svg::thin_path(smooth, 0.75, 3000);
+  CHECK(thin_smooth.size() <= 3000);
+  CHECK(thin_smooth.front().x == smooth.front().x);
+  CHECK(thin_smooth.back().x == smooth.back().x);
+}
