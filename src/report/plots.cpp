@@ -137,16 +137,18 @@ std::pair<double, double> value_range(const std::vector<double>& values, const s
   return {kept[trim], kept[kept.size() - 1 - trim]};
 }
 
-// Runs of reliable lines, as [first, last] index pairs: a run goes on across
-// noisy lines until the gap between reliable ones spans kMostBridgedPixels.
+// Runs of reliable lines, as [first, last] index pairs: adjacent reliable
+// lines always join; a run goes on across noisy lines while the gap they
+// leave spans at most kMostBridgedPixels.
 constexpr double kMostBridgedPixels = 6.0;
+constexpr std::size_t kMostDottedLines = 80;
 std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(const Panel& p, const std::vector<double>& f,
                                                                const std::vector<bool>& reliable) {
   std::vector<std::pair<std::size_t, std::size_t>> runs;
   std::optional<std::size_t> last;
   for (std::size_t k = 0; k < f.size(); ++k) {
     if (!reliable[k]) continue;
-    if (last && p.x(f[k]) - p.x(f[*last]) <= kMostBridgedPixels) {
+    if (last && (*last + 1 == k || p.x(f[k]) - p.x(f[*last]) <= kMostBridgedPixels)) {
       runs.back().second = k;
     } else {
       runs.push_back({k, k});
@@ -194,6 +196,10 @@ void draw_curve(Canvas& canvas, const Panel& p, const std::vector<double>& f, co
     canvas.path(svg::thin(all), {kCurve, 1.0, "", 0.35});
   }
   canvas.path(svg::thin(trusted), kCurveStroke);
+  // Few lines (a stepped sine): a dot on each, so that the measured points show.
+  if (f.size() <= kMostDottedLines) {
+    for (std::size_t k = 0; k < f.size(); ++k) canvas.circle(at(k), 2.2, {kCurve, 1.0}, reliable[k] ? kCurve : "#ffffff");
+  }
   canvas.end_clip();
 }
 
@@ -551,6 +557,29 @@ Plot coherence(const Drawable& d) {
   return plot;
 }
 
+// A stepped sine's lines carry an SNR (the fit's signal over its residual,
+// the worse of x and y); its coherence is 1 / (1 + 1/SNR). Shown as SNR.
+Plot dwell_snr(const Drawable& d) {
+  Plot plot{"coherence", "Signal-to-noise ratio of each dwell's sine fit (the worse of x and y), with the 0 dB level "
+                         "that corresponds to coherence 0.5", "", {}};
+  Canvas canvas(kWidth, 330.0, "Signal-to-noise ratio of each dwell against frequency");
+  canvas.text({kLeft, 24.0}, "Signal-to-noise ratio of each dwell", {14.0, "start", kInk, true});
+  const svg::Scale fx = frequency_scale(d.f);
+  std::vector<double> snr_db;
+  for (double c : d.coherence) snr_db.push_back(db_from_power(std::max(c, 1e-12) / std::max(1.0 - c, 1e-12)));
+  auto [low, high] = value_range(snr_db, std::vector<bool>(snr_db.size(), true));
+  low = std::min(low, -10.0);
+  high = std::max(high, 20.0);
+  svg::round_out(low, high, 6);
+  Panel p{kLeft, 44.0, kPlotWidth, 220.0, fx, {low, high, 264.0, 44.0}};
+  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_db), "frequency", "SNR (dB)"});
+  canvas.line(p.at(fx.low, 0.0), p.at(fx.high, 0.0), {kMarker, 1.2, "8 3 2 3"});
+  canvas.text({p.right() - 4.0, p.y(0.0) - 5.0}, "0 dB: coherence 0.5", marker_text("end"));
+  draw_curve(canvas, p, d.f, snr_db, std::vector<bool>(d.f.size(), true));
+  plot.svg = canvas.finish();
+  return plot;
+}
+
 // ---------------------------------------------------------------- sensitivity
 Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
   Plot plot{"sensitivity", "Sensitivity |S| = |1/(1 + L)| with its peak, the inverse of the modulus margin", "", {}};
@@ -598,7 +627,9 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
 
 std::vector<Plot> draw_plots(const AnalysisResult& result) {
   const Drawable d = drawable(result.loop.lines);
-  std::vector<Plot> plots{bode(result, d), nyquist_near(result, d), nyquist_whole(d), coherence(d),
+  const bool stepped = result.excitation_kind == ExcitationKind::kStepped && !d.coherence.empty();
+  std::vector<Plot> plots{bode(result, d), nyquist_near(result, d), nyquist_whole(d),
+                          stepped ? dwell_snr(d) : coherence(d),
                           sensitivity(result, d)};
   if (d.left_out > 0) {
     plots.front().notes.push_back(std::to_string(d.left_out) + " lines are not finite (or not above 0 Hz) and are left out of every plot.");
