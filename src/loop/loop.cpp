@@ -89,4 +89,20 @@ LoopResponse to_loop(const Response& measured, Convention convention, Diagnostic
   return loop;
 }
 
+Response measured_ratio(const LoopResponse& loop) {
+  Response measured = loop.lines;
+  for (std::size_t k = 0; k < measured.size(); ++k) {
+    const std::complex<double> l = loop.lines.value[k];
+    switch (loop.convention) {
+      case Convention::kSeriesInjection: measured.value[k] = -l; break;
+      case Convention::kDirect: break;
+      case Convention::kClosedLoop:
+        measured.value[k] = l / (1.0 + l);
+        measured.relative_sigma[k] = loop.lines.relative_sigma[k] * std::abs(1.0 - measured.value[k]);
+        break;
+    }
+  }
+  return measured;
+}
+
 }  // namespace loopmargin

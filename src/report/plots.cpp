@@ -264,11 +264,20 @@ std::string plain_deg(double v) { return fixed(v, 1); }
 std::string plain_db(double v) { return fixed(v, 1); }
 
 // ---------------------------------------------------------------- Bode
-Plot bode(const AnalysisResult& result, const Drawable& d) {
-  Plot plot{"bode", "Bode plot of L: magnitude and phase against frequency", "", {}};
-  Canvas canvas(kWidth, 600.0, "Loop gain L: magnitude and phase");
-  canvas.text({kLeft, 24.0}, std::string("Loop gain ") + convention_formula(result.loop.convention) + ": magnitude and phase",
-              {14.0, "start", kInk, true});
+// What a Bode plot shows: L with the margins marked, or the measured ratio alone.
+struct BodeView {
+  std::string name;
+  std::string caption;
+  std::string title;
+  const Margins& marks;  // empty for no marks
+  std::optional<double> phase_reference_deg;  // drawn mod 360 with 0 dB: where the ratio meets the critical point
+  std::string curve_label;
+};
+
+Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view) {
+  Plot plot{view.name, view.caption, "", {}};
+  Canvas canvas(kWidth, 600.0, view.title);
+  canvas.text({kLeft, 24.0}, view.title, {14.0, "start", kInk, true});
   const svg::Scale fx = frequency_scale(d.f);
   Panel mag{kLeft, 44.0, kPlotWidth, 230.0, fx, {}};
   Panel phase{kLeft, 300.0, kPlotWidth, 230.0, fx, {}};
@@ -284,7 +293,7 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
   }
   const double z = two_sided_z(result.margins.confidence);
   std::vector<double> gain, gain_sigma, ph = unwrapped_phase_deg(d), phase_sigma;
-  place_phase_branch(ph, d, result.margins);
+  place_phase_branch(ph, d, view.marks);
   for (std::size_t k = 0; k < d.f.size(); ++k) {
     gain.push_back(db_from_ratio(std::abs(d.value[k])));
     gain_sigma.push_back(z * db_from_nepers(d.sigma[k]));
@@ -300,7 +309,7 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
   g_high = std::max(g_high, 10.0);
   svg::round_out(g_low, g_high, 6);
   auto [p_low, p_high] = value_range(ph, d.reliable);
-  p_low = std::min(p_low, -180.0);
+  if (view.phase_reference_deg) p_low = std::min(p_low, *view.phase_reference_deg);
   p_high = std::max(p_high, p_low + 90.0);
   svg::round_out(p_low, p_high, 6, 45.0);
   mag.y = {g_low, g_high, mag.bottom(), mag.top};
@@ -316,8 +325,10 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
     canvas.end_clip();
   }
   canvas.line(mag.at(fx.low, 0.0), mag.at(fx.high, 0.0), kReferenceStroke);
-  for (double level = std::ceil((p_low + 180.0) / 360.0) * 360.0 - 180.0; level <= p_high; level += 360.0) {
-    canvas.line(phase.at(fx.low, level), phase.at(fx.high, level), kReferenceStroke);
+  if (const auto reference = view.phase_reference_deg) {
+    for (double level = std::ceil((p_low - *reference) / 360.0) * 360.0 + *reference; level <= p_high; level += 360.0) {
+      canvas.line(phase.at(fx.low, level), phase.at(fx.high, level), kReferenceStroke);
+    }
   }
   draw_curve(canvas, mag, d.f, gain, d.reliable);
   draw_curve(canvas, phase, d.f, ph, d.reliable);
@@ -328,7 +339,7 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
     const std::size_t k = std::min<std::size_t>(it - d.f.begin(), d.f.size() - 1);
     return ph[k];
   };
-  for (const auto& c : result.margins.gain_crossovers) {
+  for (const auto& c : view.marks.gain_crossovers) {
     if (!fx.contains(c.frequency_hz)) continue;
     const double x = fx(c.frequency_hz);
     canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
@@ -343,7 +354,7 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
     side_label(canvas, phase, x, phase.y(level) + (at >= level ? 17.0 : -8.0) + 15.0 * row,
                "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, plain_deg));
   }
-  for (const auto& c : result.margins.phase_crossovers) {
+  for (const auto& c : view.marks.phase_crossovers) {
     if (!fx.contains(c.frequency_hz)) continue;
     const double x = fx(c.frequency_hz);
     canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
@@ -359,20 +370,26 @@ Plot bode(const AnalysisResult& result, const Drawable& d) {
   // Key.
   const double key_y = 585.0;
   canvas.line({kLeft, key_y - 4.0}, {kLeft + 26.0, key_y - 4.0}, kCurveStroke);
-  canvas.text({kLeft + 32.0, key_y}, "measured L", {11.0});
+  canvas.text({kLeft + 32.0, key_y}, view.curve_label, {11.0});
   canvas.rect(kLeft + 120.0, key_y - 10.0, 26.0, 10.0, {kCurve, 0.0}, "rgba(11,93,122,0.2)");
   canvas.text({kLeft + 152.0, key_y}, fixed(100.0 * result.margins.confidence, 0) + " % interval of each line",
               {11.0});
   canvas.line({kLeft + 330.0, key_y - 4.0}, {kLeft + 356.0, key_y - 4.0}, kReferenceStroke);
-  canvas.text({kLeft + 362.0, key_y}, "0 dB and -180° (mod 360°)", {11.0});
-  canvas.line({kLeft + 530.0, key_y - 4.0}, {kLeft + 556.0, key_y - 4.0}, {kMarker, 2.4});
-  canvas.text({kLeft + 562.0, key_y}, "margins", {11.0});
+  canvas.text({kLeft + 362.0, key_y},
+              view.phase_reference_deg ? "0 dB and " + tick_number(*view.phase_reference_deg) + "° (mod 360°)" : "0 dB",
+              {11.0});
+  if (&view.marks == &result.margins) {
+    canvas.line({kLeft + 530.0, key_y - 4.0}, {kLeft + 556.0, key_y - 4.0}, {kMarker, 2.4});
+    canvas.text({kLeft + 562.0, key_y}, "margins", {11.0});
+  }
   if (std::find(d.reliable.begin(), d.reliable.end(), false) != d.reliable.end()) {
     plot.notes.push_back("Faint parts of the curve are lines too noisy to trust (relative standard deviation above " +
                          fixed(kMostTrustedSigma, 1) + "); they do not set the axes.");
   }
-  if (result.margins.gain_crossovers.empty()) plot.notes.push_back("No gain crossover in the band: no phase margin to mark.");
-  if (result.margins.phase_crossovers.empty()) plot.notes.push_back("No phase crossover in the band: no gain margin to mark.");
+  if (&view.marks == &result.margins) {
+    if (view.marks.gain_crossovers.empty()) plot.notes.push_back("No gain crossover in the band: no phase margin to mark.");
+    if (view.marks.phase_crossovers.empty()) plot.notes.push_back("No phase crossover in the band: no gain margin to mark.");
+  }
   plot.svg = canvas.finish();
   return plot;
 }
@@ -628,9 +645,23 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
 std::vector<Plot> draw_plots(const AnalysisResult& result) {
   const Drawable d = drawable(result.loop.lines);
   const bool stepped = result.excitation_kind == ExcitationKind::kStepped && !d.coherence.empty();
-  std::vector<Plot> plots{bode(result, d), nyquist_near(result, d), nyquist_whole(d),
+  const BodeView loop_view{"bode", "Bode plot of L: magnitude and phase against frequency, margins marked",
+                           std::string("Loop gain ") + convention_formula(result.loop.convention) + ": magnitude and phase",
+                           result.margins, -180.0, "measured L"};
+  std::vector<Plot> plots{bode(result, d, loop_view), nyquist_near(result, d), nyquist_whole(d),
                           stepped ? dwell_snr(d) : coherence(d),
                           sensitivity(result, d)};
+  if (result.loop.convention != Convention::kDirect) {
+    const Margins none;
+    const bool series = result.loop.convention == Convention::kSeriesInjection;
+    const std::string ratio = series ? "Y/X" : "T";
+    plots.push_back(bode(result, drawable(measured_ratio(result.loop)),
+                         {"bode-measured",
+                          "The ratio as measured, " + ratio + ", before the loop convention (" +
+                              convention_formula(result.loop.convention) + ") is applied; margins are read on L only",
+                          "Measured ratio " + ratio + " (not L): magnitude and phase", none,
+                          series ? std::optional(0.0) : std::nullopt, "measured " + ratio}));
+  }
   if (d.left_out > 0) {
     plots.front().notes.push_back(std::to_string(d.left_out) + " lines are not finite (or not above 0 Hz) and are left out of every plot.");
   }

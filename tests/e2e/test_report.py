@@ -18,6 +18,7 @@ from PIL import Image
 BINARY = os.environ.get("LOOPMARGIN", "loopmargin")
 DEMO = os.environ.get("LOOPMARGIN_DEMO", "../../data/demo")
 PLOTS = ["bode", "nyquist-near", "nyquist-whole", "coherence", "sensitivity"]
+MEASURED = ["bode-measured"]  # the ratio as measured, for recordings (series injection)
 CURVE_RGB = (0x0B, 0x5D, 0x7A)  # the measured curve's colour in src/report/plots.cpp
 
 
@@ -99,7 +100,7 @@ class ReportInBrowser(unittest.TestCase):
         figures = Figures()
         figures.feed(dom)
         self.assertEqual(figures.external, [], "the report must not load anything from outside")
-        self.assertEqual(sorted(figures.figures), sorted(PLOTS))
+        self.assertEqual(sorted(figures.figures), sorted(PLOTS + MEASURED))
         for name, found in figures.figures.items():
             self.assertEqual(found["svg"], 1, name)
             self.assertGreater(found["paths"], 0, name + " has no drawn curve")
@@ -115,13 +116,13 @@ class ReportInBrowser(unittest.TestCase):
             self.assertEqual((width, height), (900, 5200))
             curve = sum(1 for p in pixels.getdata()
                         if all(abs(a - b) <= 12 for a, b in zip(p, CURVE_RGB)))
-        # Five plots of several hundred pixels of curve each.
+        # Six plots of several hundred pixels of curve each.
         self.assertGreater(curve, 2000)
 
     def test_every_svg_is_well_formed_xml(self):
         folder = os.path.join(self.out, "servo_velocity-plots")
         files = sorted(os.listdir(folder))
-        self.assertEqual(files, sorted(p + ".svg" for p in PLOTS))
+        self.assertEqual(files, sorted(p + ".svg" for p in PLOTS + MEASURED))
         result = subprocess.run(["xmllint", "--noout", *[os.path.join(folder, f) for f in files]],
                                 capture_output=True, text=True)
         self.assertEqual(result.returncode, 0, result.stderr)

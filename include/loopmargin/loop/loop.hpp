@@ -30,4 +30,8 @@ struct LoopResponse {
 // a negative-feedback loop does not show and an inverted sign does.
 LoopResponse to_loop(const Response& measured, Convention convention, Diagnostics& findings);
 
+// The inverse of to_loop: the ratio as measured (Y/X, or T), for showing it
+// beside L.
+Response measured_ratio(const LoopResponse& loop);
+
 }  // namespace loopmargin

@@ -151,3 +151,19 @@ TEST_CASE("complex-plane thinning keeps within its point budget even between man
   CHECK(thin_smooth.front().x == smooth.front().x);
   CHECK(thin_smooth.back().x == smooth.back().x);
 }
+
+TEST_CASE("a series-injection result also shows the ratio as measured and labels it", "[report]") {
+  // Y/X = -L across a series injection point (DESIGN.md sign conventions):
+  // the measured view has its phase reference at 0 deg, not -180 deg.
+  auto lines = known::sample(known::table()[0].loop, known::hz(0.01), known::hz(100.0), 100);
+  AnalysisResult r = result_of(lines);
+  r.loop.convention = Convention::kSeriesInjection;
+  const auto plots = draw_plots(r);
+  REQUIRE(plots.size() == 6);
+  CHECK(plots[5].name == "bode-measured");
+  CHECK_THAT(plots[5].svg, Catch::Contains("Measured ratio Y/X (not L)"));
+  CHECK_THAT(plots[5].svg, Catch::Contains("0 dB and 0° (mod 360°)"));
+  CHECK_THAT(plots[0].svg, Catch::Contains("0 dB and -180° (mod 360°)"));
+  CHECK(plots[5].svg.find("PM ") == std::string::npos);  // margins are marked on L only
+  CHECK(measured_ratio(r.loop).value[10] == -lines.value[10]);
+}
