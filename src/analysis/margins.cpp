@@ -430,7 +430,11 @@ DiskMargin disk_point(const LineTable& table, const MarginOptions& options) {
   LocalLoop fit;
   const auto [k, u] = peak_of(table, options, spread, &fit);
   const bool edge = k == 0 || k + 1 == table.size() || table.size() < 4;
-  const double peak = edge ? spread(table.value[k]) : std::max(spread(fit.at(u)), spread(table.value[k]));
+  // As for the modulus margin: a measured peak is read off the fit alone.
+  const bool measured = table.relative_sigma[k] > 0.0;
+  const double peak = edge       ? spread(table.value[k])
+                      : measured ? spread(fit.at(u))
+                                 : std::max(spread(fit.at(u)), spread(table.value[k]));
   DiskMargin disk = disk_margin_from_peak(peak, std::pow(10.0, u), edge);
   if (edge) return disk;
   // d/dL (1 - L)/(1 + L) = -2 / (1 + L)^2
