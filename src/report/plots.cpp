@@ -269,10 +269,61 @@ struct BodeView {
   std::string name;
   std::string caption;
   std::string title;
-  const Margins& marks;  // empty for no marks
+  const Margins& marks;  // sets the phase branch; its margins are drawn when `marked`
+  bool marked;
   std::optional<double> phase_reference_deg;  // drawn mod 360 with 0 dB: where the ratio meets the critical point
   std::string curve_label;
 };
+
+// The phase and gain margins marked on a Bode plot: a dotted vertical at each
+// crossover and a thick segment from the reference to the curve, labelled.
+void mark_margins(Canvas& canvas, const Panel& mag, const Panel& phase, const Margins& marks,
+                  const std::vector<double>& f, const std::vector<double>& ph) {
+  LabelRows phase_rows(150.0), gain_rows(150.0);
+  // The -180 deg level (mod 360) nearest the drawn phase at f.
+  const auto level_at = [&](double frequency) {
+    const std::size_t k = std::min<std::size_t>(std::lower_bound(f.begin(), f.end(), frequency) - f.begin(), f.size() - 1);
+    return std::round((ph[k] + 180.0) / 360.0) * 360.0 - 180.0;
+  };
+  for (const auto& c : marks.gain_crossovers) {
+    if (!mag.x.contains(c.frequency_hz)) continue;
+    const double x = mag.x(c.frequency_hz);
+    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
+    canvas.circle(mag.at(c.frequency_hz, 0.0), 4.0, {kMarker, 1.5}, "#ffffff");
+    const double level = level_at(c.frequency_hz);
+    const double at = level + c.phase_margin_deg;
+    canvas.line(phase.at(c.frequency_hz, level), phase.at(c.frequency_hz, at), {kMarker, 2.4});
+    canvas.circle(phase.at(c.frequency_hz, at), 3.0, {kMarker, 1.2}, kMarker);
+    side_label(canvas, phase, x, phase.y(level) + (at >= level ? 17.0 : -8.0) + 15.0 * phase_rows.take(x),
+               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, plain_deg));
+  }
+  for (const auto& c : marks.phase_crossovers) {
+    if (!mag.x.contains(c.frequency_hz)) continue;
+    const double x = mag.x(c.frequency_hz);
+    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
+    canvas.rect(x - 3.5, phase.y(level_at(c.frequency_hz)) - 3.5, 7.0, 7.0, {kMarker, 1.5}, "#ffffff");
+    canvas.line(mag.at(c.frequency_hz, 0.0), mag.at(c.frequency_hz, -c.gain_margin_db), {kMarker, 2.4});
+    canvas.circle(mag.at(c.frequency_hz, -c.gain_margin_db), 3.0, {kMarker, 1.2}, kMarker);
+    side_label(canvas, mag, x, mag.y(0.0) + (c.gain_margin_db >= 0.0 ? -8.0 : 17.0) - 15.0 * gain_rows.take(x),
+               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, plain_db));
+  }
+}
+
+void bode_key(Canvas& canvas, const BodeView& view, double confidence) {
+  const double y = 585.0;
+  canvas.line({kLeft, y - 4.0}, {kLeft + 26.0, y - 4.0}, kCurveStroke);
+  canvas.text({kLeft + 32.0, y}, view.curve_label, {11.0});
+  canvas.rect(kLeft + 120.0, y - 10.0, 26.0, 10.0, {kCurve, 0.0}, "rgba(11,93,122,0.2)");
+  canvas.text({kLeft + 152.0, y}, fixed(100.0 * confidence, 0) + " % interval of each line", {11.0});
+  canvas.line({kLeft + 330.0, y - 4.0}, {kLeft + 356.0, y - 4.0}, kReferenceStroke);
+  canvas.text({kLeft + 362.0, y},
+              view.phase_reference_deg ? "0 dB and " + tick_number(*view.phase_reference_deg) + "° (mod 360°)" : "0 dB",
+              {11.0});
+  if (view.marked) {
+    canvas.line({kLeft + 530.0, y - 4.0}, {kLeft + 556.0, y - 4.0}, {kMarker, 2.4});
+    canvas.text({kLeft + 562.0, y}, "margins", {11.0});
+  }
+}
 
 Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view) {
   Plot plot{view.name, view.caption, "", {}};
@@ -332,63 +383,17 @@ Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view)
   }
   draw_curve(canvas, mag, d.f, gain, d.reliable);
   draw_curve(canvas, phase, d.f, ph, d.reliable);
-  // Margins: phase margins on the phase panel, gain margins on the magnitude panel.
-  LabelRows phase_rows(150.0), gain_rows(150.0);
-  const auto phase_at = [&](double f) {
-    const auto it = std::lower_bound(d.f.begin(), d.f.end(), f);
-    const std::size_t k = std::min<std::size_t>(it - d.f.begin(), d.f.size() - 1);
-    return ph[k];
-  };
-  for (const auto& c : view.marks.gain_crossovers) {
-    if (!fx.contains(c.frequency_hz)) continue;
-    const double x = fx(c.frequency_hz);
-    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
-    canvas.circle(mag.at(c.frequency_hz, 0.0), 4.0, {kMarker, 1.5}, "#ffffff");
-    // The phase margin spans from the -180 deg reference nearest the curve to the curve.
-    const double here = phase_at(c.frequency_hz);
-    const double level = std::round((here + 180.0) / 360.0) * 360.0 - 180.0;
-    const double at = level + c.phase_margin_deg;
-    canvas.line(phase.at(c.frequency_hz, level), phase.at(c.frequency_hz, at), {kMarker, 2.4});
-    canvas.circle(phase.at(c.frequency_hz, at), 3.0, {kMarker, 1.2}, kMarker);
-    const int row = phase_rows.take(x);
-    side_label(canvas, phase, x, phase.y(level) + (at >= level ? 17.0 : -8.0) + 15.0 * row,
-               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, plain_deg));
-  }
-  for (const auto& c : view.marks.phase_crossovers) {
-    if (!fx.contains(c.frequency_hz)) continue;
-    const double x = fx(c.frequency_hz);
-    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
-    const double level = phase_at(c.frequency_hz);
-    canvas.rect(x - 3.5, phase.y(std::round((level + 180.0) / 360.0) * 360.0 - 180.0) - 3.5, 7.0, 7.0,
-                {kMarker, 1.5}, "#ffffff");
-    canvas.line(mag.at(c.frequency_hz, 0.0), mag.at(c.frequency_hz, -c.gain_margin_db), {kMarker, 2.4});
-    canvas.circle(mag.at(c.frequency_hz, -c.gain_margin_db), 3.0, {kMarker, 1.2}, kMarker);
-    const int row = gain_rows.take(x);
-    side_label(canvas, mag, x, mag.y(0.0) + (c.gain_margin_db >= 0.0 ? -8.0 : 17.0) - 15.0 * row,
-               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, plain_db));
-  }
-  // Key.
-  const double key_y = 585.0;
-  canvas.line({kLeft, key_y - 4.0}, {kLeft + 26.0, key_y - 4.0}, kCurveStroke);
-  canvas.text({kLeft + 32.0, key_y}, view.curve_label, {11.0});
-  canvas.rect(kLeft + 120.0, key_y - 10.0, 26.0, 10.0, {kCurve, 0.0}, "rgba(11,93,122,0.2)");
-  canvas.text({kLeft + 152.0, key_y}, fixed(100.0 * result.margins.confidence, 0) + " % interval of each line",
-              {11.0});
-  canvas.line({kLeft + 330.0, key_y - 4.0}, {kLeft + 356.0, key_y - 4.0}, kReferenceStroke);
-  canvas.text({kLeft + 362.0, key_y},
-              view.phase_reference_deg ? "0 dB and " + tick_number(*view.phase_reference_deg) + "° (mod 360°)" : "0 dB",
-              {11.0});
-  if (&view.marks == &result.margins) {
-    canvas.line({kLeft + 530.0, key_y - 4.0}, {kLeft + 556.0, key_y - 4.0}, {kMarker, 2.4});
-    canvas.text({kLeft + 562.0, key_y}, "margins", {11.0});
-  }
+  if (view.marked) mark_margins(canvas, mag, phase, view.marks, d.f, ph);
+  bode_key(canvas, view, result.margins.confidence);
   if (std::find(d.reliable.begin(), d.reliable.end(), false) != d.reliable.end()) {
     plot.notes.push_back("Faint parts of the curve are lines too noisy to trust (relative standard deviation above " +
                          fixed(kMostTrustedSigma, 1) + "); they do not set the axes.");
   }
-  if (&view.marks == &result.margins) {
-    if (view.marks.gain_crossovers.empty()) plot.notes.push_back("No gain crossover in the band: no phase margin to mark.");
-    if (view.marks.phase_crossovers.empty()) plot.notes.push_back("No phase crossover in the band: no gain margin to mark.");
+  if (view.marked && view.marks.gain_crossovers.empty()) {
+    plot.notes.push_back("No gain crossover in the band: no phase margin to mark.");
+  }
+  if (view.marked && view.marks.phase_crossovers.empty()) {
+    plot.notes.push_back("No phase crossover in the band: no gain margin to mark.");
   }
   plot.svg = canvas.finish();
   return plot;
@@ -647,7 +652,7 @@ std::vector<Plot> draw_plots(const AnalysisResult& result) {
   const bool stepped = result.excitation_kind == ExcitationKind::kStepped && !d.coherence.empty();
   const BodeView loop_view{"bode", "Bode plot of L: magnitude and phase against frequency, margins marked",
                            std::string("Loop gain ") + convention_formula(result.loop.convention) + ": magnitude and phase",
-                           result.margins, -180.0, "measured L"};
+                           result.margins, true, -180.0, "measured L"};
   std::vector<Plot> plots{bode(result, d, loop_view), nyquist_near(result, d), nyquist_whole(d),
                           stepped ? dwell_snr(d) : coherence(d),
                           sensitivity(result, d)};
@@ -659,7 +664,7 @@ std::vector<Plot> draw_plots(const AnalysisResult& result) {
                          {"bode-measured",
                           "The ratio as measured, " + ratio + ", before the loop convention (" +
                               convention_formula(result.loop.convention) + ") is applied; margins are read on L only",
-                          "Measured ratio " + ratio + " (not L): magnitude and phase", none,
+                          "Measured ratio " + ratio + " (not L): magnitude and phase", none, false,
                           series ? std::optional(0.0) : std::nullopt, "measured " + ratio}));
   }
   if (d.left_out > 0) {
