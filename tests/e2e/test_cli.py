@@ -171,6 +171,19 @@ class FrequencyDomainTables(unittest.TestCase):
                     f.write(f"{w / (2 * math.pi)!r},{v.real!r},{v.imag!r}\n")
         return path
 
+    def test_open_loop_unstable_pole_from_the_settings(self):
+        # L = 2/(s - 1): the closed loop s + 1 is stable, with one open-loop RHP pole
+        # (closed form). Without --rhp-poles the count contradicts itself and says so.
+        path = self.table(lambda s: 2 / (s - 1), 0.001, 100, polar=False)
+        out = os.path.join(self.folder, "m.json")
+        run("margins", path, "--json", out, "--rhp-poles", "1")
+        stability = load(out)["stability"]
+        self.assertEqual(stability["verdict"], "stable", stability["reason"])
+        self.assertEqual(stability["encirclements"], -1)
+        run("margins", path, "--json", out)
+        self.assertEqual(load(out)["stability"]["verdict"], "undecided")
+        self.assertEqual(run("margins", path, "--rhp-poles", "-1", check=False).returncode, USAGE)
+
     def test_third_order_loop_from_a_simulator_sweep(self):
         # K/(s(s+1)(s+2)), K = 1: phase crossover sqrt(2) rad/s, GM 20 log10 6 = 15.563025 dB;
         # gain crossover 0.4457479596 rad/s, PM 53.41078618 deg (REFERENCES.md section 5).
@@ -313,6 +326,16 @@ class BadInput(unittest.TestCase):
                     contains=("'seed' must be a whole number",))
         self.expect(SETTINGS, "analyze", self.write(self.good_recording()), "--config",
                     self.write("[spectral]\nsegment = 2.5\n", name="c.toml"), contains=("'segment'",))
+
+    def test_margin_settings_from_the_settings_file(self):
+        settings = self.write("[margins]\nconfidence = 0.9\n[loop]\nopen_loop_rhp_poles = 2\n", name="c.toml")
+        out = os.path.join(self.folder, "r.json")
+        run("analyze", self.write(self.good_recording()), "--config", settings, "--json", out)
+        result = load(out)
+        self.assertEqual(result["confidence"], 0.9)
+        self.assertEqual(result["stability"]["open_loop_rhp_poles"], 2)
+        self.expect(SETTINGS, "analyze", self.write(self.good_recording()), "--config",
+                    self.write("[margins]\nconfidence = 1.5\n", name="c.toml"), contains=("'confidence'",))
 
     def test_quiet_when_not_a_terminal(self):
         result = run("analyze", self.write(self.good_recording()))
