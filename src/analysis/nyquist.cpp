@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <optional>
 #include <vector>
 
 #include "analysis/crossings.hpp"
@@ -113,6 +114,35 @@ std::string relative_text(double sigma) {
   return text;
 }
 
+// Signed crossings of the negative real axis beyond -1 between the lines
+// (phases shifted into the asymptote's branch), or why one cannot be told.
+struct BandCrossings {
+  double count = 0.0;
+  std::optional<std::string> unclear;
+};
+
+BandCrossings band_crossings(const detail::LineTable& table, double shift, double clear_sigmas) {
+  BandCrossings result;
+  for (std::size_t i = 0; i + 1 < table.size(); ++i) {
+    const double from = table.phase_deg[i] + shift;
+    const double to = table.phase_deg[i + 1] + shift;
+    const double c = axis_crossings(from, to);
+    if (c == 0.0) continue;
+    // |L| where the angle meets the axis, interpolated in phase.
+    const double k = to > from ? std::ceil(ray_index(from)) : std::floor(ray_index(from));
+    const double w = std::clamp((360.0 * k - 180.0 - from) / (to - from), 0.0, 1.0);
+    const double gain_db = table.gain_db[i] + w * (table.gain_db[i + 1] - table.gain_db[i]);
+    const Side side = side_of_unity(gain_db, std::max(table.relative_sigma[i], table.relative_sigma[i + 1]), clear_sigmas);
+    if (side == Side::kUnclear) {
+      result.unclear = "L meets the negative real axis near " + format_frequency(std::pow(10.0, table.log_f[i])) +
+                       " at " + gain_text(gain_db) + ", too close to -1 to tell on which side it passes";
+      return result;
+    }
+    if (side == Side::kOutside) result.count += c;
+  }
+  return result;
+}
+
 }  // namespace
 
 const char* verdict_name(StabilityVerdict verdict) {
@@ -180,26 +210,11 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
   const double bottom = table.phase_deg[0];
   // The arc at s = 0 turns clockwise through n * 180 deg from the mirror of the
   // asymptote's angle to the asymptote's angle.
-  double count = bottom_outside ? axis_crossings(asymptote + 180.0 * n, asymptote) : 0.0;
+  const double count = bottom_outside ? axis_crossings(asymptote + 180.0 * n, asymptote) : 0.0;
   double branch = bottom_outside ? axis_crossings(asymptote, bottom + shift) : 0.0;
-  for (std::size_t i = 0; i < top; ++i) {
-    const double from = table.phase_deg[i] + shift;
-    const double to = table.phase_deg[i + 1] + shift;
-    const double c = axis_crossings(from, to);
-    if (c == 0.0) continue;
-    // |L| where the angle meets the axis, interpolated in phase.
-    const double k = to > from ? std::ceil(ray_index(from)) : std::floor(ray_index(from));
-    const double axis = 360.0 * k - 180.0;
-    const double w = to != from ? std::clamp((axis - from) / (to - from), 0.0, 1.0) : 0.0;
-    const double gain_db = table.gain_db[i] + w * (table.gain_db[i + 1] - table.gain_db[i]);
-    const Side side =
-        side_of_unity(gain_db, std::max(table.relative_sigma[i], table.relative_sigma[i + 1]), options.clear_sigmas);
-    if (side == Side::kUnclear) {
-      return undecided(a, "L meets the negative real axis near " + format_frequency(std::pow(10.0, table.log_f[i])) +
-                              " at " + gain_text(gain_db) + ", too close to -1 to tell on which side it passes");
-    }
-    if (side == Side::kOutside) branch += c;
-  }
+  const BandCrossings band = band_crossings(table, shift, options.clear_sigmas);
+  if (band.unclear) return undecided(a, *band.unclear);
+  branch += band.count;
   const double total = count + 2.0 * branch;
   const long encirclements = std::lround(total);
   a.encirclements = static_cast<int>(encirclements);
