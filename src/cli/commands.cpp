@@ -126,10 +126,10 @@ namespace {
 // Options of the margins stage, shared by analyze and margins.
 void add_margin_options(CLI::App* cmd, double& confidence, int& rhp_poles) {
   cmd->add_option("--confidence", confidence, "Level of every interval, 0.5 to 1 [0.95]")
-      ->check(CLI::Range(0.5, 0.9999))
+      ->check(CLI::Range(0.5, 0.9999).description(""))
       ->type_name("LEVEL");
   cmd->add_option("--rhp-poles", rhp_poles, "Open-loop poles in the right half plane, for the Nyquist count [0]")
-      ->check(CLI::Range(0, 64))
+      ->check(CLI::Range(0, 64).description(""))
       ->type_name("N");
 }
 
