@@ -79,11 +79,7 @@ Side side_of_unity(double gain_db, double relative_sigma, double clear_sigmas) {
   return Side::kUnclear;
 }
 
-std::string gain_text(double gain_db) {
-  char text[32];
-  std::snprintf(text, sizeof text, "%+.1f dB", gain_db);
-  return text;
-}
+std::string gain_text(double gain_db) { return format_signed(gain_db, 1) + " dB"; }
 
 std::string counted(long count, const char* noun) {
   return std::to_string(count) + " " + noun + (count == 1 || count == -1 ? "" : "s");

@@ -32,4 +32,16 @@ std::string format_time(double seconds) {
   return engineering(seconds, "s", {{1.0, ""}, {1e-3, "m"}, {1e-6, "u"}, {1e-9, "n"}});
 }
 
+std::string format_fixed(double value, int digits) {
+  char text[48];
+  std::snprintf(text, sizeof text, "%.*f", digits, value);
+  return text;
+}
+
+std::string format_signed(double value, int digits) {
+  char text[48];
+  std::snprintf(text, sizeof text, "%+.*f", digits, value);
+  return text;
+}
+
 }  // namespace loopmargin

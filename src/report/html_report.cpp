@@ -6,6 +6,7 @@
 
 #include "loopmargin/format.hpp"
 #include "loopmargin/report/text_report.hpp"
+#include "report/interval_text.hpp"
 #include "report/sha256.hpp"
 #include "report/svg.hpp"
 
@@ -48,25 +49,11 @@ footer { margin-top: 30px; color: var(--muted); font-size: 12px; border-top: 1px
 @media print { body { background: none; } main { max-width: none; padding: 0; } figure { break-inside: avoid; } }
 )";
 
-std::string fixed(double v, int digits) {
-  char text[48];
-  std::snprintf(text, sizeof text, "%.*f", digits, v);
-  return text;
-}
-std::string signed_fixed(double v, int digits) {
-  char text[48];
-  std::snprintf(text, sizeof text, "%+.*f", digits, v);
-  return text;
-}
-
-template <typename Format>
-std::string range(const std::optional<Interval>& i, Format format) {
-  if (!i) return "";
-  return format(i->low) + " to " + format(i->high);
-}
+using detail::interval_text;
+std::string fixed(double v, int digits) { return format_fixed(v, digits); }
 
 std::string deg(double v) { return fixed(v, 1) + "°"; }
-std::string db(double v) { return signed_fixed(v, 1) + " dB"; }
+std::string db(double v) { return format_signed(v, 1) + " dB"; }
 std::string plain_db(double v) { return std::isfinite(v) ? fixed(v, 1) + " dB" : std::string("unbounded"); }
 std::string hz(double v) { return format_frequency(v); }
 std::string seconds(double v) { return format_time(v); }
@@ -88,11 +75,11 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
                                 : "see the reason below",
        verdict_name(st.verdict));
   tile(out, "phase margin (smallest)", s.phase_margin_deg ? deg(*s.phase_margin_deg) : "none in band",
-       s.phase_margin_ci_deg ? level + range(s.phase_margin_ci_deg, deg) : "");
+       s.phase_margin_ci_deg ? level + interval_text(s.phase_margin_ci_deg, deg) : "");
   tile(out, "gain margin (smallest)", s.gain_margin_db ? db(*s.gain_margin_db) : "none in band",
-       s.gain_margin_ci_db ? level + range(s.gain_margin_ci_db, db) : "");
+       s.gain_margin_ci_db ? level + interval_text(s.gain_margin_ci_db, db) : "");
   tile(out, "gain crossover", s.gain_crossover_hz ? hz(*s.gain_crossover_hz) : "none in band",
-       s.gain_crossover_ci_hz ? level + range(s.gain_crossover_ci_hz, hz) : "");
+       s.gain_crossover_ci_hz ? level + interval_text(s.gain_crossover_ci_hz, hz) : "");
   tile(out, "peak sensitivity", s.peak_sensitivity_db ? plain_db(*s.peak_sensitivity_db) : "none",
        s.modulus_margin ? "modulus margin " + ratio(*s.modulus_margin) : "");
   const auto& d = r.margins.disk;
@@ -134,30 +121,30 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
              fixed(100.0 * m.confidence, 0) + " % interval</th><th></th></tr>\n";
   for (const auto& c : m.gain_crossovers) {
     out << "<tr><td>gain crossover</td><td class=\"num\">" << hz(c.frequency_hz) << "<br><small>"
-        << range(c.frequency_ci_hz, hz) << "</small></td><td class=\"num\">PM " << deg(c.phase_margin_deg)
-        << "<br>delay " << seconds(c.delay_margin_s) << "</td><td class=\"num\">" << range(c.phase_margin_ci_deg, deg)
-        << "<br>" << range(c.delay_margin_ci_s, seconds) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
+        << interval_text(c.frequency_ci_hz, hz) << "</small></td><td class=\"num\">PM " << deg(c.phase_margin_deg)
+        << "<br>delay " << seconds(c.delay_margin_s) << "</td><td class=\"num\">" << interval_text(c.phase_margin_ci_deg, deg)
+        << "<br>" << interval_text(c.delay_margin_ci_s, seconds) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
   }
   for (const auto& c : m.phase_crossovers) {
     out << "<tr><td>phase crossover</td><td class=\"num\">" << hz(c.frequency_hz) << "<br><small>"
-        << range(c.frequency_ci_hz, hz) << "</small></td><td class=\"num\">GM " << db(c.gain_margin_db)
+        << interval_text(c.frequency_ci_hz, hz) << "</small></td><td class=\"num\">GM " << db(c.gain_margin_db)
         << "<br><small>limits gain " << direction_name(c.limits) << "</small></td><td class=\"num\">"
-        << range(c.gain_margin_ci_db, db) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
+        << interval_text(c.gain_margin_ci_db, db) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
   }
   if (m.gain_crossovers.empty()) out << "<tr><td>gain crossover</td><td colspan=\"4\">none in band</td></tr>\n";
   if (m.phase_crossovers.empty()) out << "<tr><td>phase crossover</td><td colspan=\"4\">none in band</td></tr>\n";
   if (m.modulus) {
     out << "<tr><td>modulus margin</td><td class=\"num\">" << hz(m.modulus->frequency_hz) << "</td><td class=\"num\">"
         << ratio(m.modulus->modulus_margin) << "<br>peak |S| " << plain_db(m.modulus->peak_sensitivity_db)
-        << "</td><td class=\"num\">" << range(m.modulus->modulus_margin_ci, ratio) << "<br>"
-        << range(m.modulus->peak_sensitivity_ci_db, plain_db) << "</td><td>"
+        << "</td><td class=\"num\">" << interval_text(m.modulus->modulus_margin_ci, ratio) << "<br>"
+        << interval_text(m.modulus->peak_sensitivity_ci_db, plain_db) << "</td><td>"
         << (m.modulus->at_band_edge ? "<span class=\"flag\">at the band edge</span>" : "") << "</td></tr>\n";
   }
   if (m.disk) {
     out << "<tr><td>disk margin</td><td class=\"num\">" << hz(m.disk->frequency_hz) << "</td><td class=\"num\">α "
         << ratio(m.disk->alpha) << "<br>gain ±" << plain_db(m.disk->gain_high_db.value_or(INFINITY)) << ", phase ±"
-        << deg(m.disk->phase_deg) << "</td><td class=\"num\">" << range(m.disk->alpha_ci, ratio) << "<br>"
-        << range(m.disk->phase_ci_deg, deg) << "</td><td>"
+        << deg(m.disk->phase_deg) << "</td><td class=\"num\">" << interval_text(m.disk->alpha_ci, ratio) << "<br>"
+        << interval_text(m.disk->phase_ci_deg, deg) << "</td><td>"
         << (m.disk->at_band_edge ? "<span class=\"flag\">at the band edge</span>" : "") << "</td></tr>\n";
   }
   out << "</table>\n<p>Acceptance verdict: no limits were given, so no pass or fail is stated.</p>\n";
@@ -181,7 +168,7 @@ void write_truth(std::ostream& out, const AnalysisResult& r, const MarginSummary
                        const std::optional<double>& truth, std::string (*format)(double)) {
     const bool inside = ci && truth && ci->low <= *truth && *truth <= ci->high;
     out << "<tr><td>" << name << "</td><td class=\"num\">" << (value ? format(*value) : "none in band")
-        << "</td><td class=\"num\">" << range(ci, format) << "</td><td class=\"num\">"
+        << "</td><td class=\"num\">" << interval_text(ci, format) << "</td><td class=\"num\">"
         << (truth ? format(*truth) : "none in band") << "</td><td>" << (ci && truth ? (inside ? "yes" : "no") : "")
         << "</td></tr>\n";
   };

@@ -36,23 +36,13 @@ constexpr double kPlotWidth = 640.0;
 constexpr double kWidth = 760.0;
 constexpr double kMostDecibels = 160.0;  // span of a magnitude axis; lower lines are clipped and said so
 // Lines whose relative sigma (nepers, rad) exceeds this are drawn faint and
-// do not set the axes: their phase is noise (as the Nyquist count treats them).
-constexpr double kMostTrustedSigma = 0.5;
+// do not set the axes: their phase is noise, as the Nyquist count treats them.
+const double kMostTrustedSigma = StabilityOptions{}.max_relative_sigma;
 
-std::string fixed(double v, int digits) {
-  char text[48];
-  std::snprintf(text, sizeof text, "%.*f", digits, v);
-  return text;
-}
-
-std::string signed_db(double v) {
-  char text[48];
-  std::snprintf(text, sizeof text, "%+.1f dB", v);
-  return text;
-}
+std::string fixed(double v, int digits) { return format_fixed(v, digits); }
+std::string signed_db(double v) { return format_signed(v, 1) + " dB"; }
 std::string deg(double v) { return fixed(v, 1) + "°"; }
 std::string tick_number(double v) { return fixed(v, std::abs(v - std::round(v)) < 1e-9 ? 0 : 1); }
-std::string tick_db(double v) { return tick_number(v); }
 std::string tick_hz(double v) { return format_frequency(v); }
 
 // The lines that can be drawn: positive frequency and a finite, non-zero value.
@@ -260,8 +250,7 @@ std::string interval_suffix(const std::optional<Interval>& i, std::string (*form
   return " [" + format(i->low) + ", " + format(i->high) + "]";
 }
 
-std::string plain_deg(double v) { return fixed(v, 1); }
-std::string plain_db(double v) { return fixed(v, 1); }
+std::string one_decimal(double v) { return fixed(v, 1); }
 
 // ---------------------------------------------------------------- Bode
 // What a Bode plot shows: L with the margins marked, or the measured ratio alone.
@@ -295,7 +284,7 @@ void mark_margins(Canvas& canvas, const Panel& mag, const Panel& phase, const Ma
     canvas.line(phase.at(c.frequency_hz, level), phase.at(c.frequency_hz, at), {kMarker, 2.4});
     canvas.circle(phase.at(c.frequency_hz, at), 3.0, {kMarker, 1.2}, kMarker);
     side_label(canvas, phase, x, phase.y(level) + (at >= level ? 17.0 : -8.0) + 15.0 * phase_rows.take(x),
-               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, plain_deg));
+               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, one_decimal));
   }
   for (const auto& c : marks.phase_crossovers) {
     if (!mag.x.contains(c.frequency_hz)) continue;
@@ -305,7 +294,7 @@ void mark_margins(Canvas& canvas, const Panel& mag, const Panel& phase, const Ma
     canvas.line(mag.at(c.frequency_hz, 0.0), mag.at(c.frequency_hz, -c.gain_margin_db), {kMarker, 2.4});
     canvas.circle(mag.at(c.frequency_hz, -c.gain_margin_db), 3.0, {kMarker, 1.2}, kMarker);
     side_label(canvas, mag, x, mag.y(0.0) + (c.gain_margin_db >= 0.0 ? -8.0 : 17.0) - 15.0 * gain_rows.take(x),
-               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, plain_db));
+               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, one_decimal));
   }
 }
 
@@ -366,7 +355,7 @@ Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view)
   mag.y = {g_low, g_high, mag.bottom(), mag.top};
   phase.y = {p_low, p_high, phase.bottom(), phase.top};
   const auto x_ticks = frequency_ticks(fx);
-  svg::draw_frame(canvas, mag, {x_ticks, svg::linear_ticks(g_low, g_high, 6, tick_db), "", "magnitude (dB)"});
+  svg::draw_frame(canvas, mag, {x_ticks, svg::linear_ticks(g_low, g_high, 6, tick_number), "", "magnitude (dB)"});
   svg::draw_frame(canvas, phase, {x_ticks, svg::linear_ticks(p_low, p_high, 6, tick_number, 45.0), "frequency",
                                   "phase (°)"});
   for (const auto& [panel, values, widths] :
@@ -594,7 +583,7 @@ Plot dwell_snr(const Drawable& d) {
   high = std::max(high, 20.0);
   svg::round_out(low, high, 6);
   Panel p{kLeft, 44.0, kPlotWidth, 220.0, fx, {low, high, 264.0, 44.0}};
-  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_db), "frequency", "SNR (dB)"});
+  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_number), "frequency", "SNR (dB)"});
   canvas.line(p.at(fx.low, 0.0), p.at(fx.high, 0.0), {kMarker, 1.2, "8 3 2 3"});
   canvas.text({p.right() - 4.0, p.y(0.0) - 5.0}, "0 dB: coherence 0.5", marker_text("end"));
   draw_curve(canvas, p, d.f, snr_db, std::vector<bool>(d.f.size(), true));
@@ -621,7 +610,7 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
   high = std::max(high + 3.0, 10.0);
   svg::round_out(low, high, 6);
   p.y = {low, high, p.bottom(), p.top};
-  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_db), "frequency", "|S| (dB)"});
+  svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_number), "frequency", "|S| (dB)"});
   if (d.f.empty()) {
     empty_message(canvas, p, "no finite lines to draw");
     plot.svg = canvas.finish();
@@ -638,7 +627,7 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
     canvas.polygon({{at.x, at.y - 3.0}, {at.x - 5.5, at.y - 12.5}, {at.x + 5.5, at.y - 12.5}}, kMarker, 1.0);
     side_label(canvas, p, at.x + 4.0, at.y - 4.0,
                "peak " + fixed(m->peak_sensitivity_db, 1) + " dB" +
-                   interval_suffix(m->peak_sensitivity_ci_db, plain_db) + " at " + format_frequency(m->frequency_hz) +
+                   interval_suffix(m->peak_sensitivity_ci_db, one_decimal) + " at " + format_frequency(m->frequency_hz) +
                    (m->at_band_edge ? " (band edge)" : ""));
   }
   plot.svg = canvas.finish();

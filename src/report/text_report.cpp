@@ -1,6 +1,7 @@
 #include "loopmargin/report/text_report.hpp"
 
 #include "loopmargin/format.hpp"
+#include "report/interval_text.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -35,12 +36,7 @@ struct Row {
   std::string interval;  // "" when there is none
 };
 
-// "44.0 to 48.2" with the row's own formatting of each end.
-template <typename Format>
-std::string range(const std::optional<Interval>& i, Format format) {
-  if (!i) return "";
-  return format(i->low) + " to " + format(i->high);
-}
+using detail::interval_text;
 
 std::string deg(double v) { return printf_string("%.1f deg", v); }
 std::string signed_db(double v) { return printf_string("%+.1f dB", v); }
@@ -62,18 +58,18 @@ std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
   const auto s = seconds;
   return {
       {"gain crossover", frequency_or_dash(m.gain_crossover_hz), frequency_or_dash(t.gain_crossover_hz),
-       range(m.gain_crossover_ci_hz, hz)},
+       interval_text(m.gain_crossover_ci_hz, hz)},
       {"phase margin", number_or_dash(m.phase_margin_deg, "%.1f deg"), number_or_dash(t.phase_margin_deg, "%.1f deg"),
-       range(m.phase_margin_ci_deg, deg)},
-      {"delay margin", time_or_dash(m.delay_margin_s), time_or_dash(t.delay_margin_s), range(m.delay_margin_ci_s, s)},
+       interval_text(m.phase_margin_ci_deg, deg)},
+      {"delay margin", time_or_dash(m.delay_margin_s), time_or_dash(t.delay_margin_s), interval_text(m.delay_margin_ci_s, s)},
       {"phase crossover", frequency_or_dash(m.phase_crossover_hz), frequency_or_dash(t.phase_crossover_hz),
-       range(m.phase_crossover_ci_hz, hz)},
+       interval_text(m.phase_crossover_ci_hz, hz)},
       {"gain margin", number_or_dash(m.gain_margin_db, "%+.1f dB"), number_or_dash(t.gain_margin_db, "%+.1f dB"),
-       range(m.gain_margin_ci_db, db)},
+       interval_text(m.gain_margin_ci_db, db)},
       {"modulus margin", number_or_dash(m.modulus_margin, "%.3f"), number_or_dash(t.modulus_margin, "%.3f"),
-       range(m.modulus_margin_ci, ratio)},
+       interval_text(m.modulus_margin_ci, ratio)},
       {"peak sensitivity", number_or_dash(m.peak_sensitivity_db, "%.1f dB"),
-       number_or_dash(t.peak_sensitivity_db, "%.1f dB"), range(m.peak_sensitivity_ci_db, plain_db)},
+       number_or_dash(t.peak_sensitivity_db, "%.1f dB"), interval_text(m.peak_sensitivity_ci_db, plain_db)},
   };
 }
 
@@ -103,8 +99,8 @@ void write_crossings(std::ostream& out, const Margins& m) {
                   format_frequency(c.frequency_hz).c_str(), c.phase_margin_deg, format_time(c.delay_margin_s).c_str(),
                   c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
     out << line << flags_text(c.trust_flags) << "\n";
-    write_interval_line(out, m.confidence, {range(c.frequency_ci_hz, hz), range(c.phase_margin_ci_deg, deg),
-                                            range(c.delay_margin_ci_s, seconds)});
+    write_interval_line(out, m.confidence, {interval_text(c.frequency_ci_hz, hz), interval_text(c.phase_margin_ci_deg, deg),
+                                            interval_text(c.delay_margin_ci_s, seconds)});
   }
   out << "  phase crossovers (angle L = -180 deg)\n";
   if (m.phase_crossovers.empty()) out << "    none in band\n";
@@ -113,7 +109,7 @@ void write_crossings(std::ostream& out, const Margins& m) {
     std::snprintf(line, sizeof line, "    %-12s gain margin  %+7.1f dB    limits gain %s",
                   format_frequency(c.frequency_hz).c_str(), c.gain_margin_db, direction_name(c.limits));
     out << line << flags_text(c.trust_flags) << "\n";
-    write_interval_line(out, m.confidence, {range(c.frequency_ci_hz, hz), range(c.gain_margin_ci_db, signed_db)});
+    write_interval_line(out, m.confidence, {interval_text(c.frequency_ci_hz, hz), interval_text(c.gain_margin_ci_db, signed_db)});
   }
   out << "\n";
 }
@@ -196,8 +192,8 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
         << format_frequency(d->frequency_hz) << (d->at_band_edge ? ", at the band edge" : "") << ")\n";
     if (d->alpha_ci) {
       out << printf_string("                     %.0f %%: ", 100.0 * result.margins.confidence) << "alpha "
-          << range(d->alpha_ci, ratio) << ", gain +-" << range(d->gain_high_ci_db, plain_db) << ", phase +-"
-          << range(d->phase_ci_deg, deg) << "\n";
+          << interval_text(d->alpha_ci, ratio) << ", gain +-" << interval_text(d->gain_high_ci_db, plain_db) << ", phase +-"
+          << interval_text(d->phase_ci_deg, deg) << "\n";
     }
   }
   write_stability(out, result.margins.stability);

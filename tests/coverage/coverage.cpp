@@ -97,7 +97,7 @@ void run_cell(const Cell& cell, int runs, std::uint64_t first_seed, Tally& cell_
       t->crossover += holds(m.gain_crossover_ci_hz, truth.gain_crossover_hz);
       t->phase_margin += holds(m.phase_margin_ci_deg, truth.phase_margin_deg);
       t->gain_margin += holds(m.gain_margin_ci_db, truth.gain_margin_db);
-      const double z = 1.959963984540054;
+      const double z = two_sided_z(0.95);
       const auto log_f = [](const std::optional<double>& f) { return f ? std::optional(std::log(*f)) : std::nullopt; };
       const auto log_i = [](const std::optional<Interval>& i) {
         return i ? std::optional(Interval{std::log(i->low), std::log(i->high)}) : std::nullopt;
