@@ -1,4 +1,4 @@
-"""loopmargin's benchmark: end-to-end analysis of a large binary and a large
+"""loopaudit's benchmark: end-to-end analysis of a large binary and a large
 text recording, beside the same Welch computation in numpy + scipy.signal and
 beside the one-core FFT floor, all measured in this one run.
 
@@ -86,7 +86,7 @@ def main():
     parser.add_argument("--runs", type=int, default=3)
     parser.add_argument("--skip-scipy", action="store_true")
     a = parser.parse_args()
-    tool = os.path.join(a.build, "loopmargin")
+    tool = os.path.join(a.build, "loopaudit")
     floor_tool = os.path.join(a.build, "fft_floor")
     root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
     os.makedirs(a.data, exist_ok=True)
@@ -123,14 +123,14 @@ def main():
     print(f"binary record: 3 x {BINARY_SAMPLES:.0e} float32 samples ({os.path.getsize(binary) / 1e6:.0f} MB), "
           f"{segments} segments of {SEGMENT}, Hann, 50 % overlap")
     print(f"  {'':34} {'wall s':>8} {'samples/s':>10} {'peak RSS MiB':>13} {'ratio':>8}")
-    print(f"  {'loopmargin analyze':34} {bin_wall:8.3f} {samples / bin_wall:10.3g} {bin_rss:13.1f} {'1':>8}")
+    print(f"  {'loopaudit analyze':34} {bin_wall:8.3f} {samples / bin_wall:10.3g} {bin_rss:13.1f} {'1':>8}")
     print(f"  {'FFTs alone, one core (floor)':34} {floor:8.3f} {samples / floor:10.3g} {'':>13} "
           f"{bin_wall / floor:7.2f}x")
     if scipy_bin:
         print(f"  {'numpy + scipy.signal':34} {scipy_bin[0]:8.3f} {samples / scipy_bin[0]:10.3g} "
               f"{scipy_bin[1]:13.1f} {scipy_bin[0] / bin_wall:7.1f}x")
     print(f"text record: {text_rows:.0e} rows, 4 columns ({text_bytes / 1e6:.0f} MB)")
-    print(f"  {'loopmargin analyze':34} {txt_wall:8.3f} {text_bytes / 1e6 / txt_wall:7.0f} MB/s {txt_rss:10.1f}")
+    print(f"  {'loopaudit analyze':34} {txt_wall:8.3f} {text_bytes / 1e6 / txt_wall:7.0f} MB/s {txt_rss:10.1f}")
     if scipy_txt:
         print(f"  {'numpy.loadtxt + scipy.signal':34} {scipy_txt[0]:8.3f} {text_bytes / 1e6 / scipy_txt[0]:7.0f} MB/s "
               f"{scipy_txt[1]:10.1f} {scipy_txt[0] / txt_wall:6.1f}x")

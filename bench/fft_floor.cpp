@@ -17,7 +17,7 @@ int main(int argc, char** argv) {
   const std::size_t n = std::stoul(argv[1]);
   const std::size_t transforms = std::stoul(argv[2]);
   const int repeats = argc > 3 ? std::stoi(argv[3]) : 3;
-  loopmargin::detail::RealFft fft(n);
+  loopaudit::detail::RealFft fft(n);
   std::mt19937_64 rng(1);
   std::normal_distribution<double> normal;
   for (double& v : fft.input()) v = normal(rng);

@@ -1,15 +1,15 @@
-#include "loopmargin/pipeline.hpp"
+#include "loopaudit/pipeline.hpp"
 
 #include <algorithm>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/excitation/schedule.hpp"
-#include "loopmargin/ingest/quality.hpp"
-#include "loopmargin/spectral/periodic.hpp"
-#include "loopmargin/spectral/stepped.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/excitation/schedule.hpp"
+#include "loopaudit/ingest/quality.hpp"
+#include "loopaudit/spectral/periodic.hpp"
+#include "loopaudit/spectral/stepped.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 std::size_t channel_index(const SampleSource& source, const std::string& name, const std::string& role,
@@ -286,4 +286,4 @@ AnalysisResult analyze_response(const std::string& origin, const Response& measu
   return result;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

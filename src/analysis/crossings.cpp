@@ -6,9 +6,9 @@
 #include <limits>
 #include <sstream>
 
-#include "loopmargin/units.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 LineTable make_line_table(const std::vector<double>& frequency_hz, const std::vector<std::complex<double>>& value,
                           const std::vector<double>& relative_sigma, const std::vector<double>& coherence) {
@@ -232,4 +232,4 @@ void add_absence_findings(const LineTable& table, Margins& margins) {
   }
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

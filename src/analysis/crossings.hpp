@@ -7,9 +7,9 @@
 #include <functional>
 #include <vector>
 
-#include "loopmargin/analysis/margins.hpp"
+#include "loopaudit/analysis/margins.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 // Lines as the crossing search sees them.
 struct LineTable {
@@ -80,4 +80,4 @@ GainDirection direction_of(double gain_margin_db);
 MarginSummary summarize(const Margins& margins);
 void add_absence_findings(const LineTable& table, Margins& margins);
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -3,11 +3,11 @@
 #include <numbers>
 
 #include "analysis/crossings.hpp"
-#include "loopmargin/analysis/margins.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/analysis/margins.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 double at_log_f(const LoopFunction& loop, double log_f, auto&& measure) { return measure(loop(std::pow(10.0, log_f))); }
@@ -93,4 +93,4 @@ Margins exact_margins(const LoopFunction& loop, double low_hz, double high_hz, s
   return margins;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

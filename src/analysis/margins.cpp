@@ -4,12 +4,12 @@
 #include <sstream>
 
 #include "analysis/crossings.hpp"
-#include "loopmargin/analysis/margins.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/format.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/analysis/margins.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using detail::Bracket;
@@ -521,4 +521,4 @@ Margins find_margins(const Response& loop, const MarginOptions& options) {
   return margins;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,4 +1,4 @@
-#include "loopmargin/analysis/nyquist.hpp"
+#include "loopaudit/analysis/nyquist.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -7,10 +7,10 @@
 #include <vector>
 
 #include "analysis/crossings.hpp"
-#include "loopmargin/format.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 // Odd multiples of 180 deg are where ray_index(angle) is a whole number.
@@ -231,4 +231,4 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
   return a;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -9,18 +9,18 @@
 #include <iostream>
 #include <memory>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/recording.hpp"
-#include "loopmargin/ingest/response_table.hpp"
-#include "loopmargin/pipeline.hpp"
-#include "loopmargin/report/atomic_file.hpp"
-#include "loopmargin/report/csv_report.hpp"
-#include "loopmargin/report/json_report.hpp"
-#include "loopmargin/report/text_report.hpp"
-#include "loopmargin/run_config.hpp"
-#include "loopmargin/synth/simulate.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/recording.hpp"
+#include "loopaudit/ingest/response_table.hpp"
+#include "loopaudit/pipeline.hpp"
+#include "loopaudit/report/atomic_file.hpp"
+#include "loopaudit/report/csv_report.hpp"
+#include "loopaudit/report/json_report.hpp"
+#include "loopaudit/report/text_report.hpp"
+#include "loopaudit/run_config.hpp"
+#include "loopaudit/synth/simulate.hpp"
 
-namespace loopmargin::cli {
+namespace loopaudit::cli {
 namespace {
 
 
@@ -123,7 +123,7 @@ namespace {
 
 // The options that say how to read a recording and which channel is which,
 // shared by analyze and inspect.
-// Options of the margins stage, shared by analyze and margins.
+// Options of the margins stage, shared by analyze and table.
 void add_margin_options(CLI::App* cmd, double& confidence, int& rhp_poles) {
   cmd->add_option("--confidence", confidence, "Level of every interval, 0.5 to 1 [0.95]")
       ->check(CLI::Range(0.5, 0.9999).description(""))
@@ -182,7 +182,7 @@ void add_analyze(CLI::App& app) {
       ->type_name("FILE");
   cmd->add_option("--marker", a->marker, "Stepped: dwells from a channel holding the generator's frequency")
       ->type_name("NAME");
-  cmd->add_option("--truth", a->truth_path, "Truth file from `loopmargin synth`, shown beside the results")
+  cmd->add_option("--truth", a->truth_path, "Truth file from `loopaudit synth`, shown beside the results")
       ->type_name("FILE");
   add_margin_options(cmd, a->confidence, a->rhp_poles);
   cmd->callback([a] { run_analyze(*a); });
@@ -200,7 +200,7 @@ void add_inspect(CLI::App& app) {
   });
 }
 
-void add_margins(CLI::App& app) {
+void add_table(CLI::App& app) {
   struct Args {
     std::string table;
     OutputRequest outputs;
@@ -208,7 +208,7 @@ void add_margins(CLI::App& app) {
     MarginOptions margins;
   };
   auto args = std::make_shared<Args>();
-  auto* cmd = app.add_subcommand("margins", "Margins from a frequency-response table (freq_hz with re,im or mag_db,phase_deg)");
+  auto* cmd = app.add_subcommand("table", "Margins from a frequency-response table (freq_hz with re,im or mag_db,phase_deg)");
   cmd->add_option("table", args->table, "Frequency-response table")->required()->type_name("FILE");
   cmd->add_option("--convention", args->convention,
                   "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T)")
@@ -258,4 +258,4 @@ void add_synth(CLI::App& app) {
   });
 }
 
-}  // namespace loopmargin::cli
+}  // namespace loopaudit::cli

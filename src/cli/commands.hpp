@@ -1,11 +1,11 @@
-// The loopmargin verbs. Each adds its subcommand to the app; the work runs in
-// the subcommand's callback and throws loopmargin::Error subclasses, which
+// The loopaudit verbs. Each adds its subcommand to the app; the work runs in
+// the subcommand's callback and throws loopaudit::Error subclasses, which
 // main() turns into exit codes.
 #pragma once
 
 #include <CLI/CLI.hpp>
 
-namespace loopmargin::cli {
+namespace loopaudit::cli {
 
 // Documented in README.md, "Exit codes".
 enum ExitCode : int {
@@ -19,8 +19,8 @@ enum ExitCode : int {
 };
 
 void add_analyze(CLI::App& app);
-void add_margins(CLI::App& app);
+void add_table(CLI::App& app);
 void add_inspect(CLI::App& app);
 void add_synth(CLI::App& app);
 
-}  // namespace loopmargin::cli
+}  // namespace loopaudit::cli

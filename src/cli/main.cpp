@@ -3,16 +3,16 @@
 
 #include "cli/commands.hpp"
 #include "cli/outputs.hpp"
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
 int main(int argc, char** argv) {
-  using namespace loopmargin;
-  CLI::App app{"loopmargin: loop frequency response and stability margins from bench injection recordings"};
-  app.set_version_flag("--version", std::string("loopmargin ") + LOOPMARGIN_VERSION);
+  using namespace loopaudit;
+  CLI::App app{"loopaudit: loop frequency response and stability margins from bench injection recordings"};
+  app.set_version_flag("--version", std::string("loopaudit ") + LOOPAUDIT_VERSION);
   app.require_subcommand(1);
   cli::add_analyze(app);
   cli::add_inspect(app);
-  cli::add_margins(app);
+  cli::add_table(app);
   cli::add_synth(app);
   cli::remember_command_line(argc, argv);
   try {
@@ -24,22 +24,22 @@ int main(int argc, char** argv) {
     app.exit(e);
     return cli::kUsage;
   } catch (const InputError& e) {
-    std::cerr << "loopmargin: input: " << e.what() << "\n";
+    std::cerr << "loopaudit: input: " << e.what() << "\n";
     return cli::kInput;
   } catch (const ConfigError& e) {
-    std::cerr << "loopmargin: settings: " << e.what() << "\n";
+    std::cerr << "loopaudit: settings: " << e.what() << "\n";
     return cli::kConfig;
   } catch (const NumericalError& e) {
-    std::cerr << "loopmargin: no result: " << e.what() << "\n";
+    std::cerr << "loopaudit: no result: " << e.what() << "\n";
     return cli::kNoResult;
   } catch (const OutputError& e) {
-    std::cerr << "loopmargin: output: " << e.what() << "\n";
+    std::cerr << "loopaudit: output: " << e.what() << "\n";
     return cli::kOutput;
   } catch (const std::bad_alloc&) {
-    std::cerr << "loopmargin: out of memory\n";
+    std::cerr << "loopaudit: out of memory\n";
     return cli::kInternal;
   } catch (const std::exception& e) {
-    std::cerr << "loopmargin: internal error: " << e.what() << "\n";
+    std::cerr << "loopaudit: internal error: " << e.what() << "\n";
     return cli::kInternal;
   }
 }

@@ -6,14 +6,14 @@
 #include <fstream>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/report/atomic_file.hpp"
-#include "loopmargin/report/csv_report.hpp"
-#include "loopmargin/report/html_report.hpp"
-#include "loopmargin/report/json_report.hpp"
-#include "loopmargin/report/plots.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/report/atomic_file.hpp"
+#include "loopaudit/report/csv_report.hpp"
+#include "loopaudit/report/html_report.hpp"
+#include "loopaudit/report/json_report.hpp"
+#include "loopaudit/report/plots.hpp"
 
-namespace loopmargin::cli {
+namespace loopaudit::cli {
 namespace {
 
 namespace fs = std::filesystem;
@@ -72,7 +72,7 @@ void write_text_file(const std::string& path, const std::string& text) {
 }
 
 void remember_command_line(int argc, char** argv) {
-  std::string text = "loopmargin";
+  std::string text = "loopaudit";
   for (int i = 1; i < argc; ++i) text += std::string(" ") + argv[i];
   command_line() = text;
 }
@@ -107,4 +107,4 @@ void write_outputs(const AnalysisResult& result, const OutputRequest& request, c
   }
 }
 
-}  // namespace loopmargin::cli
+}  // namespace loopaudit::cli

@@ -6,9 +6,9 @@
 #include <optional>
 #include <string>
 
-#include "loopmargin/pipeline.hpp"
+#include "loopaudit/pipeline.hpp"
 
-namespace loopmargin::cli {
+namespace loopaudit::cli {
 
 struct OutputRequest {
   std::string json_path;
@@ -32,4 +32,4 @@ void write_text_file(const std::string& path, const std::string& text);
 // The command line, for the report's record of how it was made.
 void remember_command_line(int argc, char** argv);
 
-}  // namespace loopmargin::cli
+}  // namespace loopaudit::cli

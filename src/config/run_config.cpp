@@ -1,10 +1,10 @@
-#include "loopmargin/run_config.hpp"
+#include "loopaudit/run_config.hpp"
 #include <cmath>
 
 #include "config/toml_fields.hpp"
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using detail::check_keys;
@@ -110,4 +110,4 @@ RunSettings load_run_settings(const std::string& path, RunSettings settings) {
   return settings;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -4,9 +4,9 @@
 #include <filesystem>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 toml::table parse_toml_file(const std::string& path) {
   std::error_code ec;
@@ -104,4 +104,4 @@ std::optional<std::vector<double>> optional_numbers(const toml::table& table, co
   return out;
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -9,7 +9,7 @@
 #include <toml++/toml.h>
 #include <vector>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 // Parses the file; throws InputError with line and column on a syntax error.
 toml::table parse_toml_file(const std::string& path);
@@ -35,4 +35,4 @@ std::optional<std::vector<std::string>> optional_texts(const toml::table& table,
 // A number or a list of numbers; nullopt when absent.
 std::optional<std::vector<double>> optional_numbers(const toml::table& table, const char* key, const std::string& where);
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

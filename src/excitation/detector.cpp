@@ -3,13 +3,13 @@
 #include <numeric>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/excitation/excitation.hpp"
-#include "loopmargin/format.hpp"
-#include "loopmargin/spectral/window.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/excitation/excitation.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/spectral/window.hpp"
 #include "spectral/fft_plan.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 // A frame holds one tone when this share of its power sits within two bins
@@ -324,4 +324,4 @@ std::string ExcitationPlan::describe(double sample_rate_hz) const {
   return out.str();
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

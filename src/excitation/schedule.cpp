@@ -1,4 +1,4 @@
-#include "loopmargin/excitation/schedule.hpp"
+#include "loopaudit/excitation/schedule.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -7,10 +7,10 @@
 
 #include "ingest/line_reader.hpp"
 #include "ingest/number_text.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 
 std::vector<ScheduledDwell> read_dwell_schedule(const std::string& path) {
   detail::LineReader lines(path);
@@ -90,4 +90,4 @@ std::vector<Dwell> MarkerDwells::finish() {
   return dwells_;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -5,9 +5,9 @@
 #include <string>
 #include <vector>
 
-#include "loopmargin/ingest/recording.hpp"
+#include "loopaudit/ingest/recording.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 struct ChannelSetup {
   std::vector<std::string> names;
@@ -22,4 +22,4 @@ struct ChannelSetup {
 // than the file has, or give scale/offset lists of the wrong length.
 ChannelSetup channel_setup(const RecordingOptions& options, std::size_t count, const std::string& path);
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

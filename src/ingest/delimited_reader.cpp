@@ -8,10 +8,10 @@
 #include "ingest/line_reader.hpp"
 #include "ingest/number_text.hpp"
 #include "ingest/stamp_check.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/delimited.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/delimited.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using detail::LineReader;
@@ -269,4 +269,4 @@ std::unique_ptr<SampleSource> open_delimited(const std::string& path, const Deli
   return std::make_unique<DelimitedReader>(path, options);
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

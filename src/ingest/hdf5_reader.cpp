@@ -4,9 +4,9 @@
 
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 
 // An HDF5 identifier closed by its own function when it goes out of scope.
@@ -189,4 +189,4 @@ std::unique_ptr<SampleSource> open_hdf5(const std::string& path, const Recording
   return std::make_unique<Hdf5Reader>(path, options);
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

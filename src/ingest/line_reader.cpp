@@ -4,9 +4,9 @@
 #include <cstring>
 #include <filesystem>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 constexpr std::size_t kChunkBytes = 1 << 20;
 // No line of a recording or table is this long; a file that has one is not
@@ -62,4 +62,4 @@ bool LineReader::next(std::string_view& line) {
   return true;
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -7,7 +7,7 @@
 #include <string_view>
 #include <vector>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 class LineReader {
  public:
@@ -33,4 +33,4 @@ class LineReader {
   std::size_t line_number_ = 0;
 };
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -7,7 +7,7 @@
 #include <cmath>
 #include <cstdlib>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 std::string_view trim(std::string_view text) {
   const auto is_blank = [](char c) { return c == ' ' || c == '\t' || c == '\r' || c == '"'; };
@@ -88,4 +88,4 @@ std::vector<std::string> split_names(std::string_view header, char delimiter) {
   return names;
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

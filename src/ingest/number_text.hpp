@@ -6,7 +6,7 @@
 #include <string_view>
 #include <vector>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 // Reads a double at the start of [first, last) (fast_float: correctly
 // rounded, several times faster than stream extraction). Returns the end of
@@ -29,4 +29,4 @@ char detect_delimiter(std::string_view header);
 // Cells of a header line, trimmed.
 std::vector<std::string> split_names(std::string_view header, char delimiter);
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -1,4 +1,4 @@
-#include "loopmargin/ingest/quality.hpp"
+#include "loopaudit/ingest/quality.hpp"
 
 #include <Eigen/Core>
 #include <algorithm>
@@ -6,9 +6,9 @@
 #include <numeric>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 constexpr std::size_t kClipRun = 3;            // equal samples at an extreme that make a flat top
@@ -165,4 +165,4 @@ Diagnostics QualityMonitor::findings() const {
   return out;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

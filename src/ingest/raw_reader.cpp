@@ -8,9 +8,9 @@
 
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 
 template <typename T>
@@ -140,4 +140,4 @@ std::unique_ptr<SampleSource> open_raw(const std::string& path, const RecordingO
   return std::make_unique<RawReader>(path, options);
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -4,12 +4,12 @@
 #include <memory>
 #include <string>
 
-#include "loopmargin/ingest/recording.hpp"
+#include "loopaudit/ingest/recording.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 std::unique_ptr<SampleSource> open_raw(const std::string& path, const RecordingOptions& options);
 std::unique_ptr<SampleSource> open_wav(const std::string& path, const RecordingOptions& options);
 std::unique_ptr<SampleSource> open_hdf5(const std::string& path, const RecordingOptions& options);
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -1,4 +1,4 @@
-#include "loopmargin/ingest/recording.hpp"
+#include "loopaudit/ingest/recording.hpp"
 
 #include <algorithm>
 #include <cctype>
@@ -6,9 +6,9 @@
 
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 RecordingFormat format_from_extension(const std::string& path) {
@@ -107,4 +107,4 @@ std::unique_ptr<SampleSource> open_recording(const std::string& path, const Reco
   return nullptr;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,4 +1,4 @@
-#include "loopmargin/ingest/response_table.hpp"
+#include "loopaudit/ingest/response_table.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -7,10 +7,10 @@
 
 #include "ingest/line_reader.hpp"
 #include "ingest/number_text.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using Columns = std::map<std::string, std::size_t>;
@@ -128,4 +128,4 @@ Response read_response_table(const std::string& path) {
   return response;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

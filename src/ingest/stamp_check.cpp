@@ -3,9 +3,9 @@
 #include <cmath>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 
 // Steps may differ from the expected one by this fraction (clock jitter)
@@ -96,4 +96,4 @@ double StampChecker::finish() {
   return static_cast<double>(count_ - 1) / span;
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

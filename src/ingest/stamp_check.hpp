@@ -8,7 +8,7 @@
 #include <string>
 #include <vector>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 class StampChecker {
  public:
@@ -44,4 +44,4 @@ class StampChecker {
   std::vector<std::size_t> early_lines_;
 };
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -2,9 +2,9 @@
 
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 
 // WAV (and the other formats libsndfile reads). Integer samples are read as
@@ -65,4 +65,4 @@ std::unique_ptr<SampleSource> open_wav(const std::string& path, const RecordingO
   return std::make_unique<WavReader>(path, options);
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

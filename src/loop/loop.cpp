@@ -1,14 +1,14 @@
-#include "loopmargin/loop/loop.hpp"
+#include "loopaudit/loop/loop.hpp"
 
 #include <algorithm>
 #include <cmath>
 #include <sstream>
 #include <string>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 // The plausibility check looks at lines with |L| above this gain in the
@@ -105,4 +105,4 @@ Response measured_ratio(const LoopResponse& loop) {
   return measured;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

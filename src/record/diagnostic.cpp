@@ -1,8 +1,8 @@
-#include "loopmargin/record/diagnostic.hpp"
+#include "loopaudit/record/diagnostic.hpp"
 
 #include <utility>
 
-namespace loopmargin {
+namespace loopaudit {
 
 const char* severity_name(Severity severity) {
   switch (severity) {
@@ -21,4 +21,4 @@ Diagnostic make_warning(std::string code, std::string message, Location where) {
   return {Severity::kWarning, std::move(code), std::move(message), std::move(where)};
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,11 +1,11 @@
-#include "loopmargin/format.hpp"
+#include "loopaudit/format.hpp"
 
 #include <cmath>
 #include <cstdio>
 #include <utility>
 #include <vector>
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 std::string engineering(double value, const char* unit, const std::vector<std::pair<double, const char*>>& prefixes) {
@@ -44,4 +44,4 @@ std::string format_signed(double value, int digits) {
   return text;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

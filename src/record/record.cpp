@@ -1,9 +1,9 @@
-#include "loopmargin/record/record.hpp"
+#include "loopaudit/record/record.hpp"
 
 #include <algorithm>
 #include <utility>
 
-namespace loopmargin {
+namespace loopaudit {
 
 Record read_all(SampleSource& source) {
   Record record;
@@ -43,4 +43,4 @@ SourceSummary RecordSource::summary() const {
   return {record_.sample_rate_hz, record_.sample_count(), record_.findings};
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,4 +1,4 @@
-#include "loopmargin/report/atomic_file.hpp"
+#include "loopaudit/report/atomic_file.hpp"
 
 #include <unistd.h>
 
@@ -7,9 +7,9 @@
 #include <filesystem>
 #include <fstream>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 
 void write_atomically(const std::string& path, const std::function<void(std::ostream&)>& write) {
   namespace fs = std::filesystem;
@@ -32,4 +32,4 @@ void write_atomically(const std::string& path, const std::function<void(std::ost
   }
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,12 +1,12 @@
-#include "loopmargin/report/csv_report.hpp"
+#include "loopaudit/report/csv_report.hpp"
 
 #include <charconv>
 #include <cmath>
 #include <string>
 
-#include "loopmargin/units.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 // Shortest text that reads back as the same double.
@@ -68,4 +68,4 @@ void write_record_csv(std::ostream& out, const Record& record) {
   }
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

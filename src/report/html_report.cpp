@@ -1,16 +1,16 @@
-#include "loopmargin/report/html_report.hpp"
+#include "loopaudit/report/html_report.hpp"
 
 #include <cmath>
 #include <cstdio>
 #include <sstream>
 
-#include "loopmargin/format.hpp"
-#include "loopmargin/report/text_report.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/report/text_report.hpp"
 #include "report/interval_text.hpp"
 #include "report/sha256.hpp"
 #include "report/svg.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using svg::escape;
@@ -222,7 +222,7 @@ std::string html_report(const AnalysisResult& result, const std::vector<Plot>& p
       << "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n<title>Loop report: "
       << escape(result.origin) << "</title>\n<style>" << kStyle << "</style>\n</head>\n<body>\n<main>\n<header>\n"
       << "<div class=\"kind\">Loop measurement report</div>\n<h1>" << escape(result.origin) << "</h1>\n"
-      << "<div class=\"stamp\">loopmargin " << LOOPMARGIN_VERSION;
+      << "<div class=\"stamp\">loopaudit " << LOOPAUDIT_VERSION;
   if (!context.generated.empty()) out << " · written " << escape(context.generated);
   if (!context.recording_modified.empty()) out << " · recording dated " << escape(context.recording_modified);
   out << "</div>\n</header>\n";
@@ -233,9 +233,9 @@ std::string html_report(const AnalysisResult& result, const std::vector<Plot>& p
   write_plots(out, plots);
   write_findings(out, result.findings);
   write_cautions(out);
-  out << "<footer>Made by loopmargin " << LOOPMARGIN_VERSION
+  out << "<footer>Made by loopaudit " << LOOPAUDIT_VERSION
       << ". Margins are computed on L; the definitions are in the project's README.</footer>\n</main>\n</body>\n</html>\n";
   return out.str();
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -5,9 +5,9 @@
 #include <optional>
 #include <string>
 
-#include "loopmargin/analysis/margins.hpp"
+#include "loopaudit/analysis/margins.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 template <typename Format>
 std::string interval_text(const std::optional<Interval>& i, Format format) {
@@ -15,4 +15,4 @@ std::string interval_text(const std::optional<Interval>& i, Format format) {
   return format(i->low) + " to " + format(i->high);
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -1,13 +1,13 @@
-#include "loopmargin/report/json_report.hpp"
+#include "loopaudit/report/json_report.hpp"
 
 #include <cmath>
 #include <fstream>
 #include <nlohmann/json.hpp>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using Json = nlohmann::ordered_json;
@@ -166,7 +166,7 @@ Json input_json(const AnalysisResult& result) {
   return out;
 }
 
-Json tool_json() { return {{"name", "loopmargin"}, {"version", LOOPMARGIN_VERSION}}; }
+Json tool_json() { return {{"name", "loopaudit"}, {"version", LOOPAUDIT_VERSION}}; }
 
 }  // namespace
 
@@ -229,4 +229,4 @@ MarginSummary read_truth_summary(const std::string& path) {
   return summary;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,4 +1,4 @@
-#include "loopmargin/report/plots.hpp"
+#include "loopaudit/report/plots.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -7,11 +7,11 @@
 #include <numbers>
 #include <optional>
 
-#include "loopmargin/format.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/units.hpp"
 #include "report/svg.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using svg::Canvas;
@@ -662,4 +662,4 @@ std::vector<Plot> draw_plots(const AnalysisResult& result) {
   return plots;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -4,7 +4,7 @@
 #include <cstdint>
 #include <cstdio>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 
 constexpr std::array<std::uint32_t, 64> kRound = {
@@ -69,4 +69,4 @@ std::string sha256_hex(std::string_view bytes) {
   return hex;
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

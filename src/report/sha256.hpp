@@ -5,8 +5,8 @@
 #include <string>
 #include <string_view>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 std::string sha256_hex(std::string_view bytes);
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -5,7 +5,7 @@
 #include <cstdio>
 #include <map>
 
-namespace loopmargin::svg {
+namespace loopaudit::svg {
 namespace {
 
 const char* kFont = "'DejaVu Sans', 'Liberation Sans', Arial, Helvetica, sans-serif";
@@ -282,4 +282,4 @@ std::vector<Point> thin_path(const std::vector<Point>& points, double spacing, s
   return out;
 }
 
-}  // namespace loopmargin::svg
+}  // namespace loopaudit::svg

@@ -8,7 +8,7 @@
 #include <string>
 #include <vector>
 
-namespace loopmargin::svg {
+namespace loopaudit::svg {
 
 struct Point {
   double x = 0.0;
@@ -111,4 +111,4 @@ std::vector<Point> thin(const std::vector<Point>& points);
 // `most_points` remain, which bounds the file whatever the line count.
 std::vector<Point> thin_path(const std::vector<Point>& points, double spacing = 0.75, std::size_t most_points = 3000);
 
-}  // namespace loopmargin::svg
+}  // namespace loopaudit::svg

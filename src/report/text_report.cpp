@@ -1,6 +1,6 @@
-#include "loopmargin/report/text_report.hpp"
+#include "loopaudit/report/text_report.hpp"
 
-#include "loopmargin/format.hpp"
+#include "loopaudit/format.hpp"
 #include "report/interval_text.hpp"
 
 #include <algorithm>
@@ -8,7 +8,7 @@
 #include <cstdio>
 #include <vector>
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 std::string printf_string(const char* format, double value, const char* unit = "") {
@@ -74,7 +74,7 @@ std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
 }
 
 void write_method(std::ostream& out, const AnalysisResult& r) {
-  out << "loopmargin " << LOOPMARGIN_VERSION << "  " << r.origin << "\n";
+  out << "loopaudit " << LOOPAUDIT_VERSION << "  " << r.origin << "\n";
   for (const auto& [label, text] : describe_method(r)) {
     char heading[16];
     std::snprintf(heading, sizeof heading, "  %-12s", label.c_str());
@@ -204,7 +204,7 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
 }
 
 void write_inspection(std::ostream& out, const Inspection& i) {
-  out << "loopmargin " << LOOPMARGIN_VERSION << "  " << i.origin << "\n";
+  out << "loopaudit " << LOOPAUDIT_VERSION << "  " << i.origin << "\n";
   out << "  recording   " << i.sample_count << " samples at " << format_frequency(i.sample_rate_hz) << " ("
       << format_time(static_cast<double>(i.sample_count) / i.sample_rate_hz) << "); channels";
   for (const auto& name : i.channel_names) out << " " << name;
@@ -221,4 +221,4 @@ void write_inspection(std::ostream& out, const Inspection& i) {
   for (const auto& d : i.findings) out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -5,7 +5,7 @@
 #include <mutex>
 #include <new>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 std::mutex& planner_mutex() {  // FFTW's planner is not thread-safe
   static std::mutex mutex;
@@ -81,4 +81,4 @@ std::span<std::complex<double>> InverseRealFft::input() {
 void InverseRealFft::execute() { fftw_execute(impl_->plan); }
 std::span<const double> InverseRealFft::output() const { return {impl_->out, impl_->length}; }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -7,7 +7,7 @@
 #include <memory>
 #include <span>
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 class RealFft {
  public:
@@ -47,4 +47,4 @@ class InverseRealFft {
   std::unique_ptr<Impl> impl_;
 };
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

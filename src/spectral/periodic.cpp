@@ -1,15 +1,15 @@
-#include "loopmargin/spectral/periodic.hpp"
+#include "loopaudit/spectral/periodic.hpp"
 
 #include <algorithm>
 #include <cmath>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/format.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/units.hpp"
 #include "spectral/fft_plan.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using Complex = std::complex<double>;
@@ -134,4 +134,4 @@ Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& finding
   return r;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

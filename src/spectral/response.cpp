@@ -1,14 +1,14 @@
-#include "loopmargin/spectral/response.hpp"
+#include "loopaudit/spectral/response.hpp"
 
 #include <algorithm>
 #include <cmath>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/format.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using Complex = std::complex<double>;
@@ -123,4 +123,4 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
   return response;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

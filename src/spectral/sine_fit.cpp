@@ -1,12 +1,12 @@
-#include "loopmargin/spectral/sine_fit.hpp"
+#include "loopaudit/spectral/sine_fit.hpp"
 
 #include <Eigen/Dense>
 #include <cmath>
 #include <numbers>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 constexpr std::size_t kMinSamples = 4;
@@ -88,4 +88,4 @@ std::vector<double> harmonic_amplitudes(std::span<const double> x, double f0_hz,
   return out;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,15 +1,15 @@
-#include "loopmargin/spectral/stepped.hpp"
+#include "loopaudit/spectral/stepped.hpp"
 
 #include <algorithm>
 #include <cmath>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/format.hpp"
-#include "loopmargin/spectral/sine_fit.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/format.hpp"
+#include "loopaudit/spectral/sine_fit.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 constexpr std::size_t kChannels = 3;
@@ -168,4 +168,4 @@ Response SteppedSineEstimator::finish(Diagnostics& findings) {
   return sorted;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

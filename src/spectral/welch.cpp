@@ -1,4 +1,4 @@
-#include "loopmargin/spectral/welch.hpp"
+#include "loopaudit/spectral/welch.hpp"
 
 #include <Eigen/Core>
 #include <algorithm>
@@ -10,10 +10,10 @@
 #include <mutex>
 #include <thread>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 #include "spectral/fft_plan.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 constexpr double kMaxOverlap = 0.9;
@@ -336,4 +336,4 @@ CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
   return result;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -1,14 +1,14 @@
-#include "loopmargin/spectral/window.hpp"
+#include "loopaudit/spectral/window.hpp"
 
 #include <cmath>
 #include <complex>
 #include <numbers>
 #include <numeric>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 std::vector<double> cosine_sum(std::vector<double> coefficients, std::size_t length) {
@@ -78,4 +78,4 @@ double overlap_correlation(const std::vector<double>& window, std::size_t shift)
   return lagged / power;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

@@ -3,9 +3,9 @@
 #include <cmath>
 #include <numbers>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 
 constexpr double kTwoPi = 2.0 * std::numbers::pi;
@@ -123,4 +123,4 @@ std::vector<double> injection_signal(const Scenario& s, std::size_t warm_up, std
   return {};
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

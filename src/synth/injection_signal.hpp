@@ -4,9 +4,9 @@
 #include <random>
 #include <vector>
 
-#include "loopmargin/synth/scenario.hpp"
+#include "loopaudit/synth/scenario.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 // Samples n = -warm_up .. count - 1 of the injection (the recording starts at
 // n = 0). Periodic kinds repeat backwards too; a stepped sine holds its first
@@ -19,4 +19,4 @@ std::vector<double> scaled_to_rms(std::vector<double> signal, double rms);
 // The frequencies of a stepped sine, log-spaced over the band.
 std::vector<double> stepped_frequencies(const Injection& injection, double sample_rate_hz);
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -1,12 +1,12 @@
-#include "loopmargin/synth/scenario.hpp"
+#include "loopaudit/synth/scenario.hpp"
 
 #include <cmath>
 #include <sstream>
 
 #include "config/toml_fields.hpp"
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using detail::check_keys;
@@ -199,4 +199,4 @@ Scenario load_scenario(const std::string& path) {
   return s;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

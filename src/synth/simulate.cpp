@@ -1,15 +1,15 @@
-#include "loopmargin/synth/simulate.hpp"
+#include "loopaudit/synth/simulate.hpp"
 
 #include <cmath>
 #include <deque>
 #include <numbers>
 #include <random>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 #include "synth/injection_signal.hpp"
 #include "synth/state_space.hpp"
 
-namespace loopmargin {
+namespace loopaudit {
 namespace {
 
 using detail::StateRunner;
@@ -161,4 +161,4 @@ Synthesis synthesize(const Scenario& s) {
   return out;
 }
 
-}  // namespace loopmargin
+}  // namespace loopaudit

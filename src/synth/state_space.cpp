@@ -4,9 +4,9 @@
 #include <algorithm>
 #include <numbers>
 
-#include "loopmargin/error.hpp"
+#include "loopaudit/error.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 namespace {
 
 // Numerator n0 + n1 s + n2 s^2 with s in rad/s.
@@ -164,4 +164,4 @@ double StateRunner::step(double input) {
   return y;
 }
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

@@ -4,9 +4,9 @@
 #include <Eigen/Dense>
 #include <complex>
 
-#include "loopmargin/synth/scenario.hpp"
+#include "loopaudit/synth/scenario.hpp"
 
-namespace loopmargin::detail {
+namespace loopaudit::detail {
 
 struct StateSpace {
   Eigen::MatrixXd a;
@@ -37,4 +37,4 @@ class StateRunner {
   Eigen::VectorXd state_;
 };
 
-}  // namespace loopmargin::detail
+}  // namespace loopaudit::detail

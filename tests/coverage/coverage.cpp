@@ -20,11 +20,11 @@
 #include <string>
 #include <vector>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/pipeline.hpp"
-#include "loopmargin/synth/simulate.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/pipeline.hpp"
+#include "loopaudit/synth/simulate.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

@@ -1,7 +1,7 @@
-"""End-to-end tests: the loopmargin CLI as a user runs it.
+"""End-to-end tests: the loopaudit CLI as a user runs it.
 
-Environment: LOOPMARGIN (the binary) and LOOPMARGIN_DEMO (data/demo), set by
-CTest. Recordings are made with `loopmargin synth`; each check names its source.
+Environment: LOOPAUDIT (the binary) and LOOPAUDIT_DEMO (data/demo), set by
+CTest. Recordings are made with `loopaudit synth`; each check names its source.
 """
 import json
 import math
@@ -13,8 +13,8 @@ import unittest
 
 import numpy as np
 
-BINARY = os.environ.get("LOOPMARGIN", "loopmargin")
-DEMO = os.environ.get("LOOPMARGIN_DEMO", "../../data/demo")
+BINARY = os.environ.get("LOOPAUDIT", "loopaudit")
+DEMO = os.environ.get("LOOPAUDIT_DEMO", "../../data/demo")
 
 # Exit codes documented in README.md.
 USAGE, INPUT, SETTINGS, NO_RESULT, OUTPUT = 2, 3, 4, 5, 6
@@ -27,7 +27,7 @@ SIGMAS = 4.0
 def run(*args, check=True):
     result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300)
     if check and result.returncode != 0:
-        raise AssertionError(f"loopmargin {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
+        raise AssertionError(f"loopaudit {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
     return result
 
 
@@ -54,7 +54,7 @@ class DemoScenarios(unittest.TestCase):
 
     @classmethod
     def setUpClass(cls):
-        cls.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        cls.folder = tempfile.mkdtemp(prefix="loopaudit_e2e_")
         cls.results = {}
         for name in ("buck_48v_12v", "servo_velocity"):
             run("synth", os.path.join(DEMO, name + ".toml"), "--out-dir", cls.folder)
@@ -124,7 +124,7 @@ class DemoScenarios(unittest.TestCase):
     def test_response_csv_feeds_the_margins_command(self):
         # Round trip: the lines written by analyze give the same margins.
         stem = os.path.join(self.folder, "servo_velocity")
-        run("margins", stem + ".lines.csv", "--json", stem + ".again.json")
+        run("table", stem + ".lines.csv", "--json", stem + ".again.json")
         again = load(stem + ".again.json")["summary"]
         first = self.results["servo_velocity"][0]["summary"]
         intervals = first.pop("intervals")
@@ -151,7 +151,7 @@ class DemoScenarios(unittest.TestCase):
 
 class FrequencyDomainTables(unittest.TestCase):
     def setUp(self):
-        self.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        self.folder = tempfile.mkdtemp(prefix="loopaudit_e2e_")
 
     def tearDown(self):
         shutil.rmtree(self.folder, ignore_errors=True)
@@ -176,20 +176,20 @@ class FrequencyDomainTables(unittest.TestCase):
         # (closed form). Without --rhp-poles the count contradicts itself and says so.
         path = self.table(lambda s: 2 / (s - 1), 0.001, 100, polar=False)
         out = os.path.join(self.folder, "m.json")
-        run("margins", path, "--json", out, "--rhp-poles", "1")
+        run("table", path, "--json", out, "--rhp-poles", "1")
         stability = load(out)["stability"]
         self.assertEqual(stability["verdict"], "stable", stability["reason"])
         self.assertEqual(stability["encirclements"], -1)
-        run("margins", path, "--json", out)
+        run("table", path, "--json", out)
         self.assertEqual(load(out)["stability"]["verdict"], "undecided")
-        self.assertEqual(run("margins", path, "--rhp-poles", "-1", check=False).returncode, USAGE)
+        self.assertEqual(run("table", path, "--rhp-poles", "-1", check=False).returncode, USAGE)
 
     def test_third_order_loop_from_a_simulator_sweep(self):
         # K/(s(s+1)(s+2)), K = 1: phase crossover sqrt(2) rad/s, GM 20 log10 6 = 15.563025 dB;
         # gain crossover 0.4457479596 rad/s, PM 53.41078618 deg (REFERENCES.md section 5).
         path = self.table(lambda s: 1 / (s * (s + 1) * (s + 2)), 0.01, 100, polar=True)
         out = os.path.join(self.folder, "m.json")
-        run("margins", path, "--json", out)
+        run("table", path, "--json", out)
         s = load(out)["summary"]
         self.assertAlmostEqual(s["phase_crossover_hz"] * 2 * math.pi, math.sqrt(2), delta=1e-5)
         self.assertAlmostEqual(s["gain_margin_db"], 15.563025, delta=1e-4)
@@ -200,7 +200,7 @@ class FrequencyDomainTables(unittest.TestCase):
         # A table of the measured ratio Y/X = -L gives the margins of L.
         path = self.table(lambda s: -2 / (s * (s + 1) * (s + 2)), 0.01, 100, polar=False)
         out = os.path.join(self.folder, "m.json")
-        run("margins", path, "--convention", "series-injection", "--json", out)
+        run("table", path, "--convention", "series-injection", "--json", out)
         # 2/(s(s+1)(s+2)): GM 3 = 9.542425 dB, PM 32.61309705 deg (REFERENCES.md section 5).
         s = load(out)["summary"]
         self.assertAlmostEqual(s["gain_margin_db"], 9.542425, delta=1e-4)
@@ -209,7 +209,7 @@ class FrequencyDomainTables(unittest.TestCase):
     def test_no_crossover_in_band_is_null(self):
         path = self.table(lambda s: 1 / (s * (s + 1) * (s + 2)), 0.01, 0.1, polar=False)
         out = os.path.join(self.folder, "m.json")
-        result = run("margins", path, "--json", out)
+        result = run("table", path, "--json", out)
         s = load(out)["summary"]
         self.assertIsNone(s["phase_margin_deg"])
         self.assertIsNone(s["gain_crossover_hz"])
@@ -220,7 +220,7 @@ class BadInput(unittest.TestCase):
     """Each bad input: one clear message, a documented exit code, no output written."""
 
     def setUp(self):
-        self.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        self.folder = tempfile.mkdtemp(prefix="loopaudit_e2e_")
 
     def tearDown(self):
         shutil.rmtree(self.folder, ignore_errors=True)
@@ -349,7 +349,7 @@ class EveryFormat(unittest.TestCase):
     def setUpClass(cls):
         import h5py
         from scipy.io import wavfile
-        cls.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        cls.folder = tempfile.mkdtemp(prefix="loopaudit_e2e_")
         run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", cls.folder)
         text = os.path.join(cls.folder, "servo_velocity.csv")
         data = np.loadtxt(text, delimiter=",", skiprows=1)[:, 1:]  # z, x, y as the text reader parses them
@@ -421,7 +421,7 @@ class Excitations(unittest.TestCase):
 
     @classmethod
     def setUpClass(cls):
-        cls.folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        cls.folder = tempfile.mkdtemp(prefix="loopaudit_e2e_")
         run("synth", os.path.join(DEMO, "servo_stepped.toml"), "--out-dir", cls.folder)
         run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", cls.folder)
 
@@ -487,7 +487,7 @@ class ReferenceFromDifference(unittest.TestCase):
     def test_injection_computed_as_x_minus_y(self):
         # Without probe noise, z = x - y exactly (DESIGN.md, series injection),
         # so the two ways give the same margins to rounding of the printed samples.
-        folder = tempfile.mkdtemp(prefix="loopmargin_e2e_")
+        folder = tempfile.mkdtemp(prefix="loopaudit_e2e_")
         try:
             scenario = os.path.join(folder, "quiet.toml")
             with open(os.path.join(DEMO, "servo_velocity.toml")) as f:

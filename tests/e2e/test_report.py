@@ -4,7 +4,7 @@ Debian's chromium renders the report headless (installed by scripts/setup):
 the page must load with no console message, every plot must be present with
 a drawn curve, and the screenshot must show the curve's colour. xmllint
 (Debian's libxml2-utils) checks that every SVG file is well-formed XML.
-Environment as for test_cli.py: LOOPMARGIN and LOOPMARGIN_DEMO.
+Environment as for test_cli.py: LOOPAUDIT and LOOPAUDIT_DEMO.
 """
 import html.parser
 import os
@@ -15,8 +15,8 @@ import unittest
 
 from PIL import Image
 
-BINARY = os.environ.get("LOOPMARGIN", "loopmargin")
-DEMO = os.environ.get("LOOPMARGIN_DEMO", "../../data/demo")
+BINARY = os.environ.get("LOOPAUDIT", "loopaudit")
+DEMO = os.environ.get("LOOPAUDIT_DEMO", "../../data/demo")
 PLOTS = ["bode", "nyquist-near", "nyquist-whole", "coherence", "sensitivity"]
 MEASURED = ["bode-measured"]  # the ratio as measured, for recordings (series injection)
 CURVE_RGB = (0x0B, 0x5D, 0x7A)  # the measured curve's colour in src/report/plots.cpp
@@ -25,7 +25,7 @@ CURVE_RGB = (0x0B, 0x5D, 0x7A)  # the measured curve's colour in src/report/plot
 def run(*args):
     result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300)
     if result.returncode != 0:
-        raise AssertionError(f"loopmargin {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
+        raise AssertionError(f"loopaudit {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
     return result
 
 
@@ -34,7 +34,7 @@ def chromium(*args):
     browser = shutil.which("chromium")
     if browser is None:
         raise AssertionError("chromium is not installed: run scripts/setup")
-    with tempfile.TemporaryDirectory(prefix="loopmargin_browser_") as profile:
+    with tempfile.TemporaryDirectory(prefix="loopaudit_browser_") as profile:
         result = subprocess.run(
             [browser, "--headless", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage",
              "--disable-background-networking", "--disable-extensions", "--no-first-run",
@@ -76,7 +76,7 @@ class Figures(html.parser.HTMLParser):
 class ReportInBrowser(unittest.TestCase):
     @classmethod
     def setUpClass(cls):
-        cls.folder = tempfile.mkdtemp(prefix="loopmargin_report_")
+        cls.folder = tempfile.mkdtemp(prefix="loopaudit_report_")
         run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", cls.folder)
         cls.out = os.path.join(cls.folder, "out")
         run("analyze", os.path.join(cls.folder, "servo_velocity.csv"), "--out-dir", cls.out)
@@ -136,7 +136,7 @@ class ReportInBrowser(unittest.TestCase):
             with open(path, "w") as f:
                 f.write(text)
             out = os.path.join(self.folder, "awkward")
-            run("margins", path, "--out-dir", out)
+            run("table", path, "--out-dir", out)
             report = os.path.join(out, name[:-4] + ".report.html")
             dom, console = chromium("--dump-dom", "file://" + report)
             self.assertEqual(console, [], name)

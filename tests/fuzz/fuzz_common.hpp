@@ -13,7 +13,7 @@
 namespace fuzzing {
 
 inline std::string input_file(const uint8_t* data, size_t size, const char* suffix) {
-  const std::string path = "/tmp/loopmargin_fuzz_" + std::to_string(::getpid()) + suffix;
+  const std::string path = "/tmp/loopaudit_fuzz_" + std::to_string(::getpid()) + suffix;
   std::FILE* f = std::fopen(path.c_str(), "wb");
   if (f == nullptr) return path;
   if (size > 0) std::fwrite(data, 1, size, f);

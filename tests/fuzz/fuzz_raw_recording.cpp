@@ -1,10 +1,10 @@
 // Raw binary recordings: the first byte picks the layout, the rest is the file.
 #include "fuzz_common.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/recording.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/recording.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
-  using namespace loopmargin;
+  using namespace loopaudit;
   if (size < 1) return 0;
   const uint8_t layout = data[0];
   const std::string path = fuzzing::input_file(data + 1, size - 1, ".bin");

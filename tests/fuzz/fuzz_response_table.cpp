@@ -1,13 +1,13 @@
 // Frequency-response tables through the margin analysis, and the same text
 // read as a dwell schedule.
 #include "fuzz_common.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/excitation/schedule.hpp"
-#include "loopmargin/ingest/response_table.hpp"
-#include "loopmargin/pipeline.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/excitation/schedule.hpp"
+#include "loopaudit/ingest/response_table.hpp"
+#include "loopaudit/pipeline.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
-  using namespace loopmargin;
+  using namespace loopaudit;
   const std::string path = fuzzing::input_file(data, size, ".csv");
   try {
     analyze_response(path, read_response_table(path), Convention::kDirect);

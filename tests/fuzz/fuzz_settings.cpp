@@ -1,11 +1,11 @@
 // Run settings and scenario files (TOML).
 #include "fuzz_common.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/run_config.hpp"
-#include "loopmargin/synth/scenario.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/run_config.hpp"
+#include "loopaudit/synth/scenario.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
-  using namespace loopmargin;
+  using namespace loopaudit;
   const std::string path = fuzzing::input_file(data, size, ".toml");
   try {
     load_run_settings(path);

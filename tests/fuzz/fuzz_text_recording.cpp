@@ -1,12 +1,12 @@
 // Delimited text recordings through the whole analysis: detection of the
 // excitation, then its estimator.
 #include "fuzz_common.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/recording.hpp"
-#include "loopmargin/pipeline.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/recording.hpp"
+#include "loopaudit/pipeline.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
-  using namespace loopmargin;
+  using namespace loopaudit;
   const std::string path = fuzzing::input_file(data, size, ".csv");
   try {
     RecordingOptions options;

@@ -1,10 +1,10 @@
 // WAV recordings (the container is libsndfile's to parse; this covers our side).
 #include "fuzz_common.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/recording.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/recording.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
-  using namespace loopmargin;
+  using namespace loopaudit;
   const std::string path = fuzzing::input_file(data, size, ".wav");
   try {
     RecordingOptions options;

@@ -1,5 +1,5 @@
 """Recordings in every binary format, written by general-purpose libraries
-(numpy.tofile, scipy.io.wavfile, h5py) and read back by loopmargin exactly.
+(numpy.tofile, scipy.io.wavfile, h5py) and read back by loopaudit exactly.
 
 The samples go through reference_dump printed with 17 significant digits, so
 "exactly" means bit for bit in double precision; integer PCM in WAV is read
@@ -32,7 +32,7 @@ def dump(path, settings=None):
 
 class Formats(unittest.TestCase):
     def setUp(self):
-        self.folder = tempfile.mkdtemp(prefix="loopmargin_formats_")
+        self.folder = tempfile.mkdtemp(prefix="loopaudit_formats_")
         rng = np.random.default_rng(5)
         self.n = 70001  # more than one block of 65536
         self.signal = rng.standard_normal((self.n, 3))

@@ -1,4 +1,4 @@
-// Test helper: prints what loopmargin computes, for comparison with scipy,
+// Test helper: prints what loopaudit computes, for comparison with scipy,
 // numpy and h5py.
 //   reference_dump spectra FILE SAMPLE_RATE SEGMENT OVERLAP WINDOW
 //     -> freq_hz, then re and im of S_ij for every pair i <= j
@@ -9,13 +9,13 @@
 #include <iostream>
 #include <string>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/delimited.hpp"
-#include "loopmargin/ingest/recording.hpp"
-#include "loopmargin/run_config.hpp"
-#include "loopmargin/spectral/welch.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/delimited.hpp"
+#include "loopaudit/ingest/recording.hpp"
+#include "loopaudit/run_config.hpp"
+#include "loopaudit/spectral/welch.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

@@ -1,4 +1,4 @@
-"""Welch spectra, coherence and windows of loopmargin against scipy.signal.
+"""Welch spectra, coherence and windows of loopaudit against scipy.signal.
 
 scipy.signal (Debian's python3-scipy) is the reference library: csd(x, y)
 is conj(X) Y averaged over Hann-windowed segments with the segment mean

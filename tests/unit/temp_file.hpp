@@ -12,7 +12,7 @@ class TempFile {
  public:
   explicit TempFile(const std::string& content, const std::string& suffix = ".csv") {
     std::random_device device;
-    path_ = (std::filesystem::temp_directory_path() / ("loopmargin_test_" + std::to_string(device()) + suffix)).string();
+    path_ = (std::filesystem::temp_directory_path() / ("loopaudit_test_" + std::to_string(device()) + suffix)).string();
     std::ofstream(path_, std::ios::binary) << content;
   }
   ~TempFile() {

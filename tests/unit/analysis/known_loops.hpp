@@ -10,8 +10,8 @@
 #include <string>
 #include <vector>
 
-#include "loopmargin/analysis/margins.hpp"
-#include "loopmargin/spectral/response.hpp"
+#include "loopaudit/analysis/margins.hpp"
+#include "loopaudit/spectral/response.hpp"
 
 namespace known {
 
@@ -23,7 +23,7 @@ inline double hz(double omega) { return omega / kTwoPi; }
 
 struct KnownLoop {
   std::string name;
-  loopmargin::LoopFunction loop;
+  loopaudit::LoopFunction loop;
   double low_hz;
   double high_hz;
   std::optional<double> gain_crossover_rad_s;  // the one with the smallest PM
@@ -71,8 +71,8 @@ inline Complex discrete_hold_loop(double frequency_hz) {
 }
 
 // Lines on a logarithmic grid, `per_decade` to a decade.
-inline loopmargin::Response sample(const loopmargin::LoopFunction& loop, double low_hz, double high_hz, int per_decade) {
-  loopmargin::Response r;
+inline loopaudit::Response sample(const loopaudit::LoopFunction& loop, double low_hz, double high_hz, int per_decade) {
+  loopaudit::Response r;
   const int count = static_cast<int>(std::ceil(std::log10(high_hz / low_hz) * per_decade)) + 1;
   for (int k = 0; k < count; ++k) {
     const double f = low_hz * std::pow(high_hz / low_hz, static_cast<double>(k) / (count - 1));

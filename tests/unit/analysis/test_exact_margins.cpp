@@ -1,9 +1,9 @@
 #include <catch2/catch.hpp>
 
 #include "analysis/known_loops.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/units.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 // Root finding to the last bit leaves only the reference values' own

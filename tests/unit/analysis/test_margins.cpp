@@ -2,10 +2,10 @@
 #include <random>
 
 #include "analysis/known_loops.hpp"
-#include "loopmargin/error.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

@@ -2,9 +2,9 @@
 #include <catch2/catch.hpp>
 
 #include "known_loops.hpp"
-#include "loopmargin/analysis/nyquist.hpp"
+#include "loopaudit/analysis/nyquist.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

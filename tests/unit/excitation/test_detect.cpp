@@ -1,10 +1,10 @@
 #include <catch2/catch.hpp>
 #include <random>
 
-#include "loopmargin/excitation/excitation.hpp"
-#include "loopmargin/synth/simulate.hpp"
+#include "loopaudit/excitation/excitation.hpp"
+#include "loopaudit/synth/simulate.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

@@ -1,11 +1,11 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "loopmargin/pipeline.hpp"
-#include "loopmargin/synth/simulate.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/pipeline.hpp"
+#include "loopaudit/synth/simulate.hpp"
+#include "loopaudit/units.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

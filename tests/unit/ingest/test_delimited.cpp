@@ -3,11 +3,11 @@
 #include <random>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/delimited.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/delimited.hpp"
 #include "temp_file.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 using testing::TempFile;
 
 namespace {

@@ -3,11 +3,11 @@
 #include <numbers>
 #include <random>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/quality.hpp"
-#include "loopmargin/spectral/welch.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/quality.hpp"
+#include "loopaudit/spectral/welch.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

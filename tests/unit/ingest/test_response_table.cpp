@@ -2,11 +2,11 @@
 #include <cmath>
 #include <numbers>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/response_table.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/response_table.hpp"
 #include "temp_file.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 using testing::TempFile;
 
 namespace {

@@ -1,9 +1,9 @@
 #include <catch2/catch.hpp>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/loop/loop.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/loop/loop.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 Response lines_of(std::vector<std::complex<double>> values) {

@@ -4,14 +4,14 @@
 #include <nlohmann/json.hpp>
 #include <sstream>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/ingest/response_table.hpp"
-#include "loopmargin/report/atomic_file.hpp"
-#include "loopmargin/report/csv_report.hpp"
-#include "loopmargin/report/json_report.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/ingest/response_table.hpp"
+#include "loopaudit/report/atomic_file.hpp"
+#include "loopaudit/report/csv_report.hpp"
+#include "loopaudit/report/json_report.hpp"
 #include "temp_file.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 std::string read_text(const std::string& path) {

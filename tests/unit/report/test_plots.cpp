@@ -5,12 +5,12 @@
 #include <limits>
 
 #include "analysis/known_loops.hpp"
-#include "loopmargin/report/html_report.hpp"
-#include "loopmargin/report/plots.hpp"
+#include "loopaudit/report/html_report.hpp"
+#include "loopaudit/report/plots.hpp"
 #include "report/sha256.hpp"
 #include "report/svg.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

@@ -3,11 +3,11 @@
 #include <numbers>
 #include <random>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/spectral/response.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/spectral/response.hpp"
+#include "loopaudit/units.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 TEST_CASE("random error of a response estimate follows Bendat and Piersol", "[spectral][response]") {
   // Bendat and Piersol, "Random Data", 4th ed., 2010, sec. 9.2.3:

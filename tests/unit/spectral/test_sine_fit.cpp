@@ -3,10 +3,10 @@
 #include <numbers>
 #include <random>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/spectral/sine_fit.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/spectral/sine_fit.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

@@ -3,10 +3,10 @@
 #include <numbers>
 #include <random>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/spectral/stepped.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/spectral/stepped.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 

@@ -1,10 +1,10 @@
 #include <catch2/catch.hpp>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/spectral/welch.hpp"
-#include "loopmargin/spectral/window.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/spectral/welch.hpp"
+#include "loopaudit/spectral/window.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 
 namespace {
 // Periodic windows of this length match the closed forms to about 1e-6.

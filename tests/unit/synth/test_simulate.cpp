@@ -2,13 +2,13 @@
 #include <cmath>
 #include <numbers>
 
-#include "loopmargin/error.hpp"
-#include "loopmargin/pipeline.hpp"
-#include "loopmargin/synth/simulate.hpp"
-#include "loopmargin/units.hpp"
+#include "loopaudit/error.hpp"
+#include "loopaudit/pipeline.hpp"
+#include "loopaudit/synth/simulate.hpp"
+#include "loopaudit/units.hpp"
 #include "temp_file.hpp"
 
-using namespace loopmargin;
+using namespace loopaudit;
 using Complex = std::complex<double>;
 
 namespace {
@@ -149,7 +149,7 @@ zeros = [{ hz = 10 }]
 
 TEST_CASE("the bundled demo scenarios load", "[synth]") {
   for (const char* name : {"buck_48v_12v.toml", "servo_velocity.toml"}) {
-    const Scenario s = load_scenario(std::string(LOOPMARGIN_TEST_DATA) + "/../../data/demo/" + name);
+    const Scenario s = load_scenario(std::string(LOOPAUDIT_TEST_DATA) + "/../../data/demo/" + name);
     CHECK(s.stages.size() >= 2);
   }
 }

@@ -1,0 +1,53 @@
+// Closed-loop stability from the Nyquist criterion, over the measured band.
+//
+// With P open-loop poles in the right half plane and N clockwise
+// encirclements of -1 by L along the whole Nyquist contour, the closed loop
+// has Z = N + P poles in the right half plane. N is counted as the signed
+// crossings of the ray (-inf, -1) by L: angle L decreasing through an odd
+// multiple of 180 deg while |L| > 1 counts +1. The positive-frequency branch
+// counts twice (its mirror image at negative frequency crosses the same way);
+// the arc that joins the branches at s = 0 counts once.
+//
+// What the band cannot show is assumed, and the assumptions are listed with
+// the verdict:
+//   * above the band |L| stays below 1 (no crossing there), so the top line
+//     must have |L| clearly below 1;
+//   * below the band L follows n integrators (n from the slope of the lowest
+//     lines) and does not cross the negative real axis again, so the bottom
+//     line must have |L| clearly above 1.
+#pragma once
+
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "loopaudit/spectral/response.hpp"
+
+namespace loopaudit {
+
+enum class StabilityVerdict { kStable, kUnstable, kUndecided };
+const char* verdict_name(StabilityVerdict verdict);  // "stable" / "unstable" / "undecided"
+
+struct StabilityAssessment {
+  StabilityVerdict verdict = StabilityVerdict::kUndecided;
+  int open_loop_rhp_poles = 0;               // P, as given
+  std::optional<int> encirclements;          // N, clockwise; unset when undecided for lack of band
+  std::optional<int> closed_loop_rhp_poles;  // Z = N + P
+  int low_frequency_integrators = 0;         // n, read from the slope at the bottom of the band
+  std::string reason;                        // one sentence: why this verdict
+  std::vector<std::string> assumptions;
+};
+
+struct StabilityOptions {
+  int open_loop_rhp_poles = 0;
+  // A crossing or band end this many standard deviations from |L| = 1 is
+  // clear of it.
+  double clear_sigmas = 2.0;
+  // Lines whose relative standard deviation (of |L| in nepers, of angle L in
+  // rad) exceeds this carry no usable phase and are left out of the count.
+  double max_relative_sigma = 0.5;
+};
+
+StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options = {});
+
+}  // namespace loopaudit

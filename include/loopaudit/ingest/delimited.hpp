@@ -1,0 +1,31 @@
+// Delimited text recordings (CSV, TSV, semicolon-separated).
+//
+// The first non-blank line names the columns. One column may hold the time in
+// seconds; the sample rate then comes from the whole span of that column and
+// every step is checked against it (see src/ingest/stamp_check.hpp). Without a
+// time column the sample rate must be stated. Every other column is a channel.
+#pragma once
+
+#include <cstddef>
+#include <memory>
+#include <optional>
+#include <string>
+
+#include "loopaudit/record/record.hpp"
+
+namespace loopaudit {
+
+struct DelimitedOptions {
+  std::optional<char> delimiter;         // unset: the most frequent of , ; and tab in the header
+  std::string time_column;               // empty: a column named t, time or time_s, if any
+  std::optional<double> sample_rate_hz;  // overrides the time column; required without one
+  std::size_t block_size = 65536;        // samples per block handed out
+};
+
+// Opens the file and reads its header. Throws InputError for a missing file
+// or an unusable header, ConfigError for a named time column that is absent.
+// Rows are parsed as next() is called; a bad cell throws InputError naming
+// the file, line and column.
+std::unique_ptr<SampleSource> open_delimited(const std::string& path, const DelimitedOptions& options);
+
+}  // namespace loopaudit

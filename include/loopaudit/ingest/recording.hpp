@@ -1,0 +1,63 @@
+// Opening a recording in any supported format, and the layouts of formats
+// that do not describe themselves.
+//
+// Formats: delimited text (CSV, TSV, semicolon with decimal comma), raw
+// binary, WAV (through libsndfile) and HDF5. Each is one SampleSource in its
+// own file under src/ingest/; a new format is a new file and a line here.
+#pragma once
+
+#include <cstddef>
+#include <memory>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "loopaudit/ingest/delimited.hpp"
+#include "loopaudit/record/record.hpp"
+
+namespace loopaudit {
+
+enum class RecordingFormat { kAuto, kText, kRaw, kWav, kHdf5 };
+
+// Accepted names: "auto", "text", "raw", "wav", "hdf5". Throws ConfigError.
+RecordingFormat format_from_name(const std::string& name);
+
+enum class SampleType { kInt16, kInt32, kFloat32, kFloat64 };
+SampleType sample_type_from_name(const std::string& name);  // int16, int32, float32, float64
+std::size_t sample_type_bytes(SampleType type);
+
+// Interleaved binary samples after an optional header; value = raw * scale + offset.
+struct RawLayout {
+  SampleType sample_type = SampleType::kInt16;
+  bool big_endian = false;
+  std::size_t header_bytes = 0;
+};
+
+struct Hdf5Layout {
+  std::string dataset;                // one 2-D dataset (samples x channels, or channels x samples)
+  std::vector<std::string> datasets;  // or one 1-D dataset per channel
+  std::string rate_attribute = "sample_rate_hz";  // looked up on the dataset(s), then on the file
+};
+
+struct RecordingOptions {
+  RecordingFormat format = RecordingFormat::kAuto;  // auto: by file extension
+  // Channel names in file order for formats without names (raw, WAV,
+  // unlabelled HDF5); default z, x, y, then ch4, ch5, ...
+  std::vector<std::string> channel_names;
+  std::optional<double> sample_rate_hz;  // required for raw; overrides what a file says
+  std::vector<double> scale;             // per channel (one value: all channels); default 1
+  std::vector<double> offset;            // per channel; default 0
+  DelimitedOptions text;
+  RawLayout raw;
+  Hdf5Layout hdf5;
+  std::size_t block_size = 65536;
+};
+
+// Throws InputError when the file cannot be opened or does not match its
+// format, ConfigError when the options do not fit the file.
+std::unique_ptr<SampleSource> open_recording(const std::string& path, const RecordingOptions& options);
+
+// The names channels get when the file and the options give none.
+std::vector<std::string> default_channel_names(std::size_t count);
+
+}  // namespace loopaudit

@@ -1,0 +1,28 @@
+// The human-readable summary printed on the terminal.
+#pragma once
+
+#include <optional>
+#include <ostream>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "loopaudit/pipeline.hpp"
+
+namespace loopaudit {
+
+// The margins table, the method line and the findings. With `truth`, a
+// second column shows the truth of a synthetic recording. `value_heading`
+// names the column of results ("measured", or "exact" for a model).
+void write_text_report(std::ostream& out, const AnalysisResult& result,
+                       const std::optional<MarginSummary>& truth = std::nullopt,
+                       const std::string& value_heading = "measured");
+
+// How the result was obtained, as (label, text) lines: recording, excitation,
+// estimate, loop. Shared by the terminal summary and the HTML report.
+std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisResult& result);
+
+// What `inspect` prints: the recording, the excitation found, the findings.
+void write_inspection(std::ostream& out, const Inspection& inspection);
+
+}  // namespace loopaudit

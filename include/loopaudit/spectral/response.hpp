@@ -1,0 +1,60 @@
+// Frequency response of y against x from averaged spectra.
+//
+// Reference method: Y/X = S_ry / S_rx with r a channel correlated with the
+// injection. Noise inside the loop, uncorrelated with r, does not bias it.
+// Two-channel method: H1 = S_xy / S_xx, biased in a closed loop because the
+// loop feeds noise back into x; offered for open-loop elements.
+//
+// Per-line uncertainty (first order, complex-Gaussian errors): with
+// e = y - H x the part of y not explained through r,
+//   var(H)/|H|^2 = S_rr S_ee / (n_d |S_rx|^2 |H|^2),
+// split equally between ln|H| and arg H. With r = x it reduces to
+// J. S. Bendat, A. G. Piersol, "Random Data", 4th ed., Wiley 2010, sec. 9.2.3:
+// eps = sqrt(1 - gamma^2) / (|gamma| sqrt(2 n_d)).
+#pragma once
+
+#include <complex>
+#include <string>
+#include <vector>
+
+#include "loopaudit/record/diagnostic.hpp"
+#include "loopaudit/spectral/welch.hpp"
+
+namespace loopaudit {
+
+enum class Estimator { kReference, kTwoChannel };
+
+// Roles of the channels of the CrossSpectra handed to estimate_response.
+inline constexpr std::size_t kReferenceChannel = 0;
+inline constexpr std::size_t kInputChannel = 1;   // x
+inline constexpr std::size_t kOutputChannel = 2;  // y
+
+struct ResponseOptions {
+  Estimator estimator = Estimator::kReference;
+  // Lines whose reference power lies more than this far below its peak carry
+  // no injection and are not reported.
+  double injection_floor_db = 40.0;
+};
+
+struct Response {
+  std::vector<double> frequency_hz;
+  std::vector<std::complex<double>> value;
+  // Magnitude-squared coherence; for the reference method the smaller of
+  // gamma^2(r, x) and gamma^2(r, y). Empty when unknown (a table).
+  std::vector<double> coherence;
+  // Standard deviation of ln|H| (nepers) and of arg H (rad), equal to first
+  // order; 0 where unknown (a table without uncertainty).
+  std::vector<double> relative_sigma;
+  double effective_averages = 0.0;
+
+  std::size_t size() const { return frequency_hz.size(); }
+};
+
+// Throws NumericalError when no line carries injection power.
+Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& options, Diagnostics& findings);
+
+// Bendat and Piersol's normalised random error of |H| (also the standard
+// deviation of the phase in radians) for coherence gamma^2 and n_d averages.
+double bendat_piersol_random_error(double coherence, double averages);
+
+}  // namespace loopaudit
