@@ -7,7 +7,7 @@
 #include <random>
 #include <string>
 
-#include "spectral/fft_plan.hpp"
+#include "fft/fft_plan.hpp"
 
 int main(int argc, char** argv) {
   if (argc < 3) {

@@ -498,10 +498,6 @@ double two_sided_z(double confidence) {
   return 0.5 * (low + high);
 }
 
-const char* direction_name(GainDirection direction) {
-  return direction == GainDirection::kIncrease ? "increase" : "decrease";
-}
-
 Margins find_margins(const Response& loop, const MarginOptions& options) {
   if (loop.size() < 2) return too_few_lines(loop, options);
   if (options.fit_half_width < 1) throw ConfigError("the local fit needs at least one line on each side");

@@ -141,15 +141,6 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
 
 }  // namespace
 
-const char* verdict_name(StabilityVerdict verdict) {
-  switch (verdict) {
-    case StabilityVerdict::kStable: return "stable";
-    case StabilityVerdict::kUnstable: return "unstable";
-    case StabilityVerdict::kUndecided: return "undecided";
-  }
-  return "undecided";
-}
-
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
   StabilityAssessment a;
   a.open_loop_rhp_poles = options.open_loop_rhp_poles;

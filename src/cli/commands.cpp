@@ -12,13 +12,15 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/ingest/recording.hpp"
 #include "loopaudit/ingest/response_table.hpp"
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/ingest/truth_file.hpp"
+#include "loopaudit/loop/loop.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/report/atomic_file.hpp"
 #include "loopaudit/report/csv_report.hpp"
 #include "loopaudit/report/json_report.hpp"
 #include "loopaudit/report/text_report.hpp"
-#include "loopaudit/run_config.hpp"
-#include "loopaudit/synth/simulate.hpp"
+#include "loopaudit/config/run_config.hpp"
+#include "loopaudit/synth/truth_file.hpp"
 
 namespace loopaudit::cli {
 namespace {

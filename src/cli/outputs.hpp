@@ -6,7 +6,7 @@
 #include <optional>
 #include <string>
 
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/result.hpp"
 
 namespace loopaudit::cli {
 

@@ -1,8 +1,10 @@
-#include "loopaudit/run_config.hpp"
+#include "loopaudit/config/run_config.hpp"
+
 #include <cmath>
 
-#include "config/toml_fields.hpp"
+#include "ingest/toml_fields.hpp"
 #include "loopaudit/error.hpp"
+#include "loopaudit/loop/loop.hpp"
 
 namespace loopaudit {
 namespace {

@@ -6,8 +6,8 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/excitation/excitation.hpp"
 #include "loopaudit/format.hpp"
-#include "loopaudit/spectral/window.hpp"
-#include "spectral/fft_plan.hpp"
+#include "loopaudit/fft/window.hpp"
+#include "fft/fft_plan.hpp"
 
 namespace loopaudit {
 namespace {

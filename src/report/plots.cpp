@@ -8,6 +8,7 @@
 #include <optional>
 
 #include "loopaudit/format.hpp"
+#include "loopaudit/loop/loop.hpp"
 #include "loopaudit/units.hpp"
 #include "report/svg.hpp"
 

@@ -1,6 +1,7 @@
 #include "loopaudit/report/text_report.hpp"
 
 #include "loopaudit/format.hpp"
+#include "loopaudit/loop/loop.hpp"
 #include "report/interval_text.hpp"
 
 #include <algorithm>

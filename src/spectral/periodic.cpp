@@ -7,7 +7,7 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/format.hpp"
 #include "loopaudit/units.hpp"
-#include "spectral/fft_plan.hpp"
+#include "fft/fft_plan.hpp"
 
 namespace loopaudit {
 namespace {

@@ -11,7 +11,7 @@
 #include <thread>
 
 #include "loopaudit/error.hpp"
-#include "spectral/fft_plan.hpp"
+#include "fft/fft_plan.hpp"
 
 namespace loopaudit {
 namespace {

@@ -3,7 +3,7 @@
 #include <cmath>
 #include <sstream>
 
-#include "config/toml_fields.hpp"
+#include "ingest/toml_fields.hpp"
 #include "loopaudit/error.hpp"
 
 namespace loopaudit {

@@ -7,7 +7,7 @@
 
 #include "loopaudit/error.hpp"
 #include "synth/injection_signal.hpp"
-#include "synth/state_space.hpp"
+#include "model/state_space.hpp"
 
 namespace loopaudit {
 namespace {

@@ -21,7 +21,7 @@
 #include <vector>
 
 #include "loopaudit/error.hpp"
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/synth/simulate.hpp"
 
 using namespace loopaudit;

@@ -4,7 +4,7 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/excitation/schedule.hpp"
 #include "loopaudit/ingest/response_table.hpp"
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   using namespace loopaudit;

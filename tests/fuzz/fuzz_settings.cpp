@@ -1,7 +1,7 @@
 // Run settings and scenario files (TOML).
 #include "fuzz_common.hpp"
 #include "loopaudit/error.hpp"
-#include "loopaudit/run_config.hpp"
+#include "loopaudit/config/run_config.hpp"
 #include "loopaudit/synth/scenario.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {

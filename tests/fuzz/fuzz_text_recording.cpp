@@ -3,7 +3,7 @@
 #include "fuzz_common.hpp"
 #include "loopaudit/error.hpp"
 #include "loopaudit/ingest/recording.hpp"
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 
 extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   using namespace loopaudit;

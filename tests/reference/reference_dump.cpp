@@ -12,7 +12,7 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/ingest/delimited.hpp"
 #include "loopaudit/ingest/recording.hpp"
-#include "loopaudit/run_config.hpp"
+#include "loopaudit/config/run_config.hpp"
 #include "loopaudit/spectral/welch.hpp"
 
 using namespace loopaudit;

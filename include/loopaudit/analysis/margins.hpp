@@ -19,115 +19,14 @@
 #include <vector>
 
 #include "loopaudit/analysis/nyquist.hpp"
+#include "loopaudit/record/margins.hpp"
 #include "loopaudit/record/diagnostic.hpp"
-#include "loopaudit/spectral/response.hpp"
+#include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
 
-enum class GainDirection { kIncrease, kDecrease };
-
-// Reasons to trust a crossing less than its interval says, as stable names:
-//   "low-coherence"  a line of its local fit has coherence at or below 0.5
-//   "band-edge"      it lies within two lines of the end of the band
-//   "sparse-lines"   its neighbouring lines are more than 10 % apart in frequency
-inline constexpr const char* kTrustLowCoherence = "low-coherence";
-inline constexpr const char* kTrustBandEdge = "band-edge";
-inline constexpr const char* kTrustSparseLines = "sparse-lines";
-
-// A two-sided interval at MarginOptions::confidence, from the lines'
-// uncertainty propagated through the local fits (first order). Absent for
-// lines without uncertainty (an exact table).
-struct Interval {
-  double low = 0.0;
-  double high = 0.0;
-};
-const char* direction_name(GainDirection direction);  // "increase" / "decrease"
-
-struct GainCrossover {
-  double frequency_hz = 0.0;
-  double phase_margin_deg = 0.0;
-  double delay_margin_s = 0.0;  // negative when PM is negative
-  std::size_t merged_crossings = 1;  // noise crossings merged into this one
-  std::optional<Interval> frequency_ci_hz;
-  std::optional<Interval> phase_margin_ci_deg;
-  std::optional<Interval> delay_margin_ci_s;
-  std::vector<std::string> trust_flags;  // see TrustFlag below; empty when nothing calls it into question
-};
-
-struct PhaseCrossover {
-  double frequency_hz = 0.0;
-  double gain_margin_db = 0.0;
-  GainDirection limits = GainDirection::kIncrease;  // the gain change this crossing limits
-  std::size_t merged_crossings = 1;
-  std::optional<Interval> frequency_ci_hz;
-  std::optional<Interval> gain_margin_ci_db;
-  std::vector<std::string> trust_flags;
-};
-
-struct ModulusPoint {
-  double frequency_hz = 0.0;
-  double modulus_margin = 0.0;        // min |1 + L|
-  double peak_sensitivity_db = 0.0;   // 20 log10 (1 / min |1 + L|)
-  bool at_band_edge = false;          // the minimum may lie outside the band
-  std::optional<Interval> modulus_margin_ci;
-  std::optional<Interval> peak_sensitivity_ci_db;
-};
-
-// Balanced disk margin (skew 0): alpha = 2 / max |S - T| over the band, with
-// S = 1/(1+L), T = L/(1+L), so S - T = (1-L)/(1+L). The loop tolerates any
-// simultaneous gain change within [(2-alpha)/(2+alpha), (2+alpha)/(2-alpha)]
-// and phase change within +-2 atan(alpha/2) (P. Seiler, A. Packard,
-// P. Gahinet, "An introduction to disk margins", IEEE Control Systems
-// Magazine, 2020). Over the measured band only.
-struct DiskMargin {
-  double alpha = 0.0;
-  double frequency_hz = 0.0;             // where |S - T| peaks
-  double gain_low_db = 0.0;              // 20 log10 (2-alpha)/(2+alpha); -inf when alpha >= 2
-  std::optional<double> gain_high_db;    // 20 log10 (2+alpha)/(2-alpha); unset (unbounded) when alpha >= 2
-  double phase_deg = 0.0;                // 2 atan(alpha/2)
-  bool at_band_edge = false;
-  std::optional<Interval> alpha_ci;
-  std::optional<Interval> phase_ci_deg;
-  std::optional<Interval> gain_high_ci_db;  // high end +inf when the interval reaches alpha = 2; gain_low is its negative
-};
-
 // The disk margin of a given peak of |S - T| at a frequency.
 DiskMargin disk_margin_from_peak(double peak, double frequency_hz, bool at_band_edge);
-
-struct MarginSummary {
-  std::optional<double> gain_crossover_hz;   // the crossover with the smallest phase margin
-  std::optional<double> phase_margin_deg;    // the smallest over gain crossovers
-  std::optional<double> phase_crossover_hz;  // the crossing with the smallest |GM|
-  std::optional<double> gain_margin_db;      // the smallest in magnitude, sign kept
-  std::optional<double> gain_increase_margin_db;   // smallest positive GM
-  std::optional<double> gain_reduction_margin_db;  // negative GM closest to 0
-  std::optional<double> delay_margin_s;      // smallest over gain crossovers
-  std::optional<double> modulus_margin;
-  std::optional<double> peak_sensitivity_db;
-  std::optional<double> modulus_frequency_hz;
-  // Intervals of the values above, from the crossing each value came from.
-  std::optional<Interval> gain_crossover_ci_hz;
-  std::optional<Interval> phase_margin_ci_deg;
-  std::optional<Interval> phase_crossover_ci_hz;
-  std::optional<Interval> gain_margin_ci_db;
-  std::optional<Interval> delay_margin_ci_s;
-  std::optional<Interval> modulus_margin_ci;
-  std::optional<Interval> peak_sensitivity_ci_db;
-};
-
-struct Margins {
-  std::vector<GainCrossover> gain_crossovers;    // ascending frequency
-  std::vector<PhaseCrossover> phase_crossovers;  // ascending frequency
-  std::optional<ModulusPoint> modulus;
-  std::optional<DiskMargin> disk;
-  MarginSummary summary;
-  StabilityAssessment stability;
-  double band_low_hz = 0.0;
-  double band_high_hz = 0.0;
-  std::size_t line_count = 0;
-  double confidence = 0.95;  // of the intervals
-  Diagnostics findings;
-};
 
 // The standard normal quantile z with P(|Z| < z) = confidence.
 double two_sided_z(double confidence);

@@ -21,22 +21,10 @@
 #include <string>
 #include <vector>
 
-#include "loopaudit/spectral/response.hpp"
+#include "loopaudit/record/margins.hpp"
+#include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
-
-enum class StabilityVerdict { kStable, kUnstable, kUndecided };
-const char* verdict_name(StabilityVerdict verdict);  // "stable" / "unstable" / "undecided"
-
-struct StabilityAssessment {
-  StabilityVerdict verdict = StabilityVerdict::kUndecided;
-  int open_loop_rhp_poles = 0;               // P, as given
-  std::optional<int> encirclements;          // N, clockwise; unset when undecided for lack of band
-  std::optional<int> closed_loop_rhp_poles;  // Z = N + P
-  int low_frequency_integrators = 0;         // n, read from the slope at the bottom of the band
-  std::string reason;                        // one sentence: why this verdict
-  std::vector<std::string> assumptions;
-};
 
 struct StabilityOptions {
   int open_loop_rhp_poles = 0;

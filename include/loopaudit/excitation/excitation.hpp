@@ -17,6 +17,7 @@
 #include <vector>
 
 #include "loopaudit/record/diagnostic.hpp"
+#include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
 
@@ -24,12 +25,6 @@ enum class ExcitationKind { kBroadband, kPeriodic, kStepped, kChirp };
 const char* excitation_name(ExcitationKind kind);  // "broadband", "periodic", "stepped", "chirp"
 ExcitationKind excitation_from_name(const std::string& name);  // throws ConfigError
 
-// A stretch of a stepped sine at one frequency, in samples from the start.
-struct Dwell {
-  std::size_t first_sample = 0;
-  std::size_t end_sample = 0;  // one past the last
-  double frequency_hz = 0.0;   // from the zero crossings; refined by the fits later
-};
 
 struct ExcitationPlan {
   ExcitationKind kind = ExcitationKind::kBroadband;

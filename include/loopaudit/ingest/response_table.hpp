@@ -9,7 +9,7 @@
 
 #include <string>
 
-#include "loopaudit/spectral/response.hpp"
+#include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
 

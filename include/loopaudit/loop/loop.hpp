@@ -5,25 +5,14 @@
 #include <string_view>
 
 #include "loopaudit/record/diagnostic.hpp"
-#include "loopaudit/spectral/response.hpp"
+#include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
-
-enum class Convention {
-  kSeriesInjection,  // H = Y/X across a series injection point, x = y + z: L = -H
-  kDirect,           // H already is L (an open loop measured or modelled as a whole)
-  kClosedLoop,       // H = T, reference to output with unity feedback: L = T / (1 - T)
-};
 
 // Accepted names: "series-injection", "direct", "closed-loop".
 Convention convention_from_name(std::string_view name);
 const char* convention_name(Convention convention);
 const char* convention_formula(Convention convention);  // e.g. "L = -Y/X"
-
-struct LoopResponse {
-  Response lines;  // values are L; relative_sigma carried through the conversion
-  Convention convention = Convention::kSeriesInjection;
-};
 
 // Converts and checks plausibility: a warning (code loop.sign-suspect) when
 // the low end of the band has high gain with phase in (+30, +179) deg, which

@@ -4,7 +4,7 @@
 #include <ostream>
 
 #include "loopaudit/record/record.hpp"
-#include "loopaudit/spectral/response.hpp"
+#include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
 

@@ -8,7 +8,7 @@
 #include <string>
 #include <vector>
 
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/result.hpp"
 #include "loopaudit/report/plots.hpp"
 
 namespace loopaudit {

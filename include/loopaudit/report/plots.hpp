@@ -10,7 +10,7 @@
 #include <string>
 #include <vector>
 
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/result.hpp"
 
 namespace loopaudit {
 

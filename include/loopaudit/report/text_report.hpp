@@ -7,7 +7,7 @@
 #include <utility>
 #include <vector>
 
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/result.hpp"
 
 namespace loopaudit {
 

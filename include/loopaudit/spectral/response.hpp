@@ -18,6 +18,7 @@
 #include <vector>
 
 #include "loopaudit/record/diagnostic.hpp"
+#include "loopaudit/record/response.hpp"
 #include "loopaudit/spectral/welch.hpp"
 
 namespace loopaudit {
@@ -36,19 +37,6 @@ struct ResponseOptions {
   double injection_floor_db = 40.0;
 };
 
-struct Response {
-  std::vector<double> frequency_hz;
-  std::vector<std::complex<double>> value;
-  // Magnitude-squared coherence; for the reference method the smaller of
-  // gamma^2(r, x) and gamma^2(r, y). Empty when unknown (a table).
-  std::vector<double> coherence;
-  // Standard deviation of ln|H| (nepers) and of arg H (rad), equal to first
-  // order; 0 where unknown (a table without uncertainty).
-  std::vector<double> relative_sigma;
-  double effective_averages = 0.0;
-
-  std::size_t size() const { return frequency_hz.size(); }
-};
 
 // Throws NumericalError when no line carries injection power.
 Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& options, Diagnostics& findings);

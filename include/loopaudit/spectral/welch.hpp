@@ -17,7 +17,7 @@
 #include <vector>
 
 #include "loopaudit/record/diagnostic.hpp"
-#include "loopaudit/spectral/window.hpp"
+#include "loopaudit/fft/window.hpp"
 
 namespace loopaudit {
 

@@ -7,26 +7,9 @@
 #include <string>
 #include <vector>
 
+#include "loopaudit/model/transfer_function.hpp"
+
 namespace loopaudit {
-
-// One factor of a transfer function in s (rad/s): a real root (1 + s/w) or a
-// complex pair (1 + s/(Q w) + s^2/w^2), with w = 2 pi frequency_hz.
-struct Factor {
-  double frequency_hz = 0.0;
-  std::optional<double> quality;  // present for a pair
-};
-
-enum class Discretization { kZeroOrderHold, kBilinear };
-
-// gain * prod(zeros) / (s^integrators * prod(poles)).
-struct Stage {
-  std::string name;
-  double gain = 1.0;
-  int integrators = 0;
-  std::vector<Factor> zeros;
-  std::vector<Factor> poles;
-  Discretization discretization = Discretization::kZeroOrderHold;
-};
 
 enum class InjectionKind { kNoise, kMultisine, kPrbs, kStepped, kChirp };
 const char* injection_kind_name(InjectionKind kind);

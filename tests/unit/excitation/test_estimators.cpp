@@ -1,7 +1,7 @@
 #include <catch2/catch.hpp>
 #include <cmath>
 
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/synth/simulate.hpp"
 #include "loopaudit/units.hpp"
 

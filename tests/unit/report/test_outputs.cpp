@@ -6,6 +6,7 @@
 
 #include "loopaudit/error.hpp"
 #include "loopaudit/ingest/response_table.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/report/atomic_file.hpp"
 #include "loopaudit/report/csv_report.hpp"
 #include "loopaudit/report/json_report.hpp"

@@ -5,6 +5,8 @@
 #include <limits>
 
 #include "analysis/known_loops.hpp"
+#include "loopaudit/loop/loop.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/report/html_report.hpp"
 #include "loopaudit/report/plots.hpp"
 #include "report/sha256.hpp"

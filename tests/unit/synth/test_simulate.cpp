@@ -3,7 +3,7 @@
 #include <numbers>
 
 #include "loopaudit/error.hpp"
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/synth/simulate.hpp"
 #include "loopaudit/units.hpp"
 #include "temp_file.hpp"

@@ -1,4 +1,4 @@
-#include "loopaudit/spectral/window.hpp"
+#include "loopaudit/fft/window.hpp"
 
 #include <cmath>
 #include <complex>

@@ -1,10 +1,11 @@
-// Single-input single-output state-space models for synthesis.
+// Single-input single-output state-space models of a Stage, continuous and
+// discretised (synthesis simulates them; the model stage evaluates them).
 #pragma once
 
 #include <Eigen/Dense>
 #include <complex>
 
-#include "loopaudit/synth/scenario.hpp"
+#include "loopaudit/model/transfer_function.hpp"
 
 namespace loopaudit::detail {
 

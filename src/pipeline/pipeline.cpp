@@ -1,4 +1,4 @@
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 
 #include <algorithm>
 #include <sstream>
@@ -6,6 +6,7 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/excitation/schedule.hpp"
 #include "loopaudit/ingest/quality.hpp"
+#include "loopaudit/loop/loop.hpp"
 #include "loopaudit/spectral/periodic.hpp"
 #include "loopaudit/spectral/stepped.hpp"
 

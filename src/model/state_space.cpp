@@ -1,4 +1,4 @@
-#include "synth/state_space.hpp"
+#include "model/state_space.hpp"
 
 #include <unsupported/Eigen/MatrixFunctions>
 #include <algorithm>

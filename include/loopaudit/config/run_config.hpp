@@ -5,7 +5,7 @@
 #include <string>
 
 #include "loopaudit/ingest/recording.hpp"
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/options.hpp"
 
 namespace loopaudit {
 

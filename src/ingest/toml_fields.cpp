@@ -1,4 +1,4 @@
-#include "config/toml_fields.hpp"
+#include "ingest/toml_fields.hpp"
 
 #include <cmath>
 #include <filesystem>

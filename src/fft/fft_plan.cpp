@@ -1,4 +1,4 @@
-#include "spectral/fft_plan.hpp"
+#include "fft/fft_plan.hpp"
 
 #include <fftw3.h>
 

@@ -2,7 +2,7 @@
 
 #include "loopaudit/error.hpp"
 #include "loopaudit/spectral/welch.hpp"
-#include "loopaudit/spectral/window.hpp"
+#include "loopaudit/fft/window.hpp"
 
 using namespace loopaudit;
 
