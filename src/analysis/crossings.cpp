@@ -179,34 +179,27 @@ GainDirection direction_of(double gain_margin_db) {
 MarginSummary summarize(const Margins& margins) {
   MarginSummary summary;
   for (const GainCrossover& c : margins.gain_crossovers) {
-    if (!summary.phase_margin_deg || c.phase_margin_deg < *summary.phase_margin_deg) {
+    if (!summary.phase_margin_deg || c.phase_margin_deg.value < summary.phase_margin_deg->value) {
       summary.phase_margin_deg = c.phase_margin_deg;
-      summary.phase_margin_ci_deg = c.phase_margin_ci_deg;
       summary.gain_crossover_hz = c.frequency_hz;
-      summary.gain_crossover_ci_hz = c.frequency_ci_hz;
     }
-    if (!summary.delay_margin_s || c.delay_margin_s < *summary.delay_margin_s) {
+    if (!summary.delay_margin_s || c.delay_margin_s.value < summary.delay_margin_s->value) {
       summary.delay_margin_s = c.delay_margin_s;
-      summary.delay_margin_ci_s = c.delay_margin_ci_s;
     }
   }
   for (const PhaseCrossover& c : margins.phase_crossovers) {
-    const double gm = c.gain_margin_db;
-    if (!summary.gain_margin_db || std::abs(gm) < std::abs(*summary.gain_margin_db)) {
-      summary.gain_margin_db = gm;
-      summary.gain_margin_ci_db = c.gain_margin_ci_db;
+    const double gm = c.gain_margin_db.value;
+    if (!summary.gain_margin_db || std::abs(gm) < std::abs(summary.gain_margin_db->value)) {
+      summary.gain_margin_db = c.gain_margin_db;
       summary.phase_crossover_hz = c.frequency_hz;
-      summary.phase_crossover_ci_hz = c.frequency_ci_hz;
     }
     auto& directed = gm >= 0.0 ? summary.gain_increase_margin_db : summary.gain_reduction_margin_db;
-    if (!directed || std::abs(gm) < std::abs(*directed)) directed = gm;
+    if (!directed || std::abs(gm) < std::abs(directed->value)) directed = c.gain_margin_db;
   }
   if (margins.modulus) {
     summary.modulus_margin = margins.modulus->modulus_margin;
     summary.peak_sensitivity_db = margins.modulus->peak_sensitivity_db;
     summary.modulus_frequency_hz = margins.modulus->frequency_hz;
-    summary.modulus_margin_ci = margins.modulus->modulus_margin_ci;
-    summary.peak_sensitivity_ci_db = margins.modulus->peak_sensitivity_ci_db;
   }
   return summary;
 }

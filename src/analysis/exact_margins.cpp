@@ -16,9 +16,11 @@ GainCrossover refine_gain(const LoopFunction& loop, const detail::LineTable& tab
   const auto log_gain = [&](double u) { return at_log_f(loop, u, [](auto l) { return std::log(std::abs(l)); }); };
   const double u = detail::bisect(log_gain, table.log_f[bracket.index], table.log_f[bracket.index + 1]);
   GainCrossover c;
-  c.frequency_hz = std::pow(10.0, u);
-  c.phase_margin_deg = wrap_deg(180.0 + deg_from_rad(std::arg(loop(c.frequency_hz))));
-  c.delay_margin_s = rad_from_deg(c.phase_margin_deg) / rad_per_s_from_hz(c.frequency_hz);
+  const double frequency_hz = std::pow(10.0, u);
+  const double phase_margin_deg = wrap_deg(180.0 + deg_from_rad(std::arg(loop(frequency_hz))));
+  c.frequency_hz.value = frequency_hz;
+  c.phase_margin_deg.value = phase_margin_deg;
+  c.delay_margin_s.value = rad_from_deg(phase_margin_deg) / rad_per_s_from_hz(frequency_hz);
   return c;
 }
 
@@ -28,9 +30,9 @@ PhaseCrossover refine_phase(const LoopFunction& loop, const detail::LineTable& t
   const auto angle_from_axis = [&](double u) { return at_log_f(loop, u, [](auto l) { return std::arg(-l); }); };
   const double u = detail::bisect(angle_from_axis, table.log_f[bracket.index], table.log_f[bracket.index + 1]);
   PhaseCrossover c;
-  c.frequency_hz = std::pow(10.0, u);
-  c.gain_margin_db = -db_from_ratio(std::abs(loop(c.frequency_hz)));
-  c.limits = detail::direction_of(c.gain_margin_db);
+  c.frequency_hz.value = std::pow(10.0, u);
+  c.gain_margin_db.value = -db_from_ratio(std::abs(loop(c.frequency_hz.value)));
+  c.limits = detail::direction_of(c.gain_margin_db.value);
   return c;
 }
 
@@ -42,7 +44,7 @@ ModulusPoint refine_modulus(const LoopFunction& loop, const detail::LineTable& t
   const auto distance = [&](double u) { return at_log_f(loop, u, [](auto l) { return std::abs(1.0 + l); }); };
   const double u = detail::golden_minimum(distance, a, b);
   const double s_m = distance(u);
-  return {std::pow(10.0, u), s_m, -db_from_ratio(s_m), at_edge};
+  return {std::pow(10.0, u), {s_m, std::nullopt}, {-db_from_ratio(s_m), std::nullopt}, at_edge};
 }
 
 DiskMargin refine_disk(const LoopFunction& loop, const detail::LineTable& table) {

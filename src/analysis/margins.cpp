@@ -305,17 +305,16 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
     }
     if (g.verdict != Verdict::kCrossover) continue;
     GainCrossover c;
-    c.frequency_hz = std::pow(10.0, g.log_f);
-    c.phase_margin_deg = phase_margin_deg;
-    c.delay_margin_s = rad_from_deg(phase_margin_deg) / rad_per_s_from_hz(c.frequency_hz);
-    c.merged_crossings = g.members.size();
-    c.frequency_ci_hz = frequency_interval(p.log_f, p.log_f_sigma, z);
-    c.phase_margin_ci_deg = interval(phase_margin_deg, p.other_sigma, z);
+    const double frequency_hz = std::pow(10.0, g.log_f);
+    const double omega = rad_per_s_from_hz(frequency_hz);
+    const double delay_margin_s = rad_from_deg(phase_margin_deg) / omega;
     // DM = PM / omega: relative errors of PM (rad) and omega add in quadrature.
-    const double omega = rad_per_s_from_hz(c.frequency_hz);
-    const double delay_sigma = std::hypot(rad_from_deg(p.other_sigma) / omega,
-                                          c.delay_margin_s * std::numbers::ln10 * p.log_f_sigma);
-    c.delay_margin_ci_s = interval(c.delay_margin_s, delay_sigma, z);
+    const double delay_sigma =
+        std::hypot(rad_from_deg(p.other_sigma) / omega, delay_margin_s * std::numbers::ln10 * p.log_f_sigma);
+    c.frequency_hz = {frequency_hz, frequency_interval(p.log_f, p.log_f_sigma, z)};
+    c.phase_margin_deg = {phase_margin_deg, interval(phase_margin_deg, p.other_sigma, z)};
+    c.delay_margin_s = {delay_margin_s, interval(delay_margin_s, delay_sigma, z)};
+    c.merged_crossings = g.members.size();
     c.trust_flags = trust_flags(table, g.members, options);
     result.push_back(c);
   }
@@ -339,16 +338,14 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
     }
     if (g.verdict != Verdict::kCrossover) continue;
     PhaseCrossover c;
-    c.frequency_hz = std::pow(10.0, g.log_f);
-    c.gain_margin_db = -gain_db;
-    c.limits = detail::direction_of(c.gain_margin_db);
+    c.frequency_hz = {std::pow(10.0, g.log_f), frequency_interval(p.log_f, p.log_f_sigma, z)};
+    c.gain_margin_db = {-gain_db, interval(-gain_db, p.other_sigma, z)};
+    c.limits = detail::direction_of(-gain_db);
     c.merged_crossings = g.members.size();
-    c.frequency_ci_hz = frequency_interval(p.log_f, p.log_f_sigma, z);
-    c.gain_margin_ci_db = interval(c.gain_margin_db, p.other_sigma, z);
     c.trust_flags = trust_flags(table, g.members, options);
     result.push_back(c);
   }
-  std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz < b.frequency_hz; });
+  std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz.value < b.frequency_hz.value; });
   return result;
 }
 
@@ -405,22 +402,19 @@ ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options)
   LocalLoop fit;
   const auto [k, u] = peak_of(table, options, closeness, &fit);
   const bool edge = k == 0 || k + 1 == table.size() || table.size() < 4;
-  ModulusPoint point{std::pow(10.0, u), std::abs(1.0 + table.value[k]), 0.0, edge};
+  ModulusPoint point{std::pow(10.0, u), {std::abs(1.0 + table.value[k]), std::nullopt}, {}, edge};
   if (!edge) {
     const std::complex<double> l = fit.at(u);
     // An exact table's minimum cannot lie above a line; a measured one is
     // read off the fit alone, since the smallest noisy line is biased low.
     const bool measured = table.relative_sigma[k] > 0.0;
-    point.modulus_margin = measured ? std::abs(1.0 + l) : std::min(std::abs(1.0 + l), std::abs(1.0 + table.value[k]));
+    const double s_m = measured ? std::abs(1.0 + l) : std::min(std::abs(1.0 + l), std::abs(1.0 + table.value[k]));
     const double sigma = fit.sigma_of_modulus(u, 1.0 + l, 1.0, line_sigma(table, k));
-    const double z = two_sided_z(options.confidence);
-    point.modulus_margin_ci = interval(point.modulus_margin, sigma, z);
-    if (point.modulus_margin_ci && point.modulus_margin_ci->low > 0.0) {
-      point.peak_sensitivity_ci_db = Interval{-db_from_ratio(point.modulus_margin_ci->high),
-                                              -db_from_ratio(point.modulus_margin_ci->low)};
-    }
+    point.modulus_margin = {s_m, interval(s_m, sigma, two_sided_z(options.confidence))};
+    const auto& ci = point.modulus_margin.interval;
+    if (ci && ci->low > 0.0) point.peak_sensitivity_db.interval = Interval{-db_from_ratio(ci->high), -db_from_ratio(ci->low)};
   }
-  point.peak_sensitivity_db = -db_from_ratio(point.modulus_margin);
+  point.peak_sensitivity_db.value = -db_from_ratio(point.modulus_margin.value);
   return point;
 }
 
@@ -446,10 +440,10 @@ DiskMargin disk_point(const LineTable& table, const MarginOptions& options) {
     // alpha = 2 / peak, and the guaranteed ranges grow with alpha.
     const DiskMargin least = disk_margin_from_peak(peak_ci->high, disk.frequency_hz, edge);
     const DiskMargin most = disk_margin_from_peak(peak_ci->low, disk.frequency_hz, edge);
-    disk.alpha_ci = Interval{least.alpha, most.alpha};
-    disk.phase_ci_deg = Interval{least.phase_deg, most.phase_deg};
-    if (least.gain_high_db) {
-      disk.gain_high_ci_db = Interval{*least.gain_high_db, most.gain_high_db.value_or(INFINITY)};
+    disk.alpha.interval = Interval{least.alpha.value, most.alpha.value};
+    disk.phase_deg.interval = Interval{least.phase_deg.value, most.phase_deg.value};
+    if (std::isfinite(least.gain_high_db.value)) {
+      disk.gain_high_db.interval = Interval{least.gain_high_db.value, most.gain_high_db.value};
     }
   }
   return disk;
@@ -476,14 +470,15 @@ Margins too_few_lines(const Response& loop, const MarginOptions& options) {
 
 DiskMargin disk_margin_from_peak(double peak, double frequency_hz, bool at_band_edge) {
   DiskMargin d;
-  d.alpha = 2.0 / peak;
+  const double alpha = 2.0 / peak;
+  d.alpha.value = alpha;
   d.frequency_hz = frequency_hz;
   d.at_band_edge = at_band_edge;
   // At alpha = 2 (to rounding) the disk admits any gain increase.
-  const bool unbounded = d.alpha >= 2.0 * (1.0 - 1e-9);
-  d.gain_low_db = unbounded ? -INFINITY : db_from_ratio((2.0 - d.alpha) / (2.0 + d.alpha));
-  if (!unbounded) d.gain_high_db = db_from_ratio((2.0 + d.alpha) / (2.0 - d.alpha));
-  d.phase_deg = deg_from_rad(2.0 * std::atan(d.alpha / 2.0));
+  const bool unbounded = alpha >= 2.0 * (1.0 - 1e-9);
+  d.gain_low_db = unbounded ? -INFINITY : db_from_ratio((2.0 - alpha) / (2.0 + alpha));
+  d.gain_high_db.value = unbounded ? INFINITY : db_from_ratio((2.0 + alpha) / (2.0 - alpha));
+  d.phase_deg.value = deg_from_rad(2.0 * std::atan(alpha / 2.0));
   return d;
 }
 

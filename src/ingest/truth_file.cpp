@@ -22,16 +22,10 @@ MarginSummary read_truth_summary(const std::string& path) {
     return s.contains(key) && s[key].is_number() ? std::optional(s[key].get<double>()) : std::nullopt;
   };
   MarginSummary summary;
-  summary.gain_crossover_hz = get("gain_crossover_hz");
-  summary.phase_margin_deg = get("phase_margin_deg");
-  summary.phase_crossover_hz = get("phase_crossover_hz");
-  summary.gain_margin_db = get("gain_margin_db");
-  summary.gain_increase_margin_db = get("gain_increase_margin_db");
-  summary.gain_reduction_margin_db = get("gain_reduction_margin_db");
-  summary.delay_margin_s = get("delay_margin_s");
-  summary.modulus_margin = get("modulus_margin");
-  summary.peak_sensitivity_db = get("peak_sensitivity_db");
-  summary.modulus_frequency_hz = get("modulus_freq_hz");
+  for (const SummaryField& field : summary_fields()) {
+    if (const auto value = get(field.key)) summary.*field.member = Estimate{*value, std::nullopt};
+  }
+  summary.modulus_frequency_hz = get(kModulusFrequencyKey);
   return summary;
 }
 

@@ -15,25 +15,20 @@ Json interval_json(const std::optional<Interval>& i) {
   return i ? Json{{"ci_low", finite_or_null(i->low)}, {"ci_high", finite_or_null(i->high)}} : Json(nullptr);
 }
 
+Json estimate_value(const std::optional<Estimate>& e) { return e ? Json(e->value) : Json(nullptr); }
+
+Json estimate_interval(const std::optional<Estimate>& e) { return interval_json(e ? e->interval : std::nullopt); }
+
 Json summary_json(const MarginSummary& s) {
-  return {{"gain_crossover_hz", optional_number(s.gain_crossover_hz)},
-          {"phase_margin_deg", optional_number(s.phase_margin_deg)},
-          {"phase_crossover_hz", optional_number(s.phase_crossover_hz)},
-          {"gain_margin_db", optional_number(s.gain_margin_db)},
-          {"gain_increase_margin_db", optional_number(s.gain_increase_margin_db)},
-          {"gain_reduction_margin_db", optional_number(s.gain_reduction_margin_db)},
-          {"delay_margin_s", optional_number(s.delay_margin_s)},
-          {"modulus_margin", optional_number(s.modulus_margin)},
-          {"peak_sensitivity_db", optional_number(s.peak_sensitivity_db)},
-          {"modulus_freq_hz", optional_number(s.modulus_frequency_hz)},
-          {"intervals",
-           {{"gain_crossover_hz", interval_json(s.gain_crossover_ci_hz)},
-            {"phase_margin_deg", interval_json(s.phase_margin_ci_deg)},
-            {"phase_crossover_hz", interval_json(s.phase_crossover_ci_hz)},
-            {"gain_margin_db", interval_json(s.gain_margin_ci_db)},
-            {"delay_margin_s", interval_json(s.delay_margin_ci_s)},
-            {"modulus_margin", interval_json(s.modulus_margin_ci)},
-            {"peak_sensitivity_db", interval_json(s.peak_sensitivity_ci_db)}}}};
+  Json out = Json::object();
+  Json intervals = Json::object();
+  for (const SummaryField& field : summary_fields()) {
+    out[field.key] = estimate_value(s.*field.member);
+    if (field.interval_listed) intervals[field.key] = estimate_interval(s.*field.member);
+  }
+  out[kModulusFrequencyKey] = optional_number(s.modulus_frequency_hz);
+  out["intervals"] = intervals;
+  return out;
 }
 
 void put_margins(Json& out, const Margins& m) {
@@ -41,45 +36,45 @@ void put_margins(Json& out, const Margins& m) {
   out["confidence"] = m.confidence;
   out["gain_crossovers"] = Json::array();
   for (const auto& c : m.gain_crossovers) {
-    out["gain_crossovers"].push_back({{"freq_hz", c.frequency_hz},
-                                      {"phase_margin_deg", c.phase_margin_deg},
-                                      {"delay_margin_s", c.delay_margin_s},
+    out["gain_crossovers"].push_back({{"freq_hz", c.frequency_hz.value},
+                                      {"phase_margin_deg", c.phase_margin_deg.value},
+                                      {"delay_margin_s", c.delay_margin_s.value},
                                       {"merged_crossings", c.merged_crossings},
                                       {"intervals",
-                                       {{"freq_hz", interval_json(c.frequency_ci_hz)},
-                                        {"phase_margin_deg", interval_json(c.phase_margin_ci_deg)},
-                                        {"delay_margin_s", interval_json(c.delay_margin_ci_s)}}},
+                                       {{"freq_hz", interval_json(c.frequency_hz.interval)},
+                                        {"phase_margin_deg", interval_json(c.phase_margin_deg.interval)},
+                                        {"delay_margin_s", interval_json(c.delay_margin_s.interval)}}},
                                       {"trust_flags", c.trust_flags}});
   }
   out["phase_crossovers"] = Json::array();
   for (const auto& c : m.phase_crossovers) {
-    out["phase_crossovers"].push_back({{"freq_hz", c.frequency_hz},
-                                       {"gain_margin_db", c.gain_margin_db},
+    out["phase_crossovers"].push_back({{"freq_hz", c.frequency_hz.value},
+                                       {"gain_margin_db", c.gain_margin_db.value},
                                        {"limits", direction_name(c.limits)},
                                        {"merged_crossings", c.merged_crossings},
                                        {"intervals",
-                                        {{"freq_hz", interval_json(c.frequency_ci_hz)},
-                                         {"gain_margin_db", interval_json(c.gain_margin_ci_db)}}},
+                                        {{"freq_hz", interval_json(c.frequency_hz.interval)},
+                                         {"gain_margin_db", interval_json(c.gain_margin_db.interval)}}},
                                        {"trust_flags", c.trust_flags}});
   }
   out["modulus"] = m.modulus ? Json{{"freq_hz", m.modulus->frequency_hz},
-                                    {"modulus_margin", m.modulus->modulus_margin},
-                                    {"peak_sensitivity_db", m.modulus->peak_sensitivity_db},
+                                    {"modulus_margin", m.modulus->modulus_margin.value},
+                                    {"peak_sensitivity_db", m.modulus->peak_sensitivity_db.value},
                                     {"at_band_edge", m.modulus->at_band_edge},
                                     {"intervals",
-                                     {{"modulus_margin", interval_json(m.modulus->modulus_margin_ci)},
-                                      {"peak_sensitivity_db", interval_json(m.modulus->peak_sensitivity_ci_db)}}}}
+                                     {{"modulus_margin", interval_json(m.modulus->modulus_margin.interval)},
+                                      {"peak_sensitivity_db", interval_json(m.modulus->peak_sensitivity_db.interval)}}}}
                              : Json(nullptr);
-  out["disk"] = m.disk ? Json{{"alpha", m.disk->alpha},
+  out["disk"] = m.disk ? Json{{"alpha", m.disk->alpha.value},
                               {"freq_hz", m.disk->frequency_hz},
                               {"gain_low_db", finite_or_null(m.disk->gain_low_db)},
-                              {"gain_high_db", optional_number(m.disk->gain_high_db)},
-                              {"phase_deg", m.disk->phase_deg},
+                              {"gain_high_db", finite_or_null(m.disk->gain_high_db.value)},
+                              {"phase_deg", m.disk->phase_deg.value},
                               {"at_band_edge", m.disk->at_band_edge},
                               {"intervals",
-                               {{"alpha", interval_json(m.disk->alpha_ci)},
-                                {"gain_high_db", interval_json(m.disk->gain_high_ci_db)},
-                                {"phase_deg", interval_json(m.disk->phase_ci_deg)}}}}
+                               {{"alpha", interval_json(m.disk->alpha.interval)},
+                                {"gain_high_db", interval_json(m.disk->gain_high_db.interval)},
+                                {"phase_deg", interval_json(m.disk->phase_deg.interval)}}}}
                        : Json(nullptr);
   const auto& st = m.stability;
   out["stability"] = {{"verdict", verdict_name(st.verdict)},

@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "loopaudit/format.hpp"
+#include "loopaudit/model/comparison.hpp"
 #include "loopaudit/report/text_report.hpp"
 #include "report/interval_text.hpp"
 #include "report/sha256.hpp"
@@ -74,17 +75,20 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
        st.closed_loop_rhp_poles ? std::to_string(*st.closed_loop_rhp_poles) + " closed-loop RHP poles counted"
                                 : "see the reason below",
        verdict_name(st.verdict));
-  tile(out, "phase margin (smallest)", s.phase_margin_deg ? deg(*s.phase_margin_deg) : "none in band",
-       s.phase_margin_ci_deg ? level + interval_text(s.phase_margin_ci_deg, deg) : "");
-  tile(out, "gain margin (smallest)", s.gain_margin_db ? db(*s.gain_margin_db) : "none in band",
-       s.gain_margin_ci_db ? level + interval_text(s.gain_margin_ci_db, db) : "");
-  tile(out, "gain crossover", s.gain_crossover_hz ? hz(*s.gain_crossover_hz) : "none in band",
-       s.gain_crossover_ci_hz ? level + interval_text(s.gain_crossover_ci_hz, hz) : "");
-  tile(out, "peak sensitivity", s.peak_sensitivity_db ? plain_db(*s.peak_sensitivity_db) : "none",
-       s.modulus_margin ? "modulus margin " + ratio(*s.modulus_margin) : "");
+  const auto value = [](const std::optional<Estimate>& e, std::string (*format)(double), const char* none) {
+    return e ? format(e->value) : std::string(none);
+  };
+  const auto range = [&](const std::optional<Estimate>& e, std::string (*format)(double)) {
+    return e && e->interval ? level + interval_text(*e, format) : std::string();
+  };
+  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, deg, "none in band"), range(s.phase_margin_deg, deg));
+  tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"), range(s.gain_margin_db, db));
+  tile(out, "gain crossover", value(s.gain_crossover_hz, hz, "none in band"), range(s.gain_crossover_hz, hz));
+  tile(out, "peak sensitivity", value(s.peak_sensitivity_db, plain_db, "none"),
+       s.modulus_margin ? "modulus margin " + ratio(s.modulus_margin->value) : "");
   const auto& d = r.margins.disk;
-  tile(out, "disk margin (balanced)", d ? "α " + ratio(d->alpha) : "none",
-       d ? "gain ±" + plain_db(d->gain_high_db.value_or(INFINITY)) + ", phase ±" + deg(d->phase_deg) : "");
+  tile(out, "disk margin (balanced)", d ? "α " + ratio(d->alpha.value) : "none",
+       d ? "gain ±" + plain_db(d->gain_high_db.value) + ", phase ±" + deg(d->phase_deg.value) : "");
   out << "</div></section>\n";
 }
 
@@ -120,31 +124,32 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
   out << "<h2>Margins</h2>\n<table>\n<tr><th>where</th><th>frequency</th><th>margin</th><th>" +
              fixed(100.0 * m.confidence, 0) + " % interval</th><th></th></tr>\n";
   for (const auto& c : m.gain_crossovers) {
-    out << "<tr><td>gain crossover</td><td class=\"num\">" << hz(c.frequency_hz) << "<br><small>"
-        << interval_text(c.frequency_ci_hz, hz) << "</small></td><td class=\"num\">PM " << deg(c.phase_margin_deg)
-        << "<br>delay " << seconds(c.delay_margin_s) << "</td><td class=\"num\">" << interval_text(c.phase_margin_ci_deg, deg)
-        << "<br>" << interval_text(c.delay_margin_ci_s, seconds) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
+    out << "<tr><td>gain crossover</td><td class=\"num\">" << hz(c.frequency_hz.value) << "<br><small>"
+        << interval_text(c.frequency_hz, hz) << "</small></td><td class=\"num\">PM " << deg(c.phase_margin_deg.value)
+        << "<br>delay " << seconds(c.delay_margin_s.value) << "</td><td class=\"num\">"
+        << interval_text(c.phase_margin_deg, deg) << "<br>" << interval_text(c.delay_margin_s, seconds) << "</td><td>"
+        << flags_html(c.trust_flags) << "</td></tr>\n";
   }
   for (const auto& c : m.phase_crossovers) {
-    out << "<tr><td>phase crossover</td><td class=\"num\">" << hz(c.frequency_hz) << "<br><small>"
-        << interval_text(c.frequency_ci_hz, hz) << "</small></td><td class=\"num\">GM " << db(c.gain_margin_db)
+    out << "<tr><td>phase crossover</td><td class=\"num\">" << hz(c.frequency_hz.value) << "<br><small>"
+        << interval_text(c.frequency_hz, hz) << "</small></td><td class=\"num\">GM " << db(c.gain_margin_db.value)
         << "<br><small>limits gain " << direction_name(c.limits) << "</small></td><td class=\"num\">"
-        << interval_text(c.gain_margin_ci_db, db) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
+        << interval_text(c.gain_margin_db, db) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
   }
   if (m.gain_crossovers.empty()) out << "<tr><td>gain crossover</td><td colspan=\"4\">none in band</td></tr>\n";
   if (m.phase_crossovers.empty()) out << "<tr><td>phase crossover</td><td colspan=\"4\">none in band</td></tr>\n";
   if (m.modulus) {
     out << "<tr><td>modulus margin</td><td class=\"num\">" << hz(m.modulus->frequency_hz) << "</td><td class=\"num\">"
-        << ratio(m.modulus->modulus_margin) << "<br>peak |S| " << plain_db(m.modulus->peak_sensitivity_db)
-        << "</td><td class=\"num\">" << interval_text(m.modulus->modulus_margin_ci, ratio) << "<br>"
-        << interval_text(m.modulus->peak_sensitivity_ci_db, plain_db) << "</td><td>"
+        << ratio(m.modulus->modulus_margin.value) << "<br>peak |S| " << plain_db(m.modulus->peak_sensitivity_db.value)
+        << "</td><td class=\"num\">" << interval_text(m.modulus->modulus_margin, ratio) << "<br>"
+        << interval_text(m.modulus->peak_sensitivity_db, plain_db) << "</td><td>"
         << (m.modulus->at_band_edge ? "<span class=\"flag\">at the band edge</span>" : "") << "</td></tr>\n";
   }
   if (m.disk) {
     out << "<tr><td>disk margin</td><td class=\"num\">" << hz(m.disk->frequency_hz) << "</td><td class=\"num\">α "
-        << ratio(m.disk->alpha) << "<br>gain ±" << plain_db(m.disk->gain_high_db.value_or(INFINITY)) << ", phase ±"
-        << deg(m.disk->phase_deg) << "</td><td class=\"num\">" << interval_text(m.disk->alpha_ci, ratio) << "<br>"
-        << interval_text(m.disk->phase_ci_deg, deg) << "</td><td>"
+        << ratio(m.disk->alpha.value) << "<br>gain ±" << plain_db(m.disk->gain_high_db.value) << ", phase ±"
+        << deg(m.disk->phase_deg.value) << "</td><td class=\"num\">" << interval_text(m.disk->alpha, ratio) << "<br>"
+        << interval_text(m.disk->phase_deg, deg) << "</td><td>"
         << (m.disk->at_band_edge ? "<span class=\"flag\">at the band edge</span>" : "") << "</td></tr>\n";
   }
   out << "</table>\n<p>Acceptance verdict: no limits were given, so no pass or fail is stated.</p>\n";
@@ -161,23 +166,27 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
 // A simulated recording's truth beside the result, and whether each
 // interval holds it.
 void write_truth(std::ostream& out, const AnalysisResult& r, const MarginSummary& t) {
-  const auto& m = r.margins.summary;
   out << "<h2>Compared with the simulation's truth</h2>\n<table>\n<tr><th>quantity</th><th>measured</th><th>"
       << fixed(100.0 * r.margins.confidence, 0) << " % interval</th><th>truth</th><th>inside</th></tr>\n";
-  const auto row = [&](const char* name, const std::optional<double>& value, const std::optional<Interval>& ci,
-                       const std::optional<double>& truth, std::string (*format)(double)) {
-    const bool inside = ci && truth && ci->low <= *truth && *truth <= ci->high;
-    out << "<tr><td>" << name << "</td><td class=\"num\">" << (value ? format(*value) : "none in band")
-        << "</td><td class=\"num\">" << interval_text(ci, format) << "</td><td class=\"num\">"
-        << (truth ? format(*truth) : "none in band") << "</td><td>" << (ci && truth ? (inside ? "yes" : "no") : "")
-        << "</td></tr>\n";
+  struct Shown {
+    const char* label;
+    const char* key;
+    std::string (*format)(double);
   };
-  row("gain crossover", m.gain_crossover_hz, m.gain_crossover_ci_hz, t.gain_crossover_hz, hz);
-  row("phase margin", m.phase_margin_deg, m.phase_margin_ci_deg, t.phase_margin_deg, deg);
-  row("delay margin", m.delay_margin_s, m.delay_margin_ci_s, t.delay_margin_s, seconds);
-  row("phase crossover", m.phase_crossover_hz, m.phase_crossover_ci_hz, t.phase_crossover_hz, hz);
-  row("gain margin", m.gain_margin_db, m.gain_margin_ci_db, t.gain_margin_db, db);
-  row("modulus margin", m.modulus_margin, m.modulus_margin_ci, t.modulus_margin, ratio);
+  static constexpr Shown kRows[] = {
+      {"gain crossover", "gain_crossover_hz", hz}, {"phase margin", "phase_margin_deg", deg},
+      {"delay margin", "delay_margin_s", seconds}, {"phase crossover", "phase_crossover_hz", hz},
+      {"gain margin", "gain_margin_db", db},       {"modulus margin", "modulus_margin", ratio},
+  };
+  const auto compared = compare_summary(r.margins.summary, t);
+  for (const Shown& shown : kRows) {
+    const QuantityComparison& c = comparison_of(compared, shown.key);
+    out << "<tr><td>" << shown.label << "</td><td class=\"num\">"
+        << (c.measured ? shown.format(c.measured->value) : "none in band") << "</td><td class=\"num\">"
+        << (c.measured ? interval_text(*c.measured, shown.format) : "") << "</td><td class=\"num\">"
+        << (c.reference ? shown.format(*c.reference) : "none in band") << "</td><td>"
+        << (c.inside ? (*c.inside ? "yes" : "no") : "") << "</td></tr>\n";
+  }
   out << "</table>\n";
 }
 

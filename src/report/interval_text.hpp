@@ -5,7 +5,7 @@
 #include <optional>
 #include <string>
 
-#include "loopaudit/analysis/margins.hpp"
+#include "loopaudit/record/margins.hpp"
 
 namespace loopaudit::detail {
 
@@ -13,6 +13,11 @@ template <typename Format>
 std::string interval_text(const std::optional<Interval>& i, Format format) {
   if (!i) return "";
   return format(i->low) + " to " + format(i->high);
+}
+
+template <typename Format>
+std::string interval_text(const Estimate& e, Format format) {
+  return interval_text(e.interval, format);
 }
 
 }  // namespace loopaudit::detail

@@ -101,7 +101,7 @@ void place_phase_branch(std::vector<double>& phase, const Drawable& d, const Mar
   if (phase.empty()) return;
   std::size_t at = 0;
   if (!margins.gain_crossovers.empty()) {
-    at = std::lower_bound(d.f.begin(), d.f.end(), margins.gain_crossovers.front().frequency_hz) - d.f.begin();
+    at = std::lower_bound(d.f.begin(), d.f.end(), margins.gain_crossovers.front().frequency_hz.value) - d.f.begin();
   } else {
     std::vector<std::size_t> trusted;
     for (std::size_t k = 0; k < phase.size(); ++k) {
@@ -276,26 +276,26 @@ void mark_margins(Canvas& canvas, const Panel& mag, const Panel& phase, const Ma
     return std::round((ph[k] + 180.0) / 360.0) * 360.0 - 180.0;
   };
   for (const auto& c : marks.gain_crossovers) {
-    if (!mag.x.contains(c.frequency_hz)) continue;
-    const double x = mag.x(c.frequency_hz);
+    if (!mag.x.contains(c.frequency_hz.value)) continue;
+    const double x = mag.x(c.frequency_hz.value);
     canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
-    canvas.circle(mag.at(c.frequency_hz, 0.0), 4.0, {kMarker, 1.5}, "#ffffff");
-    const double level = level_at(c.frequency_hz);
-    const double at = level + c.phase_margin_deg;
-    canvas.line(phase.at(c.frequency_hz, level), phase.at(c.frequency_hz, at), {kMarker, 2.4});
-    canvas.circle(phase.at(c.frequency_hz, at), 3.0, {kMarker, 1.2}, kMarker);
+    canvas.circle(mag.at(c.frequency_hz.value, 0.0), 4.0, {kMarker, 1.5}, "#ffffff");
+    const double level = level_at(c.frequency_hz.value);
+    const double at = level + c.phase_margin_deg.value;
+    canvas.line(phase.at(c.frequency_hz.value, level), phase.at(c.frequency_hz.value, at), {kMarker, 2.4});
+    canvas.circle(phase.at(c.frequency_hz.value, at), 3.0, {kMarker, 1.2}, kMarker);
     side_label(canvas, phase, x, phase.y(level) + (at >= level ? 17.0 : -8.0) + 15.0 * phase_rows.take(x),
-               "PM " + deg(c.phase_margin_deg) + interval_suffix(c.phase_margin_ci_deg, one_decimal));
+               "PM " + deg(c.phase_margin_deg.value) + interval_suffix(c.phase_margin_deg.interval, one_decimal));
   }
   for (const auto& c : marks.phase_crossovers) {
-    if (!mag.x.contains(c.frequency_hz)) continue;
-    const double x = mag.x(c.frequency_hz);
+    if (!mag.x.contains(c.frequency_hz.value)) continue;
+    const double x = mag.x(c.frequency_hz.value);
     canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
-    canvas.rect(x - 3.5, phase.y(level_at(c.frequency_hz)) - 3.5, 7.0, 7.0, {kMarker, 1.5}, "#ffffff");
-    canvas.line(mag.at(c.frequency_hz, 0.0), mag.at(c.frequency_hz, -c.gain_margin_db), {kMarker, 2.4});
-    canvas.circle(mag.at(c.frequency_hz, -c.gain_margin_db), 3.0, {kMarker, 1.2}, kMarker);
-    side_label(canvas, mag, x, mag.y(0.0) + (c.gain_margin_db >= 0.0 ? -8.0 : 17.0) - 15.0 * gain_rows.take(x),
-               "GM " + signed_db(c.gain_margin_db) + interval_suffix(c.gain_margin_ci_db, one_decimal));
+    canvas.rect(x - 3.5, phase.y(level_at(c.frequency_hz.value)) - 3.5, 7.0, 7.0, {kMarker, 1.5}, "#ffffff");
+    canvas.line(mag.at(c.frequency_hz.value, 0.0), mag.at(c.frequency_hz.value, -c.gain_margin_db.value), {kMarker, 2.4});
+    canvas.circle(mag.at(c.frequency_hz.value, -c.gain_margin_db.value), 3.0, {kMarker, 1.2}, kMarker);
+    side_label(canvas, mag, x, mag.y(0.0) + (c.gain_margin_db.value >= 0.0 ? -8.0 : 17.0) - 15.0 * gain_rows.take(x),
+               "GM " + signed_db(c.gain_margin_db.value) + interval_suffix(c.gain_margin_db.interval, one_decimal));
   }
 }
 
@@ -451,14 +451,14 @@ Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
   canvas.circle(p.at(0.0, 0.0), unit_px, kReferenceStroke);
   const auto& m = result.margins;
   if (m.modulus) {
-    canvas.circle(p.at(-1.0, 0.0), m.modulus->modulus_margin * unit_px, {kModulus, 1.4, "1 3"});
+    canvas.circle(p.at(-1.0, 0.0), m.modulus->modulus_margin.value * unit_px, {kModulus, 1.4, "1 3"});
   }
   std::vector<Point> points;
   for (const auto& v : d.value) points.push_back(p.at(v.real(), v.imag()));
   draw_plane_curve(canvas, p, points, d.reliable);
   // Phase margin: the ray to the crossover on the unit circle and the arc from -1 to it.
   for (const auto& c : m.gain_crossovers) {
-    const double angle = rad_from_deg(c.phase_margin_deg - 180.0);  // of L at the crossover
+    const double angle = rad_from_deg(c.phase_margin_deg.value - 180.0);  // of L at the crossover
     const Point on_circle = p.at(std::cos(angle), std::sin(angle));
     canvas.line(p.at(0.0, 0.0), on_circle, {kMarker, 1.2});
     std::vector<Point> arc;
@@ -468,15 +468,15 @@ Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
     }
     canvas.path(arc, {kMarker, 2.0});
     canvas.circle(on_circle, 3.5, {kMarker, 1.5}, "#ffffff");
-    canvas.text({on_circle.x + 6.0, on_circle.y + 14.0}, "PM " + deg(c.phase_margin_deg), marker_text("start"));
+    canvas.text({on_circle.x + 6.0, on_circle.y + 14.0}, "PM " + deg(c.phase_margin_deg.value), marker_text("start"));
   }
   for (const auto& c : m.phase_crossovers) {
-    const double re = -ratio_from_db(-c.gain_margin_db);  // the crossing lies on the negative real axis
+    const double re = -ratio_from_db(-c.gain_margin_db.value);  // the crossing lies on the negative real axis
     if (re < -2.5) continue;
     const Point at = p.at(re, 0.0);
     canvas.line(p.at(-1.0, 0.0), at, {kMarker, 2.4});
     canvas.rect(at.x - 3.5, at.y - 3.5, 7.0, 7.0, {kMarker, 1.5}, "#ffffff");
-    canvas.text({0.5 * (at.x + p.x(-1.0)), at.y + 18.0}, "GM " + signed_db(c.gain_margin_db), marker_text("middle"));
+    canvas.text({0.5 * (at.x + p.x(-1.0)), at.y + 18.0}, "GM " + signed_db(c.gain_margin_db.value), marker_text("middle"));
   }
   canvas.end_clip();
   decade_marks(canvas, p, d, points);
@@ -490,7 +490,7 @@ Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
   canvas.line({kLeft, y - 4.0}, {kLeft + 24.0, y - 4.0}, kReferenceStroke);
   canvas.text({kLeft + 30.0, y}, "|L| = 1", {11.0});
   canvas.line({kLeft + 100.0, y - 4.0}, {kLeft + 124.0, y - 4.0}, {kModulus, 1.4, "1 3"});
-  canvas.text({kLeft + 130.0, y}, m.modulus ? "modulus margin " + fixed(m.modulus->modulus_margin, 3) + " around -1"
+  canvas.text({kLeft + 130.0, y}, m.modulus ? "modulus margin " + fixed(m.modulus->modulus_margin.value, 3) + " around -1"
                                             : "no modulus margin",
               {11.0});
   if (d.f.empty()) empty_message(canvas, p, "no finite lines to draw");
@@ -623,12 +623,12 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
   canvas.end_clip();
   draw_curve(canvas, p, d.f, s_db, d.reliable);
   if (const auto& m = result.margins.modulus) {
-    const Point at = p.at(m->frequency_hz, m->peak_sensitivity_db);
+    const Point at = p.at(m->frequency_hz, m->peak_sensitivity_db.value);
     canvas.line({at.x, at.y - 12.0}, {at.x, p.bottom()}, kMarkerLine);
     canvas.polygon({{at.x, at.y - 3.0}, {at.x - 5.5, at.y - 12.5}, {at.x + 5.5, at.y - 12.5}}, kMarker, 1.0);
     side_label(canvas, p, at.x + 4.0, at.y - 4.0,
-               "peak " + fixed(m->peak_sensitivity_db, 1) + " dB" +
-                   interval_suffix(m->peak_sensitivity_ci_db, one_decimal) + " at " + format_frequency(m->frequency_hz) +
+               "peak " + fixed(m->peak_sensitivity_db.value, 1) + " dB" +
+                   interval_suffix(m->peak_sensitivity_db.interval, one_decimal) + " at " + format_frequency(m->frequency_hz) +
                    (m->at_band_edge ? " (band edge)" : ""));
   }
   plot.svg = canvas.finish();

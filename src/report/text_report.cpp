@@ -2,6 +2,7 @@
 
 #include "loopaudit/format.hpp"
 #include "loopaudit/loop/loop.hpp"
+#include "loopaudit/model/comparison.hpp"
 #include "report/interval_text.hpp"
 
 #include <algorithm>
@@ -16,18 +17,6 @@ std::string printf_string(const char* format, double value, const char* unit = "
   char buffer[64];
   std::snprintf(buffer, sizeof buffer, format, value, unit);
   return buffer;
-}
-
-std::string number_or_dash(const std::optional<double>& value, const char* format) {
-  return value ? printf_string(format, *value) : std::string("none in band");
-}
-
-std::string frequency_or_dash(const std::optional<double>& value) {
-  return value ? format_frequency(*value) : std::string("none in band");
-}
-
-std::string time_or_dash(const std::optional<double>& value) {
-  return value ? format_time(*value) : std::string("none in band");
 }
 
 struct Row {
@@ -54,24 +43,33 @@ void write_interval_line(std::ostream& out, double confidence, const std::vector
   out << "\n";
 }
 
+// The summary rows in the order the table shows them, by summary key.
+struct SummaryRow {
+  const char* label;
+  const char* key;
+  std::string (*format)(double);
+};
+std::string frequency(double v) { return format_frequency(v); }
+std::string deg_value(double v) { return printf_string("%.1f deg", v); }
+std::string sensitivity_db(double v) { return printf_string("%.1f dB", v); }
+constexpr SummaryRow kSummaryRows[] = {
+    {"gain crossover", "gain_crossover_hz", frequency}, {"phase margin", "phase_margin_deg", deg_value},
+    {"delay margin", "delay_margin_s", seconds},       {"phase crossover", "phase_crossover_hz", frequency},
+    {"gain margin", "gain_margin_db", signed_db},      {"modulus margin", "modulus_margin", ratio},
+    {"peak sensitivity", "peak_sensitivity_db", sensitivity_db},
+};
+
 std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
-  const auto db = signed_db;
-  const auto s = seconds;
-  return {
-      {"gain crossover", frequency_or_dash(m.gain_crossover_hz), frequency_or_dash(t.gain_crossover_hz),
-       interval_text(m.gain_crossover_ci_hz, hz)},
-      {"phase margin", number_or_dash(m.phase_margin_deg, "%.1f deg"), number_or_dash(t.phase_margin_deg, "%.1f deg"),
-       interval_text(m.phase_margin_ci_deg, deg)},
-      {"delay margin", time_or_dash(m.delay_margin_s), time_or_dash(t.delay_margin_s), interval_text(m.delay_margin_ci_s, s)},
-      {"phase crossover", frequency_or_dash(m.phase_crossover_hz), frequency_or_dash(t.phase_crossover_hz),
-       interval_text(m.phase_crossover_ci_hz, hz)},
-      {"gain margin", number_or_dash(m.gain_margin_db, "%+.1f dB"), number_or_dash(t.gain_margin_db, "%+.1f dB"),
-       interval_text(m.gain_margin_ci_db, db)},
-      {"modulus margin", number_or_dash(m.modulus_margin, "%.3f"), number_or_dash(t.modulus_margin, "%.3f"),
-       interval_text(m.modulus_margin_ci, ratio)},
-      {"peak sensitivity", number_or_dash(m.peak_sensitivity_db, "%.1f dB"),
-       number_or_dash(t.peak_sensitivity_db, "%.1f dB"), interval_text(m.peak_sensitivity_ci_db, plain_db)},
-  };
+  const auto compared = compare_summary(m, t);
+  std::vector<Row> rows;
+  for (const SummaryRow& r : kSummaryRows) {
+    const QuantityComparison& c = comparison_of(compared, r.key);
+    const auto interval_format = std::string(r.key) == "peak_sensitivity_db" ? plain_db : r.format;
+    rows.push_back({r.label, c.measured ? r.format(c.measured->value) : "none in band",
+                    c.reference ? r.format(*c.reference) : "none in band",
+                    c.measured ? interval_text(*c.measured, interval_format) : ""});
+  }
+  return rows;
 }
 
 void write_method(std::ostream& out, const AnalysisResult& r) {
@@ -97,20 +95,21 @@ void write_crossings(std::ostream& out, const Margins& m) {
   for (const auto& c : m.gain_crossovers) {
     char line[160];
     std::snprintf(line, sizeof line, "    %-12s phase margin %7.1f deg   delay margin %s%s",
-                  format_frequency(c.frequency_hz).c_str(), c.phase_margin_deg, format_time(c.delay_margin_s).c_str(),
+                  format_frequency(c.frequency_hz.value).c_str(), c.phase_margin_deg.value,
+                  format_time(c.delay_margin_s.value).c_str(),
                   c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
     out << line << flags_text(c.trust_flags) << "\n";
-    write_interval_line(out, m.confidence, {interval_text(c.frequency_ci_hz, hz), interval_text(c.phase_margin_ci_deg, deg),
-                                            interval_text(c.delay_margin_ci_s, seconds)});
+    write_interval_line(out, m.confidence, {interval_text(c.frequency_hz, hz), interval_text(c.phase_margin_deg, deg),
+                                            interval_text(c.delay_margin_s, seconds)});
   }
   out << "  phase crossovers (angle L = -180 deg)\n";
   if (m.phase_crossovers.empty()) out << "    none in band\n";
   for (const auto& c : m.phase_crossovers) {
     char line[160];
     std::snprintf(line, sizeof line, "    %-12s gain margin  %+7.1f dB    limits gain %s",
-                  format_frequency(c.frequency_hz).c_str(), c.gain_margin_db, direction_name(c.limits));
+                  format_frequency(c.frequency_hz.value).c_str(), c.gain_margin_db.value, direction_name(c.limits));
     out << line << flags_text(c.trust_flags) << "\n";
-    write_interval_line(out, m.confidence, {interval_text(c.frequency_ci_hz, hz), interval_text(c.gain_margin_ci_db, signed_db)});
+    write_interval_line(out, m.confidence, {interval_text(c.frequency_hz, hz), interval_text(c.gain_margin_db, signed_db)});
   }
   out << "\n";
 }
@@ -186,15 +185,16 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
     out << line;
   }
   if (const auto& d = result.margins.disk) {
-    out << "\n  disk margin        alpha " << printf_string("%.3f", d->alpha) << ": the loop tolerates gain "
+    out << "\n  disk margin        alpha " << printf_string("%.3f", d->alpha.value) << ": the loop tolerates gain "
         << (std::isfinite(d->gain_low_db) ? printf_string("%+.1f dB", d->gain_low_db) : std::string("down to 0"))
-        << " to " << (d->gain_high_db ? printf_string("%+.1f dB", *d->gain_high_db) : std::string("unbounded"))
-        << " together with phase +-" << printf_string("%.1f deg", d->phase_deg) << " (worst at "
+        << " to " << (std::isfinite(d->gain_high_db.value) ? printf_string("%+.1f dB", d->gain_high_db.value)
+                                                  : std::string("unbounded"))
+        << " together with phase +-" << printf_string("%.1f deg", d->phase_deg.value) << " (worst at "
         << format_frequency(d->frequency_hz) << (d->at_band_edge ? ", at the band edge" : "") << ")\n";
-    if (d->alpha_ci) {
+    if (d->alpha.interval) {
       out << printf_string("                     %.0f %%: ", 100.0 * result.margins.confidence) << "alpha "
-          << interval_text(d->alpha_ci, ratio) << ", gain +-" << interval_text(d->gain_high_ci_db, plain_db) << ", phase +-"
-          << interval_text(d->phase_ci_deg, deg) << "\n";
+          << interval_text(d->alpha, ratio) << ", gain +-" << interval_text(d->gain_high_db, plain_db) << ", phase +-"
+          << interval_text(d->phase_deg, deg) << "\n";
     }
   }
   write_stability(out, result.margins.stability);

@@ -60,10 +60,11 @@ Scenario known_loop(const Cell& cell, std::uint64_t seed) {
 struct Scores {
   double sum = 0.0, sum_sq = 0.0;
   int n = 0;
-  void add(const std::optional<Interval>& i, const std::optional<double>& estimate, const std::optional<double>& truth,
-           double z) {
-    if (!i || !estimate || !truth || !(i->high > i->low)) return;
-    const double score = (*estimate - *truth) / ((i->high - i->low) / (2.0 * z));
+  void add(const std::optional<Estimate>& estimate, const std::optional<Estimate>& truth, double z) {
+    if (!estimate || !truth || !estimate->interval) return;
+    const Interval& i = *estimate->interval;
+    if (!(i.high > i.low)) return;
+    const double score = (estimate->value - truth->value) / ((i.high - i.low) / (2.0 * z));
     sum += score;
     sum_sq += score * score;
     ++n;
@@ -80,8 +81,18 @@ struct Tally {
   double fraction(int hits) const { return runs ? static_cast<double>(hits) / runs : 0.0; }
 };
 
-bool holds(const std::optional<Interval>& i, const std::optional<double>& truth) {
-  return i && truth && i->low <= *truth && *truth <= i->high;
+bool holds(const std::optional<Estimate>& e, const std::optional<Estimate>& truth) {
+  if (!e || !e->interval || !truth) return false;
+  return e->interval->low <= truth->value && truth->value <= e->interval->high;
+}
+
+// The crossover frequency's error is scored in log frequency, where its
+// interval is symmetric.
+std::optional<Estimate> log_e(const std::optional<Estimate>& e) {
+  if (!e) return std::nullopt;
+  Estimate out{std::log(e->value), std::nullopt};
+  if (e->interval) out.interval = Interval{std::log(e->interval->low), std::log(e->interval->high)};
+  return out;
 }
 
 void run_cell(const Cell& cell, int runs, std::uint64_t first_seed, Tally& cell_tally, Tally& all) {
@@ -94,19 +105,15 @@ void run_cell(const Cell& cell, int runs, std::uint64_t first_seed, Tally& cell_
     const MarginSummary m = result.margins.summary;
     for (Tally* t : {&cell_tally, &all}) {
       ++t->runs;
-      t->crossover += holds(m.gain_crossover_ci_hz, truth.gain_crossover_hz);
-      t->phase_margin += holds(m.phase_margin_ci_deg, truth.phase_margin_deg);
-      t->gain_margin += holds(m.gain_margin_ci_db, truth.gain_margin_db);
+      t->crossover += holds(m.gain_crossover_hz, truth.gain_crossover_hz);
+      t->phase_margin += holds(m.phase_margin_deg, truth.phase_margin_deg);
+      t->gain_margin += holds(m.gain_margin_db, truth.gain_margin_db);
       const double z = two_sided_z(0.95);
-      const auto log_f = [](const std::optional<double>& f) { return f ? std::optional(std::log(*f)) : std::nullopt; };
-      const auto log_i = [](const std::optional<Interval>& i) {
-        return i ? std::optional(Interval{std::log(i->low), std::log(i->high)}) : std::nullopt;
-      };
-      t->crossover_z.add(log_i(m.gain_crossover_ci_hz), log_f(m.gain_crossover_hz), log_f(truth.gain_crossover_hz), z);
-      t->phase_margin_z.add(m.phase_margin_ci_deg, m.phase_margin_deg, truth.phase_margin_deg, z);
-      t->gain_margin_z.add(m.gain_margin_ci_db, m.gain_margin_db, truth.gain_margin_db, z);
-      t->modulus += holds(m.modulus_margin_ci, truth.modulus_margin);
-      t->modulus_z.add(m.modulus_margin_ci, m.modulus_margin, truth.modulus_margin, z);
+      t->crossover_z.add(log_e(m.gain_crossover_hz), log_e(truth.gain_crossover_hz), z);
+      t->phase_margin_z.add(m.phase_margin_deg, truth.phase_margin_deg, z);
+      t->gain_margin_z.add(m.gain_margin_db, truth.gain_margin_db, z);
+      t->modulus += holds(m.modulus_margin, truth.modulus_margin);
+      t->modulus_z.add(m.modulus_margin, truth.modulus_margin, z);
     }
   }
 }

@@ -6,6 +6,7 @@
 
 #include <cstddef>
 #include <optional>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -36,43 +37,44 @@ inline constexpr const char* kTrustLowCoherence = "low-coherence";
 inline constexpr const char* kTrustBandEdge = "band-edge";
 inline constexpr const char* kTrustSparseLines = "sparse-lines";
 
-// A two-sided interval at MarginOptions::confidence, from the lines'
-// uncertainty propagated through the local fits (first order). Absent for
-// lines without uncertainty (an exact table).
+// A two-sided interval at the result's confidence level (Margins::confidence).
 struct Interval {
   double low = 0.0;
   double high = 0.0;
 };
+
+// A value and its interval, from the lines' uncertainty propagated through
+// the local fits (first order). The interval is absent for lines without
+// uncertainty (an exact table or a model) and for values read from a file
+// that states none.
+struct Estimate {
+  double value = 0.0;
+  std::optional<Interval> interval;
+};
+
 const char* direction_name(GainDirection direction);  // "increase" / "decrease"
 
 struct GainCrossover {
-  double frequency_hz = 0.0;
-  double phase_margin_deg = 0.0;
-  double delay_margin_s = 0.0;  // negative when PM is negative
+  Estimate frequency_hz;
+  Estimate phase_margin_deg;
+  Estimate delay_margin_s;           // negative when PM is negative
   std::size_t merged_crossings = 1;  // noise crossings merged into this one
-  std::optional<Interval> frequency_ci_hz;
-  std::optional<Interval> phase_margin_ci_deg;
-  std::optional<Interval> delay_margin_ci_s;
-  std::vector<std::string> trust_flags;  // see TrustFlag below; empty when nothing calls it into question
+  std::vector<std::string> trust_flags;  // the kTrust names above; empty when nothing calls it into question
 };
 
 struct PhaseCrossover {
-  double frequency_hz = 0.0;
-  double gain_margin_db = 0.0;
+  Estimate frequency_hz;
+  Estimate gain_margin_db;
   GainDirection limits = GainDirection::kIncrease;  // the gain change this crossing limits
   std::size_t merged_crossings = 1;
-  std::optional<Interval> frequency_ci_hz;
-  std::optional<Interval> gain_margin_ci_db;
   std::vector<std::string> trust_flags;
 };
 
 struct ModulusPoint {
   double frequency_hz = 0.0;
-  double modulus_margin = 0.0;        // min |1 + L|
-  double peak_sensitivity_db = 0.0;   // 20 log10 (1 / min |1 + L|)
-  bool at_band_edge = false;          // the minimum may lie outside the band
-  std::optional<Interval> modulus_margin_ci;
-  std::optional<Interval> peak_sensitivity_ci_db;
+  Estimate modulus_margin;       // min |1 + L|
+  Estimate peak_sensitivity_db;  // 20 log10 (1 / min |1 + L|)
+  bool at_band_edge = false;     // the minimum may lie outside the band
 };
 
 // Balanced disk margin (skew 0): alpha = 2 / max |S - T| over the band, with
@@ -82,37 +84,41 @@ struct ModulusPoint {
 // P. Gahinet, "An introduction to disk margins", IEEE Control Systems
 // Magazine, 2020). Over the measured band only.
 struct DiskMargin {
-  double alpha = 0.0;
-  double frequency_hz = 0.0;             // where |S - T| peaks
-  double gain_low_db = 0.0;              // 20 log10 (2-alpha)/(2+alpha); -inf when alpha >= 2
-  std::optional<double> gain_high_db;    // 20 log10 (2+alpha)/(2-alpha); unset (unbounded) when alpha >= 2
-  double phase_deg = 0.0;                // 2 atan(alpha/2)
+  Estimate alpha;
+  double frequency_hz = 0.0;  // where |S - T| peaks
+  double gain_low_db = 0.0;   // 20 log10 (2-alpha)/(2+alpha) = -gain_high_db; -inf when alpha >= 2
+  // 20 log10 (2+alpha)/(2-alpha): +inf (unbounded) when alpha >= 2, and the
+  // interval's high end +inf when it reaches alpha = 2.
+  Estimate gain_high_db;
+  Estimate phase_deg;  // 2 atan(alpha/2)
   bool at_band_edge = false;
-  std::optional<Interval> alpha_ci;
-  std::optional<Interval> phase_ci_deg;
-  std::optional<Interval> gain_high_ci_db;  // high end +inf when the interval reaches alpha = 2; gain_low is its negative
 };
 
+// The loop's margins in a few numbers, each from the crossing it came from.
+// Unset: none in the band.
 struct MarginSummary {
-  std::optional<double> gain_crossover_hz;   // the crossover with the smallest phase margin
-  std::optional<double> phase_margin_deg;    // the smallest over gain crossovers
-  std::optional<double> phase_crossover_hz;  // the crossing with the smallest |GM|
-  std::optional<double> gain_margin_db;      // the smallest in magnitude, sign kept
-  std::optional<double> gain_increase_margin_db;   // smallest positive GM
-  std::optional<double> gain_reduction_margin_db;  // negative GM closest to 0
-  std::optional<double> delay_margin_s;      // smallest over gain crossovers
-  std::optional<double> modulus_margin;
-  std::optional<double> peak_sensitivity_db;
+  std::optional<Estimate> gain_crossover_hz;   // the crossover with the smallest phase margin
+  std::optional<Estimate> phase_margin_deg;    // the smallest over gain crossovers
+  std::optional<Estimate> phase_crossover_hz;  // the crossing with the smallest |GM|
+  std::optional<Estimate> gain_margin_db;      // the smallest in magnitude, sign kept
+  std::optional<Estimate> gain_increase_margin_db;   // smallest positive GM
+  std::optional<Estimate> gain_reduction_margin_db;  // negative GM closest to 0
+  std::optional<Estimate> delay_margin_s;      // smallest over gain crossovers
+  std::optional<Estimate> modulus_margin;
+  std::optional<Estimate> peak_sensitivity_db;
   std::optional<double> modulus_frequency_hz;
-  // Intervals of the values above, from the crossing each value came from.
-  std::optional<Interval> gain_crossover_ci_hz;
-  std::optional<Interval> phase_margin_ci_deg;
-  std::optional<Interval> phase_crossover_ci_hz;
-  std::optional<Interval> gain_margin_ci_db;
-  std::optional<Interval> delay_margin_ci_s;
-  std::optional<Interval> modulus_margin_ci;
-  std::optional<Interval> peak_sensitivity_ci_db;
 };
+
+// The summary's quantities by the names that the JSON results (and limits)
+// use, in the order the JSON lists them; one table for every file that
+// writes or reads a summary.
+struct SummaryField {
+  const char* key;  // e.g. "phase_margin_deg"
+  std::optional<Estimate> MarginSummary::*member;
+  bool interval_listed;  // schema 1 lists its interval under "intervals"
+};
+std::span<const SummaryField> summary_fields();
+inline constexpr const char* kModulusFrequencyKey = "modulus_freq_hz";
 
 struct Margins {
   std::vector<GainCrossover> gain_crossovers;    // ascending frequency

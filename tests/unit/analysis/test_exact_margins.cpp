@@ -17,20 +17,20 @@ TEST_CASE("exact margins of known loops match the closed forms", "[analysis][exa
     INFO(k.name);
     const Margins m = exact_margins(k.loop, k.low_hz, k.high_hz);
     const MarginSummary& s = m.summary;
-    CHECK(rad_per_s_from_hz(*s.gain_crossover_hz) == Approx(*k.gain_crossover_rad_s).epsilon(kRel));
-    CHECK(*s.phase_margin_deg == Approx(*k.phase_margin_deg).margin(kDeg));
-    CHECK(*s.delay_margin_s == Approx(*k.delay_margin_s).epsilon(1e-6));
-    CHECK(rad_per_s_from_hz(*s.phase_crossover_hz) == Approx(*k.phase_crossover_rad_s).epsilon(kRel));
-    CHECK(*s.gain_margin_db == Approx(*k.gain_margin_db).margin(1e-6));
-    CHECK(*s.modulus_margin == Approx(k.modulus_margin).epsilon(1e-6));
+    CHECK(rad_per_s_from_hz(s.gain_crossover_hz->value) == Approx(*k.gain_crossover_rad_s).epsilon(kRel));
+    CHECK(s.phase_margin_deg->value == Approx(*k.phase_margin_deg).margin(kDeg));
+    CHECK(s.delay_margin_s->value == Approx(*k.delay_margin_s).epsilon(1e-6));
+    CHECK(rad_per_s_from_hz(s.phase_crossover_hz->value) == Approx(*k.phase_crossover_rad_s).epsilon(kRel));
+    CHECK(s.gain_margin_db->value == Approx(*k.gain_margin_db).margin(1e-6));
+    CHECK(s.modulus_margin->value == Approx(k.modulus_margin).epsilon(1e-6));
   }
 }
 
 TEST_CASE("exact margins of the discrete hold loop", "[analysis][exact]") {
   const Margins m = exact_margins(known::discrete_hold_loop, 1e-4, 0.4999);
-  CHECK(m.gain_crossovers.at(0).phase_margin_deg == Approx(46.56746344).margin(kDeg));
-  CHECK(m.phase_crossovers.at(0).frequency_hz == Approx(1.0 / 6.0).epsilon(1e-12));
-  CHECK(m.phase_crossovers.at(0).gain_margin_db == Approx(db_from_ratio(2.0)).margin(1e-9));
-  CHECK(m.gain_crossovers.at(0).delay_margin_s == Approx(1.60826884).epsilon(1e-8));
-  CHECK(*m.summary.modulus_margin == Approx(0.45508986).epsilon(1e-7));
+  CHECK(m.gain_crossovers.at(0).phase_margin_deg.value == Approx(46.56746344).margin(kDeg));
+  CHECK(m.phase_crossovers.at(0).frequency_hz.value == Approx(1.0 / 6.0).epsilon(1e-12));
+  CHECK(m.phase_crossovers.at(0).gain_margin_db.value == Approx(db_from_ratio(2.0)).margin(1e-9));
+  CHECK(m.gain_crossovers.at(0).delay_margin_s.value == Approx(1.60826884).epsilon(1e-8));
+  CHECK(m.summary.modulus_margin->value == Approx(0.45508986).epsilon(1e-7));
 }

@@ -74,12 +74,12 @@ TEST_CASE("an integrator under a hold with one sample of delay has the published
   const Synthesis synthesis = synthesize(scenario);
   const Margins& truth = synthesis.truth;
   REQUIRE(truth.gain_crossovers.size() == 1);
-  CHECK(truth.gain_crossovers[0].phase_margin_deg == Approx(46.56746344).margin(1e-6));
-  CHECK(truth.gain_crossovers[0].delay_margin_s * fs == Approx(1.60826884).epsilon(1e-7));
+  CHECK(truth.gain_crossovers[0].phase_margin_deg.value == Approx(46.56746344).margin(1e-6));
+  CHECK(truth.gain_crossovers[0].delay_margin_s.value * fs == Approx(1.60826884).epsilon(1e-7));
   REQUIRE(truth.phase_crossovers.size() == 1);
-  CHECK(truth.phase_crossovers[0].frequency_hz == Approx(fs / 6.0).epsilon(1e-10));
-  CHECK(truth.phase_crossovers[0].gain_margin_db == Approx(db_from_ratio(2.0)).margin(1e-9));
-  CHECK(*truth.summary.modulus_margin == Approx(0.45508986).epsilon(1e-7));
+  CHECK(truth.phase_crossovers[0].frequency_hz.value == Approx(fs / 6.0).epsilon(1e-10));
+  CHECK(truth.phase_crossovers[0].gain_margin_db.value == Approx(db_from_ratio(2.0)).margin(1e-9));
+  CHECK(truth.summary.modulus_margin->value == Approx(0.45508986).epsilon(1e-7));
 }
 
 TEST_CASE("a noise-free simulated loop is measured as the exact discrete response", "[synth][pipeline]") {
