@@ -111,13 +111,11 @@ QualityMonitor quality_monitor(const SampleSource& source, const AnalysisOptions
 
 // The stages after the response: loop, margins, findings.
 AnalysisResult finish_result(SampleSource& source, const AnalysisOptions& options, SourceSummary summary,
-                             const Response& measured, Diagnostics findings, std::size_t averages_segments,
-                             double effective_averages) {
+                             const Response& measured, Diagnostics findings) {
   AnalysisResult result;
   result.origin = source.origin();
   result.options = options;
-  result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles,
-                              averages_segments, effective_averages};
+  result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles};
   result.findings = std::move(summary.findings);
   append(result.findings, findings);
   result.loop = to_loop(measured, options.convention, result.findings);
@@ -134,8 +132,7 @@ AnalysisResult analyze_periodic(SampleSource& source, const AnalysisOptions& opt
       source, options, &quality, [&](const auto& selected, std::size_t) { periodic.push(selected); }, progress);
   Diagnostics findings = quality.findings();
   const Response measured = periodic.finish(summary.sample_rate_hz, findings);
-  return finish_result(source, options, std::move(summary), measured, std::move(findings), periodic.periods_used(),
-                       static_cast<double>(periodic.periods_used()));
+  return finish_result(source, options, std::move(summary), measured, std::move(findings));
 }
 
 AnalysisResult analyze_stepped(SampleSource& source, const AnalysisOptions& options, const ExcitationPlan& plan,
@@ -147,7 +144,7 @@ AnalysisResult analyze_stepped(SampleSource& source, const AnalysisOptions& opti
       progress);
   Diagnostics findings = quality.findings();
   const Response measured = stepped.finish(findings);
-  return finish_result(source, options, std::move(summary), measured, std::move(findings), measured.size(), 1.0);
+  return finish_result(source, options, std::move(summary), measured, std::move(findings));
 }
 
 }  // namespace
@@ -168,8 +165,7 @@ AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& op
   Diagnostics findings = quality.findings();
   append(findings, spectral_findings(spectra, {options.roles.injection, options.roles.x, options.roles.y}));
   const Response measured = estimate_response(spectra, options.response, findings);
-  return finish_result(source, options, std::move(summary), measured, std::move(findings), spectra.segments,
-                       spectra.effective_averages);
+  return finish_result(source, options, std::move(summary), measured, std::move(findings));
 }
 
 Inspection inspect_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {

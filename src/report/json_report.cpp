@@ -41,8 +41,8 @@ Json method_json(const AnalysisResult& result) {
   out["window"] = window_name(o.welch.window);
   out["segment_length"] = o.welch.segment_length;
   out["overlap"] = o.welch.overlap;
-  out["segments"] = result.record->segments;
-  out["effective_averages"] = result.record->effective_averages;
+  out["segments"] = result.loop.lines.method.averages;  // segments, periods or dwells (schema 1 name)
+  out["effective_averages"] = result.loop.lines.method.effective_averages;
   out["injection_floor_db"] = o.response.injection_floor_db;
   return out;
 }

@@ -52,6 +52,7 @@ struct Drawable {
   std::vector<std::complex<double>> value;
   std::vector<double> sigma;      // relative; 0 when unknown
   std::vector<double> coherence;  // may be empty
+  std::vector<double> snr_db;     // a stepped sine's; may be empty
   std::vector<bool> reliable;     // relative sigma at most kMostTrustedSigma (or unknown)
   std::size_t left_out = 0;
 };
@@ -71,8 +72,10 @@ Drawable drawable(const Response& r) {
     d.sigma.push_back(std::isfinite(s) ? s : 0.0);
     d.reliable.push_back(!(d.sigma.back() > kMostTrustedSigma));
     if (k < r.coherence.size()) d.coherence.push_back(r.coherence[k]);
+    if (k < r.snr_db.size()) d.snr_db.push_back(r.snr_db[k]);
   }
   if (d.coherence.size() != d.f.size()) d.coherence.clear();
+  if (d.snr_db.size() != d.f.size()) d.snr_db.clear();
   return d;
 }
 
@@ -570,15 +573,15 @@ Plot coherence(const Drawable& d) {
 }
 
 // A stepped sine's lines carry an SNR (the fit's signal over its residual,
-// the worse of x and y); its coherence is 1 / (1 + 1/SNR). Shown as SNR.
+// the worse of x and y); shown as SNR, with 0 dB where the coherence it
+// implies, 1 / (1 + 1/SNR), is 0.5.
 Plot dwell_snr(const Drawable& d) {
   Plot plot{"coherence", "Signal-to-noise ratio of each dwell's sine fit (the worse of x and y), with the 0 dB level "
                          "that corresponds to coherence 0.5", "", {}};
   Canvas canvas(kWidth, 330.0, "Signal-to-noise ratio of each dwell against frequency");
   canvas.text({kLeft, 24.0}, "Signal-to-noise ratio of each dwell", {14.0, "start", kInk, true});
   const svg::Scale fx = frequency_scale(d.f);
-  std::vector<double> snr_db;
-  for (double c : d.coherence) snr_db.push_back(db_from_power(std::max(c, 1e-12) / std::max(1.0 - c, 1e-12)));
+  const std::vector<double>& snr_db = d.snr_db;
   auto [low, high] = value_range(snr_db, std::vector<bool>(snr_db.size(), true));
   low = std::min(low, -10.0);
   high = std::max(high, 20.0);
@@ -639,7 +642,7 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
 
 std::vector<Plot> draw_plots(const AnalysisResult& result) {
   const Drawable d = drawable(result.loop.lines);
-  const bool stepped = result.excitation_kind == ExcitationKind::kStepped && !d.coherence.empty();
+  const bool stepped = !d.snr_db.empty();
   const BodeView loop_view{"bode", "Bode plot of L: magnitude and phase against frequency, margins marked",
                            std::string("Loop gain ") + convention_formula(result.loop.convention) + ": magnitude and phase",
                            result.margins, true, -180.0, "measured L"};

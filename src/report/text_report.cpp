@@ -140,22 +140,27 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
       lines.emplace_back("excitation", std::string(excitation_name(*r.excitation_kind)) + " (as set)");
     }
   }
-  const bool welch = r.record && (!r.excitation_kind || *r.excitation_kind == ExcitationKind::kBroadband ||
-                                  *r.excitation_kind == ExcitationKind::kChirp);
-  if (welch) {
-    const auto& w = r.options.welch;
-    lines.emplace_back("estimate", std::string(r.options.response.estimator == Estimator::kReference
-                                                   ? "reference method S_zy/S_zx"
-                                                   : "two-channel S_xy/S_xx (biased in closed loop)") +
-                                       ", " + window_name(w.window) + " window, " + std::to_string(w.segment_length) +
-                                       "-sample segments, " + std::to_string(std::lround(w.overlap * 100.0)) +
-                                       " % overlap, " + std::to_string(r.record->segments) + " segments (" +
-                                       printf_string("%.1f", r.record->effective_averages) + " independent)");
-  } else if (r.record) {
-    const std::string count = std::to_string(r.record->segments);
-    lines.emplace_back("estimate", *r.excitation_kind == ExcitationKind::kPeriodic
-                                       ? "spectra of whole periods averaged (" + count + " periods), Y/X at the excited lines"
-                                       : "IEEE 1057 sine fits, one line per dwell (" + count + " dwells), Y/X of the phasors");
+  const ResponseMethod& method = r.loop.lines.method;
+  const std::string averaged = std::to_string(method.averages);
+  switch (method.kind) {
+    case ResponseMethodKind::kWelch: {
+      const auto& w = r.options.welch;
+      lines.emplace_back("estimate", std::string(r.options.response.estimator == Estimator::kReference
+                                                     ? "reference method S_zy/S_zx"
+                                                     : "two-channel S_xy/S_xx (biased in closed loop)") +
+                                         ", " + window_name(w.window) + " window, " + std::to_string(w.segment_length) +
+                                         "-sample segments, " + std::to_string(std::lround(w.overlap * 100.0)) +
+                                         " % overlap, " + averaged + " segments (" +
+                                         printf_string("%.1f", method.effective_averages) + " independent)");
+      break;
+    }
+    case ResponseMethodKind::kPeriodic:
+      lines.emplace_back("estimate", "spectra of whole periods averaged (" + averaged + " periods), Y/X at the excited lines");
+      break;
+    case ResponseMethodKind::kSteppedSine:
+      lines.emplace_back("estimate", "IEEE 1057 sine fits, one line per dwell (" + averaged + " dwells), Y/X of the phasors");
+      break;
+    case ResponseMethodKind::kTable: break;
   }
   const std::size_t count = r.margins.line_count;
   lines.emplace_back("loop", std::string(convention_formula(r.loop.convention)) + " (" +

@@ -97,7 +97,7 @@ Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& finding
   const double floor = peak * std::pow(10.0, -s.options.injection_floor_db / 10.0);
   const std::size_t last = (s.options.period_samples - 1) / 2;  // never DC or Nyquist
   Response r;
-  r.effective_averages = n;
+  r.method = {ResponseMethodKind::kPeriodic, s.periods_used, n};
   double excited_power = 0.0, other_power = 0.0;
   std::size_t excited = 0, others = 0;
   for (std::size_t k = 1; k <= last; ++k) {

@@ -102,7 +102,7 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
   const double floor = peak * std::pow(10.0, -options.injection_floor_db / 10.0);
 
   Response response;
-  response.effective_averages = spectra.effective_averages;
+  response.method = {ResponseMethodKind::kWelch, spectra.segments, spectra.effective_averages};
   for (std::size_t k = 1; k <= last_line; ++k) {
     if (reference_power[k].real() < floor) continue;
     const Line line = options.estimator == Estimator::kReference ? reference_line(spectra, k)

@@ -85,6 +85,7 @@ struct SteppedSineEstimator::Impl {
     response.frequency_hz.push_back(z.frequency_hz);
     response.value.push_back(y.phasor() / x.phasor());
     response.coherence.push_back(1.0 / (1.0 + std::pow(10.0, -snr_db / 10.0)));
+    response.snr_db.push_back(snr_db);
     response.relative_sigma.push_back(std::sqrt(relative / 2.0));
   }
 
@@ -163,8 +164,9 @@ Response SteppedSineEstimator::finish(Diagnostics& findings) {
     sorted.value.push_back(s.response.value[i]);
     sorted.coherence.push_back(s.response.coherence[i]);
     sorted.relative_sigma.push_back(s.response.relative_sigma[i]);
+    sorted.snr_db.push_back(s.response.snr_db[i]);
   }
-  sorted.effective_averages = 1.0;
+  sorted.method = {ResponseMethodKind::kSteppedSine, sorted.size(), 1.0};
   return sorted;
 }
 

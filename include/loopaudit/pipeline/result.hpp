@@ -20,8 +20,6 @@ struct RecordFacts {
   std::size_t sample_count = 0;
   std::vector<std::string> channel_names;
   ChannelRoles roles;
-  std::size_t segments = 0;
-  double effective_averages = 0.0;
 };
 
 struct AnalysisResult {

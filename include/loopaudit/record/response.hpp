@@ -9,16 +9,39 @@
 
 namespace loopaudit {
 
+// How a response was estimated, carried with its lines so that every later
+// stage and the report can say it without working it out again.
+enum class ResponseMethodKind {
+  kTable,        // read from a frequency-response table (or a model)
+  kWelch,        // averaged cross-spectra of windowed segments
+  kPeriodic,     // spectra of whole periods averaged
+  kSteppedSine,  // a sine fit per dwell, one line each
+};
+
+struct ResponseMethod {
+  ResponseMethodKind kind = ResponseMethodKind::kTable;
+  // What was averaged: Welch segments, whole periods, or dwells fitted.
+  std::size_t averages = 0;
+  // Independent averages behind each line: Welch's overlap-corrected count,
+  // the number of periods, 1 for a dwell.
+  double effective_averages = 0.0;
+};
+
 struct Response {
   std::vector<double> frequency_hz;
   std::vector<std::complex<double>> value;
   // Magnitude-squared coherence; for the reference method the smaller of
   // gamma^2(r, x) and gamma^2(r, y). Empty when unknown (a table).
+  // A stepped sine's coherence is the one its fit's SNR implies,
+  // 1 / (1 + 1/SNR).
   std::vector<double> coherence;
   // Standard deviation of ln|H| (nepers) and of arg H (rad), equal to first
   // order; 0 where unknown (a table without uncertainty).
   std::vector<double> relative_sigma;
-  double effective_averages = 0.0;
+  // Stepped sine: each dwell's fitted signal over its residual, the worse of
+  // x and y, in dB. Empty for the other methods.
+  std::vector<double> snr_db;
+  ResponseMethod method;
 
   std::size_t size() const { return frequency_hz.size(); }
 };
