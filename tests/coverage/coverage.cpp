@@ -1,9 +1,10 @@
 // Coverage of the margin intervals: how often the nominal interval holds the
 // true value, over many simulated recordings of one known loop.
 //
-// The loop is 2/(s(s+1)(s+2)) of REFERENCES.md section 5, time-scaled so that
-// its unit frequency is 100 Hz and held by a zero-order hold at 8 kHz; the
-// truth is the exact response of that discrete loop (as `synth` computes it).
+// The loop is 2/(s(s+1)(s+2)) of data/reference/known_loops.csv, time-scaled
+// so that its unit frequency is 100 Hz and held by a zero-order hold at 8 kHz;
+// the truth is the exact response of that discrete loop (as `synth` computes
+// it).
 // Cells: two excitations (random noise through Welch, periodic multisine)
 // times two noise levels, each with its own run of seeds.
 //

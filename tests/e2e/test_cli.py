@@ -3,6 +3,7 @@
 Environment: LOOPAUDIT (the binary) and LOOPAUDIT_DEMO (data/demo), set by
 CTest. Recordings are made with `loopaudit synth`; each check names its source.
 """
+import csv
 import json
 import math
 import os
@@ -15,6 +16,8 @@ import numpy as np
 
 BINARY = os.environ.get("LOOPAUDIT", "loopaudit")
 DEMO = os.environ.get("LOOPAUDIT_DEMO", "../../data/demo")
+# Check values with their sources (format: data/reference/README.md).
+REFERENCE = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "data", "reference")
 
 # Exit codes documented in README.md.
 USAGE, INPUT, SETTINGS, NO_RESULT, OUTPUT = 2, 3, 4, 5, 6
@@ -34,6 +37,17 @@ def run(*args, check=True):
 def load(path):
     with open(path) as f:
         return json.load(f)
+
+
+def reference_row(name, key):
+    """The row of data/reference/<name> whose first column is `key`, numbers as floats."""
+    with open(os.path.join(REFERENCE, name), newline="") as f:
+        rows = list(csv.DictReader(line for line in f if line.strip() and not line.startswith("#")))
+    first = next(iter(rows[0]))
+    found = [r for r in rows if r[first] == key]
+    if len(found) != 1:
+        raise KeyError(f"data/reference/{name}: {len(found)} rows for {key}")
+    return {k: (float(v) if v and k != first else v) for k, v in found[0].items()}
 
 
 def nearest(freqs, f):
@@ -186,25 +200,27 @@ class FrequencyDomainTables(unittest.TestCase):
 
     def test_third_order_loop_from_a_simulator_sweep(self):
         # K/(s(s+1)(s+2)), K = 1: phase crossover sqrt(2) rad/s, GM 20 log10 6 = 15.563025 dB;
-        # gain crossover 0.4457479596 rad/s, PM 53.41078618 deg (REFERENCES.md section 5).
+        # gain crossover 0.4457479596 rad/s, PM 53.41078618 deg (data/reference/known_loops.csv).
+        expected = reference_row("known_loops.csv", "1/(s(s+1)(s+2))")
         path = self.table(lambda s: 1 / (s * (s + 1) * (s + 2)), 0.01, 100, polar=True)
         out = os.path.join(self.folder, "m.json")
         run("table", path, "--json", out)
         s = load(out)["summary"]
-        self.assertAlmostEqual(s["phase_crossover_hz"] * 2 * math.pi, math.sqrt(2), delta=1e-5)
-        self.assertAlmostEqual(s["gain_margin_db"], 15.563025, delta=1e-4)
-        self.assertAlmostEqual(s["gain_crossover_hz"] * 2 * math.pi, 0.4457479596, delta=1e-5)
-        self.assertAlmostEqual(s["phase_margin_deg"], 53.41078618, delta=1e-3)
+        self.assertAlmostEqual(s["phase_crossover_hz"] * 2 * math.pi, expected["phase_crossover_rad_s"], delta=1e-5)
+        self.assertAlmostEqual(s["gain_margin_db"], expected["gain_margin_db"], delta=1e-4)
+        self.assertAlmostEqual(s["gain_crossover_hz"] * 2 * math.pi, expected["gain_crossover_rad_s"], delta=1e-5)
+        self.assertAlmostEqual(s["phase_margin_deg"], expected["phase_margin_deg"], delta=1e-3)
 
     def test_series_injection_table_is_negated(self):
         # A table of the measured ratio Y/X = -L gives the margins of L.
         path = self.table(lambda s: -2 / (s * (s + 1) * (s + 2)), 0.01, 100, polar=False)
         out = os.path.join(self.folder, "m.json")
         run("table", path, "--convention", "series-injection", "--json", out)
-        # 2/(s(s+1)(s+2)): GM 3 = 9.542425 dB, PM 32.61309705 deg (REFERENCES.md section 5).
+        # 2/(s(s+1)(s+2)): GM 3 = 9.542425 dB, PM 32.61309705 deg (data/reference/known_loops.csv).
+        expected = reference_row("known_loops.csv", "2/(s(s+1)(s+2))")
         s = load(out)["summary"]
-        self.assertAlmostEqual(s["gain_margin_db"], 9.542425, delta=1e-4)
-        self.assertAlmostEqual(s["phase_margin_deg"], 32.61309705, delta=1e-3)
+        self.assertAlmostEqual(s["gain_margin_db"], expected["gain_margin_db"], delta=1e-4)
+        self.assertAlmostEqual(s["phase_margin_deg"], expected["phase_margin_deg"], delta=1e-3)
 
     def test_no_crossover_in_band_is_null(self):
         path = self.table(lambda s: 1 / (s * (s + 1) * (s + 2)), 0.01, 0.1, polar=False)

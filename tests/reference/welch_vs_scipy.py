@@ -3,7 +3,9 @@
 scipy.signal (Debian's python3-scipy) is the reference library: csd(x, y)
 is conj(X) Y averaged over Hann-windowed segments with the segment mean
 removed and density scaling; welch() and coherence() follow from it
-(REFERENCES.md section 2, "scipy convention").
+(scipy.signal.csd documentation: "by convention, Pxy is computed with the
+conjugate FFT of X multiplied by the FFT of Y"; coherence() is the
+magnitude-squared coherence).
 """
 import subprocess
 import sys

@@ -1,6 +1,8 @@
-// Loops with published or closed-form margins (REFERENCES.md section 5:
-// values computed to 1e-12 by root finding; closed loops checked by their
-// poles). Frequencies there are in rad/s; these helpers take Hz.
+// Loops whose margins are known exactly. The margins are read from
+// data/reference/known_loops.csv (closed forms, or root finding on the exact
+// response; every closed loop there checked stable by its poles), the row
+// named by the loop's expression; frequencies there are in rad/s, these
+// helpers take Hz.
 #pragma once
 
 #include <cmath>
@@ -8,10 +10,12 @@
 #include <numbers>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "loopaudit/analysis/margins.hpp"
 #include "loopaudit/spectral/response.hpp"
+#include "reference_data.hpp"
 
 namespace known {
 
@@ -22,7 +26,7 @@ inline Complex s_of(double frequency_hz) { return {0.0, kTwoPi * frequency_hz}; 
 inline double hz(double omega) { return omega / kTwoPi; }
 
 struct KnownLoop {
-  std::string name;
+  std::string name;  // the loop's row in data/reference/known_loops.csv
   loopaudit::LoopFunction loop;
   double low_hz;
   double high_hz;
@@ -31,40 +35,63 @@ struct KnownLoop {
   std::optional<double> phase_crossover_rad_s;  // the one with the smallest |GM|
   std::optional<double> gain_margin_db;
   std::optional<double> delay_margin_s;
-  double modulus_margin;
+  double modulus_margin = 0.0;
 };
 
-inline double db(double ratio) { return 20.0 * std::log10(ratio); }
+// The row of data/reference/known_loops.csv for the loop written `expression`.
+inline reference::Row reference_values(std::string_view expression) {
+  static const reference::Table values("known_loops.csv");
+  return values.row(expression);
+}
+
+// The crossovers of one kind ("gain" or "phase") of a loop with several, in
+// order of frequency (data/reference/known_loop_crossings.csv).
+inline std::vector<reference::Row> reference_crossovers(std::string_view expression, std::string_view kind) {
+  static const reference::Table crossings("known_loop_crossings.csv");
+  return crossings.rows_where({{"loop", expression}, {"crossover", kind}});
+}
 
 inline std::vector<KnownLoop> table() {
-  return {
+  std::vector<KnownLoop> loops = {
       {"1/(s(s+1)(s+2))", [](double f) { auto s = s_of(f); return 1.0 / (s * (s + 1.0) * (s + 2.0)); },
-       hz(0.01), hz(100.0), 0.4457479596, 53.41078618, std::sqrt(2.0), db(6.0), 2.091303067, 0.6376002779},
+       hz(0.01), hz(100.0)},
       {"2/(s(s+1)(s+2))", [](double f) { auto s = s_of(f); return 2.0 / (s * (s + 1.0) * (s + 2.0)); },
-       hz(0.01), hz(100.0), 0.7493682758, 32.61309705, std::sqrt(2.0), db(3.0), 0.7595810, 0.4324672},
+       hz(0.01), hz(100.0)},
       {"10/(s(s+1)(s+5))", [](double f) { auto s = s_of(f); return 10.0 / (s * (s + 1.0) * (s + 5.0)); },
-       hz(0.01), hz(100.0), 1.227063884, 25.38982326, std::sqrt(5.0), db(3.0), 0.3611352, 0.3682460},
+       hz(0.01), hz(100.0)},
       {"1/(s(s+1)^2)", [](double f) { auto s = s_of(f); return 1.0 / (s * (s + 1.0) * (s + 1.0)); },
-       hz(0.01), hz(100.0), 0.6823278038, 21.38638975, 1.0, db(2.0), 0.5470434, 0.2969888},
+       hz(0.01), hz(100.0)},
       {"e^(-0.5s)/s", [](double f) { auto s = s_of(f); return std::exp(-0.5 * s) / s; },
-       hz(0.01), hz(30.0), 1.0, 61.35211024, std::numbers::pi, db(std::numbers::pi), 1.070796327, 0.6287369637},
+       hz(0.01), hz(30.0)},
       {"e^(-0.5s)/(s(s+1))", [](double f) { auto s = s_of(f); return std::exp(-0.5 * s) / (s * (s + 1.0)); },
-       hz(0.01), hz(30.0), 0.7861513778, 29.30571437, 1.306542374, 6.647438, 0.6506141, 0.3750995},
+       hz(0.01), hz(30.0)},
       // Conditionally stable: phase crossovers at 2 (L = -12) and 3 (L = -4.5).
       {"3(s+6)^2/(s(s+1)^2)", [](double f) { auto s = s_of(f); return 3.0 * (s + 6.0) * (s + 6.0) / (s * (s + 1.0) * (s + 1.0)); },
-       hz(0.01), hz(1000.0), 5.916379435, 18.38307488, 3.0, -db(4.5), 0.0542300, 0.3146025},
+       hz(0.01), hz(1000.0)},
       // Three gain crossovers; the delay margin is set by the third one.
       {"85(s+1)(s^2+2s+43.25)/(s^2(s^2+2s+82)(s^2+2s+101))",
        [](double f) {
          auto s = s_of(f);
          return 85.0 * (s + 1.0) * (s * s + 2.0 * s + 43.25) / (s * s * (s * s + 2.0 * s + 82.0) * (s * s + 2.0 * s + 101.0));
        },
-       hz(0.01), hz(1000.0), 0.7436481752, 36.73682917, 10.34310797, -db(0.792108383), 0.0693781, 0.187205714},
+       hz(0.01), hz(1000.0)},
   };
+  for (KnownLoop& k : loops) {
+    const reference::Row r = reference_values(k.name);
+    k.gain_crossover_rad_s = r.number("gain_crossover_rad_s");
+    k.phase_margin_deg = r.number("phase_margin_deg");
+    k.phase_crossover_rad_s = r.number("phase_crossover_rad_s");
+    k.gain_margin_db = r.number("gain_margin_db");
+    k.delay_margin_s = r.number("delay_margin_s");
+    k.modulus_margin = r.number("modulus_margin");
+  }
+  return loops;
 }
 
 // A discrete loop with a zero-order hold and one sample of delay,
-// L(z) = K T / (z (z - 1)) with K T = 0.5, sampled at 1 Hz (T = 1 s).
+// L(z) = K T / (z (z - 1)) with K T = 0.5, sampled at 1 Hz (T = 1 s); its
+// row in data/reference/known_loops.csv is kDiscreteHold.
+inline constexpr std::string_view kDiscreteHold = "0.5/(z(z-1))";
 inline Complex discrete_hold_loop(double frequency_hz) {
   const Complex z = std::polar(1.0, kTwoPi * frequency_hz);
   return 0.5 / (z * (z - 1.0));

@@ -7,7 +7,7 @@ using namespace loopaudit;
 
 namespace {
 // Root finding to the last bit leaves only the reference values' own
-// rounding (10 significant digits, 7 for some).
+// rounding (12 significant digits in data/reference/known_loops.csv).
 constexpr double kRel = 1e-7;
 constexpr double kDeg = 1e-6;
 }  // namespace
@@ -27,10 +27,14 @@ TEST_CASE("exact margins of known loops match the closed forms", "[analysis][exa
 }
 
 TEST_CASE("exact margins of the discrete hold loop", "[analysis][exact]") {
+  // data/reference/known_loops.csv, row 0.5/(z(z-1)) at T = 1 s (closed forms
+  // there as the nearest double): phase crossover at fs/6 with GM 2.
+  const auto expected = known::reference_values(known::kDiscreteHold);
   const Margins m = exact_margins(known::discrete_hold_loop, 1e-4, 0.4999);
-  CHECK(m.gain_crossovers.at(0).phase_margin_deg.value == Approx(46.56746344).margin(kDeg));
-  CHECK(m.phase_crossovers.at(0).frequency_hz.value == Approx(1.0 / 6.0).epsilon(1e-12));
-  CHECK(m.phase_crossovers.at(0).gain_margin_db.value == Approx(db_from_ratio(2.0)).margin(1e-9));
-  CHECK(m.gain_crossovers.at(0).delay_margin_s.value == Approx(1.60826884).epsilon(1e-8));
-  CHECK(m.summary.modulus_margin->value == Approx(0.45508986).epsilon(1e-7));
+  CHECK(m.gain_crossovers.at(0).phase_margin_deg.value == Approx(expected.number("phase_margin_deg")).margin(kDeg));
+  CHECK(m.phase_crossovers.at(0).frequency_hz.value ==
+        Approx(known::hz(expected.number("phase_crossover_rad_s"))).epsilon(1e-12));
+  CHECK(m.phase_crossovers.at(0).gain_margin_db.value == Approx(expected.number("gain_margin_db")).margin(1e-9));
+  CHECK(m.gain_crossovers.at(0).delay_margin_s.value == Approx(expected.number("delay_margin_s")).epsilon(1e-8));
+  CHECK(m.summary.modulus_margin->value == Approx(expected.number("modulus_margin")).epsilon(1e-7));
 }

@@ -45,7 +45,7 @@ TEST_CASE("margins of sampled known loops match the closed forms", "[analysis][m
 }
 
 TEST_CASE("K/(s(s+1)(s+2)) crosses -180 deg at sqrt(2) rad/s with GM = 20 log10(6/K)", "[analysis][margins]") {
-  // Closed form (REFERENCES.md section 5): L(j sqrt 2) = -K/6 for every K.
+  // Closed form (data/reference/known_loops.csv): L(j sqrt 2) = -K/6 for every K.
   for (double gain : {0.5, 1.0, 2.4, 4.0}) {
     const LoopFunction loop = [gain](double f) { auto s = known::s_of(f); return gain / (s * (s + 1.0) * (s + 2.0)); };
     const Margins m = find_margins(known::sample(loop, known::hz(0.01), known::hz(100.0), kLinesPerDecade));
@@ -62,7 +62,7 @@ TEST_CASE("K/(s(s+1)(s+2)) crosses -180 deg at sqrt(2) rad/s with GM = 20 log10(
 }
 
 TEST_CASE("K e^(-sT)/s: crossover at K; PM = 90 - (180/pi) K T; delay margin PM/K", "[analysis][margins]") {
-  // Closed form (REFERENCES.md section 5); phase crossovers at (4k+1) pi / (2T)
+  // Closed form (data/reference/known_loops.csv); phase crossovers at (4k+1) pi / (2T)
   // with GM_k = omega_k / K, the smallest first.
   for (const auto& [gain, delay] : {std::pair{1.0, 0.5}, std::pair{2.0, 0.1}, std::pair{0.5, 1.2}}) {
     const LoopFunction loop = [gain, delay](double f) { auto s = known::s_of(f); return gain * std::exp(-delay * s) / s; };
@@ -90,52 +90,66 @@ TEST_CASE("K e^(-sT)/s: crossover at K; PM = 90 - (180/pi) K T; delay margin PM/
 }
 
 TEST_CASE("a conditionally stable loop reports both phase crossovers and their directions", "[analysis][margins]") {
-  // 3(s+6)^2/(s(s+1)^2): L(j2) = -12, L(j3) = -4.5 (REFERENCES.md section 5).
+  // 3(s+6)^2/(s(s+1)^2): L(j2) = -12, L(j3) = -4.5 (data/reference/known_loop_crossings.csv).
   const auto k = known::table()[6];
+  const auto expected = known::reference_crossovers(k.name, "phase");
   const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
   REQUIRE(m.phase_crossovers.size() == 2);
-  CHECK(rad_per_s_from_hz(m.phase_crossovers[0].frequency_hz.value) == Approx(2.0).epsilon(kFrequencyRel));
-  CHECK(m.phase_crossovers[0].gain_margin_db.value == Approx(-db_from_ratio(12.0)).margin(kGainDb));
-  CHECK(rad_per_s_from_hz(m.phase_crossovers[1].frequency_hz.value) == Approx(3.0).epsilon(kFrequencyRel));
-  CHECK(m.phase_crossovers[1].gain_margin_db.value == Approx(-db_from_ratio(4.5)).margin(kGainDb));
+  REQUIRE(expected.size() == 2);
+  for (std::size_t i = 0; i < 2; ++i) {
+    CHECK(rad_per_s_from_hz(m.phase_crossovers[i].frequency_hz.value) ==
+          Approx(expected[i].number("frequency_rad_s")).epsilon(kFrequencyRel));
+    CHECK(m.phase_crossovers[i].gain_margin_db.value == Approx(expected[i].number("gain_margin_db")).margin(kGainDb));
+  }
   for (const auto& c : m.phase_crossovers) CHECK(c.limits == GainDirection::kDecrease);
-  // Stable for gain scale above 2/9: the margin against reduction is -13.064 dB, no upper limit.
-  CHECK(m.summary.gain_reduction_margin_db->value == Approx(db_from_ratio(2.0 / 9.0)).margin(kGainDb));
+  // Stable for gain scale above 2/9 (data/reference/known_loops.csv): the margin
+  // against reduction is the crossover at 3 rad/s, 2/9 = -13.064 dB; no upper limit.
+  CHECK(m.summary.gain_reduction_margin_db->value == Approx(expected[1].number("gain_margin_db")).margin(kGainDb));
   CHECK_FALSE(m.summary.gain_increase_margin_db.has_value());
 }
 
 TEST_CASE("a loop with three gain crossovers lists all three", "[analysis][margins]") {
+  // data/reference/known_loop_crossings.csv.
   const auto k = known::table()[7];
+  const auto expected = known::reference_crossovers(k.name, "gain");
   const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
   REQUIRE(m.gain_crossovers.size() == 3);
-  const double omegas[] = {0.7436481752, 9.451119214, 9.838826013};
-  const double pms[] = {36.73682917, 72.17946244, 39.11002464};
+  REQUIRE(expected.size() == 3);
+  double omegas[3], pms[3];
+  for (std::size_t i = 0; i < 3; ++i) {
+    omegas[i] = expected[i].number("frequency_rad_s");
+    pms[i] = expected[i].number("phase_margin_deg");
+  }
   for (std::size_t i = 0; i < 3; ++i) {
     CHECK(rad_per_s_from_hz(m.gain_crossovers[i].frequency_hz.value) == Approx(omegas[i]).epsilon(kFrequencyRel));
     CHECK(m.gain_crossovers[i].phase_margin_deg.value == Approx(pms[i]).margin(kAngleDeg));
   }
   // The delay margin comes from the third crossover, not the smallest PM.
   CHECK(m.summary.delay_margin_s->value == Approx(rad_from_deg(pms[2]) / omegas[2]).epsilon(1e-5));
-  CHECK(rad_per_s_from_hz(*m.summary.modulus_frequency_hz) == Approx(10.2727).epsilon(1e-4));
+  CHECK(rad_per_s_from_hz(*m.summary.modulus_frequency_hz) ==
+        Approx(known::reference_values(k.name).number("modulus_frequency_rad_s")).epsilon(1e-4));
 }
 
 TEST_CASE("the discrete hold loop K T/(z(z-1)) matches its closed form", "[analysis][margins]") {
-  // REFERENCES.md section 5: phase crossover at f = fs/6, GM = 1/(K T);
-  // PM = pi/2 - 1.5 theta_c with theta_c = 2 asin(K T / 2).
+  // data/reference/known_loops.csv, row 0.5/(z(z-1)) at T = 1 s: phase crossover
+  // at f = fs/6, GM = 1/(K T); PM = pi/2 - 1.5 theta_c with theta_c = 2 asin(K T / 2).
+  const auto expected = known::reference_values(known::kDiscreteHold);
   const Margins m = find_margins(known::sample(known::discrete_hold_loop, 1e-4, 0.4999, kLinesPerDecade));
-  const double theta_c = 2.0 * std::asin(0.25);
   REQUIRE(m.gain_crossovers.size() == 1);
-  CHECK(m.gain_crossovers[0].frequency_hz.value == Approx(theta_c / known::kTwoPi).epsilon(kFrequencyRel));
-  CHECK(m.gain_crossovers[0].phase_margin_deg.value == Approx(46.56746344).margin(kAngleDeg));
-  CHECK(m.gain_crossovers[0].delay_margin_s.value == Approx(1.60826884).epsilon(1e-5));
+  CHECK(m.gain_crossovers[0].frequency_hz.value ==
+        Approx(known::hz(expected.number("gain_crossover_rad_s"))).epsilon(kFrequencyRel));
+  CHECK(m.gain_crossovers[0].phase_margin_deg.value == Approx(expected.number("phase_margin_deg")).margin(kAngleDeg));
+  CHECK(m.gain_crossovers[0].delay_margin_s.value == Approx(expected.number("delay_margin_s")).epsilon(1e-5));
   REQUIRE(m.phase_crossovers.size() == 1);
-  CHECK(m.phase_crossovers[0].frequency_hz.value == Approx(1.0 / 6.0).epsilon(kFrequencyRel));
-  CHECK(m.phase_crossovers[0].gain_margin_db.value == Approx(db_from_ratio(2.0)).margin(kGainDb));
-  CHECK(m.summary.modulus_margin->value == Approx(0.45508986).epsilon(kModulusRel));
+  CHECK(m.phase_crossovers[0].frequency_hz.value ==
+        Approx(known::hz(expected.number("phase_crossover_rad_s"))).epsilon(kFrequencyRel));
+  CHECK(m.phase_crossovers[0].gain_margin_db.value == Approx(expected.number("gain_margin_db")).margin(kGainDb));
+  CHECK(m.summary.modulus_margin->value == Approx(expected.number("modulus_margin")).epsilon(kModulusRel));
 }
 
 TEST_CASE("modulus margin bounds the classical margins", "[analysis][margins]") {
-  // Astrom and Murray, "Feedback Systems": GM >= 1/(1 - s_m), PM >= 2 asin(s_m/2).
+  // Astrom and Murray, "Feedback Systems": GM >= 1/(1 - s_m), PM >= 2 asin(s_m/2)
+  // (data/reference/known_loops.csv).
   for (const auto& k : known::table()) {
     INFO(k.name);
     const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));
@@ -233,20 +247,22 @@ TEST_CASE("fewer than two lines give no margins and say why", "[analysis][margin
 TEST_CASE("disk margin of an integrator is alpha = 2 with 90 deg of phase", "[analysis][disk]") {
   // L = a/s: |S - T| = |(jw - a)/(jw + a)| = 1 at every frequency, so
   // alpha = 2 (closed form): any gain increase and 2 atan(1) = 90 deg
-  // (Seiler, Packard, Gahinet, IEEE Control Systems Magazine 2020, for the
-  // definitions).
+  // (data/reference/disk_margins.csv, row a/s; Seiler, Packard, Gahinet, IEEE
+  // Control Systems Magazine 2020, for the definitions).
+  const auto expected = reference::Table("disk_margins.csv").row("a/s");
   const LoopFunction loop = [](double f) { return 5.0 / known::s_of(f); };
   const Margins m = find_margins(known::sample(loop, 0.01, 100.0, 100));
   REQUIRE(m.disk.has_value());
-  CHECK(m.disk->alpha.value == Approx(2.0).margin(1e-9));
-  CHECK(m.disk->phase_deg.value == Approx(90.0).margin(1e-6));
+  CHECK(m.disk->alpha.value == Approx(expected.number("alpha")).margin(1e-9));
+  CHECK(m.disk->phase_deg.value == Approx(expected.number("phase_deg")).margin(1e-6));
   CHECK(std::isinf(m.disk->gain_high_db.value));
 }
 
 TEST_CASE("disk margins are inner bounds of the classical margins on every known loop", "[analysis][disk]") {
-  // Seiler, Packard, Gahinet 2020: the disk gain range lies inside the gain
-  // margins and the disk phase inside the phase margins. The sampled disk
-  // margin matches the exact one (golden-section on the loop function).
+  // Seiler, Packard, Gahinet 2020 (data/reference/disk_margins.csv): the disk
+  // gain range lies inside the gain margins and the disk phase inside the
+  // phase margins. The sampled disk margin matches the exact one
+  // (golden-section on the loop function).
   for (const auto& k : known::table()) {
     INFO(k.name);
     const Margins m = find_margins(known::sample(k.loop, k.low_hz, k.high_hz, kLinesPerDecade));

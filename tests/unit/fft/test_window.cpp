@@ -3,6 +3,7 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/spectral/welch.hpp"
 #include "loopaudit/fft/window.hpp"
+#include "reference_data.hpp"
 
 using namespace loopaudit;
 
@@ -15,60 +16,61 @@ constexpr double kExact = 1e-9;
 
 TEST_CASE("coherent gain and ENBW of cosine-sum windows match their closed forms", "[spectral][window]") {
   // CG = a0, ENBW = (a0^2 + 0.5 sum a_k^2) / a0^2 for a periodic cosine sum
-  // (exact; REFERENCES.md section 1, Heinzel, Rudiger, Schilling 2002, App. C).
-  struct Case {
-    WindowKind kind;
-    double coherent_gain;
-    double enbw_bins;
-  };
-  const double bh_enbw = (0.35875 * 0.35875 + 0.5 * (0.48829 * 0.48829 + 0.14128 * 0.14128 + 0.01168 * 0.01168)) /
-                         (0.35875 * 0.35875);
-  const Case cases[] = {
-      {WindowKind::kRectangular, 1.0, 1.0},
-      {WindowKind::kHann, 0.5, 1.5},
-      {WindowKind::kHamming, 0.54, (0.54 * 0.54 + 0.5 * 0.46 * 0.46) / (0.54 * 0.54)},
-      {WindowKind::kBlackmanHarris, 0.35875, bh_enbw},
-  };
-  for (const Case& c : cases) {
-    const WindowFigures f = window_figures(make_window(c.kind, kLength));
-    CHECK(f.coherent_gain == Approx(c.coherent_gain).margin(kExact));
-    CHECK(f.enbw_bins == Approx(c.enbw_bins).margin(kExact));
+  // (exact; data/reference/windows.csv, columns coherent_gain and enbw_bins).
+  const reference::Table windows("windows.csv");
+  REQUIRE(windows.rows().size() == 4);
+  for (const auto& row : windows.rows()) {
+    INFO(row.text("window"));
+    const WindowFigures f = window_figures(make_window(window_from_name(row.text("window")), kLength));
+    CHECK(f.coherent_gain == Approx(row.number("coherent_gain")).margin(kExact));
+    CHECK(f.enbw_bins == Approx(row.number("enbw_bins")).margin(kExact));
   }
 }
 
 TEST_CASE("window figures agree with Heinzel et al. and Harris", "[spectral][window]") {
   // Heinzel, Rudiger, Schilling 2002, Appendix C: NENBW and flatness
-  // (scalloping loss) to the 4 decimals printed there.
+  // (scalloping loss) to the 4 decimals printed there (data/reference/windows.csv,
+  // columns heinzel_nenbw_bins and heinzel_scalloping_loss_db).
   constexpr double kPrinted = 1e-4;
+  const reference::Table windows("windows.csv");
+  const auto heinzel = [&](const WindowFigures& f, std::string_view window) {
+    INFO(window);
+    const auto row = windows.row(window);
+    CHECK(f.enbw_bins == Approx(row.number("heinzel_nenbw_bins")).margin(kPrinted));
+    CHECK(f.scalloping_loss_db == Approx(row.number("heinzel_scalloping_loss_db")).margin(kPrinted));
+  };
   const WindowFigures hann = window_figures(make_window(WindowKind::kHann, kLength));
-  CHECK(hann.enbw_bins == Approx(1.5).margin(kPrinted));
-  CHECK(hann.scalloping_loss_db == Approx(1.4236).margin(kPrinted));
+  heinzel(hann, "hann");
   const WindowFigures hamming = window_figures(make_window(WindowKind::kHamming, kLength));
-  CHECK(hamming.enbw_bins == Approx(1.3628).margin(kPrinted));
-  CHECK(hamming.scalloping_loss_db == Approx(1.7514).margin(kPrinted));
+  heinzel(hamming, "hamming");
   const WindowFigures bh = window_figures(make_window(WindowKind::kBlackmanHarris, kLength));
-  CHECK(bh.enbw_bins == Approx(2.0044).margin(kPrinted));
-  CHECK(bh.scalloping_loss_db == Approx(0.8256).margin(kPrinted));
+  heinzel(bh, "blackman-harris");
   const WindowFigures rect = window_figures(make_window(WindowKind::kRectangular, kLength));
-  // Harris 1978, Table I, as recalled (from memory): rectangular 3.92 dB,
-  // Hann 1.42 dB, Hamming 1.78 dB; Harris's Hamming differs from the exact
-  // 1.7514 by about 0.03 dB (REFERENCES.md section 1).
-  CHECK(rect.scalloping_loss_db == Approx(3.92).margin(0.01));
-  CHECK(hann.scalloping_loss_db == Approx(1.42).margin(0.01));
-  CHECK(hamming.scalloping_loss_db == Approx(1.78).margin(0.03));
+  // Harris 1978, Table I, as recalled (from memory; data/reference/windows.csv,
+  // column harris_scalloping_loss_db): rectangular 3.92 dB, Hann 1.42 dB,
+  // Hamming 1.78 dB; Harris's Hamming differs from the exact 1.7514 by about 0.03 dB.
+  const auto harris = [&](std::string_view window) { return windows.row(window).number("harris_scalloping_loss_db"); };
+  CHECK(rect.scalloping_loss_db == Approx(harris("rectangular")).margin(0.01));
+  CHECK(hann.scalloping_loss_db == Approx(harris("hann")).margin(0.01));
+  CHECK(hamming.scalloping_loss_db == Approx(harris("hamming")).margin(0.03));
 }
 
 TEST_CASE("overlap correlation and effective averages follow Welch 1967", "[spectral][window]") {
   const auto hann = make_window(WindowKind::kHann, kLength);
-  // Hann at 50 % overlap: c(1) = 1/6 (REFERENCES.md section 3, exact).
-  CHECK(overlap_correlation(hann, kLength / 2) == Approx(1.0 / 6.0).margin(1e-9));
+  // data/reference/welch_overlap.csv (exact).
+  const reference::Table overlap("welch_overlap.csv");
+  const auto ten = overlap.row_where({{"window", "hann"}, {"overlap", "0.5"}, {"segments", "10"}});
+  const auto hundred = overlap.row_where({{"window", "hann"}, {"overlap", "0.5"}, {"segments", "100"}});
+  // Hann at 50 % overlap: c(1) = 1/6.
+  CHECK(overlap_correlation(hann, kLength / 2) == Approx(ten.number("correlation")).margin(1e-9));
   // K Var / P^2 = 1 + (K - 1)/(18 K): K_eff = 9.524 for K = 10, 94.79 for K = 100.
   CHECK(effective_averages(hann, kLength / 2, 10) == Approx(10.0 / (1.0 + 9.0 / 180.0)).epsilon(1e-9));
-  CHECK(effective_averages(hann, kLength / 2, 10) == Approx(9.524).margin(1e-3));
-  CHECK(effective_averages(hann, kLength / 2, 100) == Approx(94.79).margin(1e-2));
-  // Hann at 75 %: variance factor 1.92454 for many segments (REFERENCES.md section 3).
+  CHECK(effective_averages(hann, kLength / 2, 10) == Approx(ten.number("effective_averages")).margin(1e-3));
+  CHECK(effective_averages(hann, kLength / 2, 100) == Approx(hundred.number("effective_averages")).margin(1e-2));
+  // Hann at 75 %: variance factor 1.92464 for many segments.
+  const auto limit = overlap.row_where({{"window", "hann"}, {"overlap", "0.75"}, {"segments", "inf"}});
   const std::size_t many = 100000;
-  CHECK(many / effective_averages(hann, kLength / 4, many) == Approx(1.92454).margin(1e-4));
+  CHECK(many / effective_averages(hann, kLength / 4, many) == Approx(limit.number("variance_factor")).margin(1e-4));
   // Without overlap the segments are independent.
   CHECK(effective_averages(hann, kLength, 7) == Approx(7.0));
 }

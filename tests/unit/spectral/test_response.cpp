@@ -6,16 +6,23 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/spectral/response.hpp"
 #include "loopaudit/units.hpp"
+#include "reference_data.hpp"
 
 using namespace loopaudit;
 
 TEST_CASE("random error of a response estimate follows Bendat and Piersol", "[spectral][response]") {
   // Bendat and Piersol, "Random Data", 4th ed., 2010, sec. 9.2.3:
-  // eps = sqrt(1 - gamma^2) / (|gamma| sqrt(2 n_d)); values from REFERENCES.md section 2.
-  CHECK(bendat_piersol_random_error(0.9, 32) == Approx(0.0416667).margin(1e-7));
-  CHECK(bendat_piersol_random_error(0.5, 10) == Approx(0.2236068).margin(1e-7));
-  CHECK(bendat_piersol_random_error(0.99, 16) == Approx(0.0177667).margin(1e-7));
-  CHECK(deg_from_rad(bendat_piersol_random_error(0.5, 10)) == Approx(12.8117).margin(1e-4));
+  // eps = sqrt(1 - gamma^2) / (|gamma| sqrt(2 n_d)); values from data/reference/random_error.csv.
+  const reference::Table values("random_error.csv");
+  REQUIRE(values.rows().size() == 3);
+  for (const auto& row : values.rows()) {
+    const double coherence = row.number("coherence");
+    const double averages = row.number("averages");
+    INFO("gamma^2 = " << coherence << ", n_d = " << averages);
+    CHECK(bendat_piersol_random_error(coherence, averages) == Approx(row.number("random_error")).margin(1e-7));
+    CHECK(deg_from_rad(bendat_piersol_random_error(coherence, averages)) ==
+          Approx(row.number("phase_std_deg")).margin(1e-4));
+  }
 }
 
 namespace {

@@ -5,6 +5,7 @@
 
 #include "loopaudit/error.hpp"
 #include "loopaudit/spectral/sine_fit.hpp"
+#include "reference_data.hpp"
 
 using namespace loopaudit;
 
@@ -33,7 +34,7 @@ double spread(const std::vector<double>& v) {
 }  // namespace
 
 TEST_CASE("a noise-free sine is recovered to rounding by both fits", "[spectral][sine]") {
-  // IEEE Std 1057 fits on an exact sinusoid (REFERENCES.md section 4: about 1e-10).
+  // IEEE Std 1057 fits on an exact sinusoid (data/reference/sine_fit.csv: about 1e-10).
   const auto x = sine(1000, 123.4, 10000.0, 1.7, 0.6, -0.3);
   const SineFit three = fit_sine_three(x, 123.4, 10000.0);
   CHECK(three.amplitude() == Approx(1.7).margin(1e-10));
@@ -48,7 +49,7 @@ TEST_CASE("a noise-free sine is recovered to rounding by both fits", "[spectral]
 
 TEST_CASE("with coherent sampling the three-parameter fit is the DFT bin", "[spectral][sine]") {
   // M whole cycles in N samples: A = (2/N) Re X[M], B = -(2/N) Im X[M], C = mean
-  // (REFERENCES.md section 4, exact). The DFT bin is summed here directly.
+  // (data/reference/sine_fit.csv, exact). The DFT bin is summed here directly.
   const std::size_t n = 512;
   const std::size_t m = 37;
   const auto x = sine(n, static_cast<double>(m), static_cast<double>(n), 0.8, -1.1, 0.25, 0.05, 9);
@@ -66,15 +67,18 @@ TEST_CASE("with coherent sampling the three-parameter fit is the DFT bin", "[spe
 
 TEST_CASE("the fits' spread is close to the Cramer-Rao bound", "[spectral][sine]") {
   // Kay, "Fundamentals of Statistical Signal Processing" vol. I, 1993, example 3.14
-  // (from memory; values in REFERENCES.md section 4): N = 1000, A = 1, sigma = 0.1:
+  // (from memory; values in data/reference/sine_fit.csv): N = 1000, A = 1, sigma = 0.1:
   // std(A) = 4.4721e-3 and std(phase) = 4.4721e-3 rad for the three-parameter fit,
-  // 8.9376e-3 rad for the four-parameter fit (phase at n = 0). REFERENCES.md: a Monte
-  // Carlo test can hold the spread within 15 % of these; 400 trials estimate a standard
-  // deviation to about 3.5 %.
+  // 8.9376e-3 rad for the four-parameter fit (phase at n = 0). The spread is held
+  // within 15 % of these; 400 trials estimate a standard deviation to about 3.5 %.
+  const auto bound = reference::Table("sine_fit.csv").row("1000");
+  const auto samples = static_cast<std::size_t>(bound.number("samples"));
+  const double amplitude = bound.number("amplitude");
+  const double sigma = bound.number("noise_sigma");
   const int trials = 400;
   std::vector<double> amplitude3, phase3, phase4, residual;
   for (int t = 0; t < trials; ++t) {
-    const auto x = sine(1000, 50.3, 1000.0, 1.0, 0.4, 0.0, 0.1, 100 + t);
+    const auto x = sine(samples, 50.3, 1000.0, amplitude, 0.4, 0.0, sigma, 100 + t);
     const SineFit three = fit_sine_three(x, 50.3, 1000.0);
     const SineFit four = fit_sine_four(x, 50.3, 1000.0);
     amplitude3.push_back(three.amplitude());
@@ -82,13 +86,14 @@ TEST_CASE("the fits' spread is close to the Cramer-Rao bound", "[spectral][sine]
     phase4.push_back(std::arg(four.phasor()));
     residual.push_back(three.residual_rms);
   }
-  CHECK(spread(amplitude3) == Approx(4.4721e-3).epsilon(0.15));
-  CHECK(spread(phase3) == Approx(4.4721e-3).epsilon(0.15));
-  CHECK(spread(phase4) == Approx(8.9376e-3).epsilon(0.15));
-  // The residual is the added noise's RMS: 0.1 times sqrt((N - 3)/N), within its sampling error (~2 %).
+  CHECK(spread(amplitude3) == Approx(bound.number("std_amplitude")).epsilon(0.15));
+  CHECK(spread(phase3) == Approx(bound.number("std_phase_three_param_rad")).epsilon(0.15));
+  CHECK(spread(phase4) == Approx(bound.number("std_phase_four_param_rad")).epsilon(0.15));
+  // The residual is the added noise's RMS: sigma times sqrt((N - 3)/N), within its sampling error (~2 %).
   double mean_residual = 0.0;
   for (double r : residual) mean_residual += r / trials;
-  CHECK(mean_residual == Approx(0.1 * std::sqrt(997.0 / 1000.0)).epsilon(0.01));
+  const double n = static_cast<double>(samples);
+  CHECK(mean_residual == Approx(sigma * std::sqrt((n - 3.0) / n)).epsilon(0.01));
 }
 
 TEST_CASE("harmonics of a distorted sine are measured", "[spectral][sine]") {

@@ -60,7 +60,7 @@ TEST_CASE("segment count follows the step", "[spectral][welch]") {
 
 TEST_CASE("a bin-centred tone's density times the noise bandwidth is its power", "[spectral][welch]") {
   // Analytic: S(k0) = (A^2/2) / (ENBW_bins fs / N) for a tone on bin k0
-  // (density scaling, REFERENCES.md section 1).
+  // (density scaling; ENBW as defined in data/reference/windows.csv).
   const double fs = 1000.0;
   const std::size_t n = 256;
   const std::size_t k0 = 32;

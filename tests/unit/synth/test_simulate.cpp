@@ -6,6 +6,7 @@
 #include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/synth/simulate.hpp"
 #include "loopaudit/units.hpp"
+#include "reference_data.hpp"
 #include "temp_file.hpp"
 
 using namespace loopaudit;
@@ -66,20 +67,23 @@ TEST_CASE("bilinear stages equal the continuous function at the warped frequency
 }
 
 TEST_CASE("an integrator under a hold with one sample of delay has the published margins", "[synth]") {
-  // L(z) = K T / (z (z - 1)), K T = 0.5 (REFERENCES.md section 5): PM 46.56746344 deg,
-  // GM 2 at fs/6, delay margin 1.60826884 T, s_m 0.45508986.
+  // L(z) = K T / (z (z - 1)), K T = 0.5 (data/reference/known_loops.csv, row
+  // 0.5/(z(z-1)), given at T = 1 s): PM 46.567 deg, GM 2 at fs/6, delay margin
+  // 1.608 T, s_m 0.455.
+  const auto expected = reference::Table("known_loops.csv").row("0.5/(z(z-1))");
   const double fs = 1000.0;
   Stage integrator{"integrator", 0.5 * fs, 1, {}, {}, Discretization::kZeroOrderHold};
   const Scenario scenario = one_stage(integrator, fs, 1);
   const Synthesis synthesis = synthesize(scenario);
   const Margins& truth = synthesis.truth;
   REQUIRE(truth.gain_crossovers.size() == 1);
-  CHECK(truth.gain_crossovers[0].phase_margin_deg.value == Approx(46.56746344).margin(1e-6));
-  CHECK(truth.gain_crossovers[0].delay_margin_s.value * fs == Approx(1.60826884).epsilon(1e-7));
+  CHECK(truth.gain_crossovers[0].phase_margin_deg.value == Approx(expected.number("phase_margin_deg")).margin(1e-6));
+  CHECK(truth.gain_crossovers[0].delay_margin_s.value * fs == Approx(expected.number("delay_margin_s")).epsilon(1e-7));
   REQUIRE(truth.phase_crossovers.size() == 1);
-  CHECK(truth.phase_crossovers[0].frequency_hz.value == Approx(fs / 6.0).epsilon(1e-10));
-  CHECK(truth.phase_crossovers[0].gain_margin_db.value == Approx(db_from_ratio(2.0)).margin(1e-9));
-  CHECK(truth.summary.modulus_margin->value == Approx(0.45508986).epsilon(1e-7));
+  CHECK(truth.phase_crossovers[0].frequency_hz.value ==
+        Approx(fs * expected.number("phase_crossover_rad_s") / (2.0 * std::numbers::pi)).epsilon(1e-10));
+  CHECK(truth.phase_crossovers[0].gain_margin_db.value == Approx(expected.number("gain_margin_db")).margin(1e-9));
+  CHECK(truth.summary.modulus_margin->value == Approx(expected.number("modulus_margin")).epsilon(1e-7));
 }
 
 TEST_CASE("a noise-free simulated loop is measured as the exact discrete response", "[synth][pipeline]") {
