@@ -7,8 +7,7 @@
 #include "loopaudit/excitation/schedule.hpp"
 #include "loopaudit/ingest/quality.hpp"
 #include "loopaudit/loop/loop.hpp"
-#include "loopaudit/spectral/periodic.hpp"
-#include "loopaudit/spectral/stepped.hpp"
+#include "loopaudit/spectral/estimator.hpp"
 
 namespace loopaudit {
 namespace {
@@ -37,7 +36,7 @@ class RoleSelector {
                                             std::string("; to compute the injection as x - y, name it ") +
                                                 kInjectionFromDifference)) {}
 
-  std::array<std::span<const double>, 3> select(const SampleBlock& block) {
+  RoleChannels select(const SampleBlock& block) {
     const auto& x = block.channels[x_];
     const auto& y = block.channels[y_];
     if (!from_difference_) return {block.channels[z_], x, y};
@@ -87,22 +86,22 @@ constexpr std::size_t kMaxPrefixBlocks = 64;
 
 namespace {
 
-// Reads the source to its end: channel roles, screening, then `consume` for
-// each block of (injection, x, y). Returns what the reader knew at the end.
+// The block loop, the one place that reads a source: channel roles, the
+// screening (when given), then `consume` for each block of (injection, x, y)
+// until it returns false or the source ends.
 template <typename Consume>
-SourceSummary stream(SampleSource& source, const AnalysisOptions& options, QualityMonitor* quality, Consume consume,
-                     const ProgressFunction& progress) {
-  RoleSelector roles(source, options.roles);
+void stream(SampleSource& source, const ChannelRoles& roles, QualityMonitor* quality, Consume consume,
+            const ProgressFunction& progress) {
+  RoleSelector selector(source, roles);
   SampleBlock block;
   std::size_t samples = 0;
   while (source.next(block)) {
-    const auto selected = roles.select(block);
+    const RoleChannels selected = selector.select(block);
     if (quality) quality->push(selected, block.first_sample);
-    consume(selected, block.first_sample);
     samples += block.size();
     if (progress) progress(samples);
+    if (!consume(selected, block)) return;
   }
-  return source.summary();
 }
 
 QualityMonitor quality_monitor(const SampleSource& source, const AnalysisOptions& options) {
@@ -124,55 +123,110 @@ AnalysisResult finish_result(SampleSource& source, const AnalysisOptions& option
   return result;
 }
 
-AnalysisResult analyze_periodic(SampleSource& source, const AnalysisOptions& options, std::size_t period,
-                                const ProgressFunction& progress) {
-  PeriodicAccumulator periodic({period, options.skip_periods, options.response.injection_floor_db});
+// The one table of estimators: which serves which excitation kind. The
+// period and the dwells come from the settings or from detection.
+std::unique_ptr<ResponseEstimator> make_estimator(ExcitationKind kind, const ExcitationPlan& plan,
+                                                  double sample_rate_hz, const AnalysisOptions& options,
+                                                  const std::string& origin) {
+  switch (kind) {
+    case ExcitationKind::kBroadband:
+    case ExcitationKind::kChirp:
+      return make_welch_estimator(options.welch, options.response,
+                                  {options.roles.injection, options.roles.x, options.roles.y});
+    case ExcitationKind::kPeriodic: {
+      const std::size_t period = options.period_samples ? options.period_samples : plan.period_samples;
+      if (period == 0) throw NumericalError(origin + ": no period found in the injection; give the period in samples");
+      return make_periodic_estimator({period, options.skip_periods, options.response.injection_floor_db});
+    }
+    case ExcitationKind::kStepped:
+      if (plan.dwells.empty()) throw NumericalError(origin + ": no dwells of a stepped sine found in the injection");
+      return make_stepped_estimator({plan.dwells, sample_rate_hz, options.settle_cycles, options.settle_s});
+  }
+  throw ConfigError("unknown excitation kind");
+}
+
+// Reads the source to its end through `estimator`, then the later stages.
+AnalysisResult run_estimator(SampleSource& source, const AnalysisOptions& options, ResponseEstimator& estimator,
+                             const ProgressFunction& progress) {
   QualityMonitor quality = quality_monitor(source, options);
-  SourceSummary summary = stream(
-      source, options, &quality, [&](const auto& selected, std::size_t) { periodic.push(selected); }, progress);
+  stream(
+      source, options.roles, &quality,
+      [&](const RoleChannels& selected, const SampleBlock& block) {
+        estimator.push(selected, block.first_sample);
+        return true;
+      },
+      progress);
+  SourceSummary summary = source.summary();
   Diagnostics findings = quality.findings();
-  const Response measured = periodic.finish(summary.sample_rate_hz, findings);
+  const Response measured =
+      estimator.finish({summary.sample_rate_hz, summary.sample_count, source.origin()}, findings);
   return finish_result(source, options, std::move(summary), measured, std::move(findings));
 }
 
-AnalysisResult analyze_stepped(SampleSource& source, const AnalysisOptions& options, const ExcitationPlan& plan,
-                               double sample_rate_hz, const ProgressFunction& progress) {
-  SteppedSineEstimator stepped({plan.dwells, sample_rate_hz, options.settle_cycles, options.settle_s});
-  QualityMonitor quality = quality_monitor(source, options);
-  SourceSummary summary = stream(
-      source, options, &quality, [&](const auto& selected, std::size_t first) { stepped.push(selected, first); },
-      progress);
-  Diagnostics findings = quality.findings();
-  const Response measured = stepped.finish(findings);
-  return finish_result(source, options, std::move(summary), measured, std::move(findings));
+AnalysisResult run_kind(SampleSource& source, const AnalysisOptions& options, ExcitationKind kind,
+                        const ExcitationPlan& plan, double sample_rate_hz, const ProgressFunction& progress) {
+  const auto estimator = make_estimator(kind, plan, sample_rate_hz, options, source.origin());
+  AnalysisResult result = run_estimator(source, options, *estimator, progress);
+  result.excitation_kind = kind;
+  return result;
+}
+
+// The first pass: the detector over the injection (and the marker channel).
+// A noise or periodic injection shows what it is within its first
+// ExcitationDetector::kPeriodSearchSamples samples: those are kept in
+// `prefix`, and the analysis goes on from them in the same pass. Tones
+// (stepped, chirp) and given dwells need the whole record (`whole` is set).
+struct FirstPass {
+  ExcitationDetector detector;
+  MarkerDwells marker;
+  std::vector<SampleBlock> prefix;
+  std::optional<SourceSummary> whole;
+};
+
+FirstPass first_pass(SampleSource& source, const AnalysisOptions& options, bool needs_whole) {
+  FirstPass pass;
+  const bool has_marker = !options.marker_channel.empty();
+  const std::size_t marker_index = has_marker ? channel_index(source, options.marker_channel, "the frequency marker") : 0;
+  bool decided = false;
+  stream(
+      source, options.roles, nullptr,
+      [&](const RoleChannels& selected, const SampleBlock& block) {
+        pass.detector.push(selected[0]);
+        if (has_marker) pass.marker.push(block.channels[marker_index], block.first_sample);
+        if (needs_whole) return true;
+        if (pass.prefix.size() < kMaxPrefixBlocks) pass.prefix.push_back(block);
+        decided = pass.detector.samples_seen() >= ExcitationDetector::kPeriodSearchSamples && !pass.detector.looks_tonal();
+        return !decided;
+      },
+      {});
+  if (!decided) pass.whole = source.summary();
+  return pass;
+}
+
+bool needs_plan(const AnalysisOptions& options) {
+  const auto forced = options.excitation;
+  return !forced || *forced == ExcitationKind::kStepped || !options.schedule_path.empty() ||
+         !options.marker_channel.empty() || (*forced == ExcitationKind::kPeriodic && options.period_samples == 0);
 }
 
 }  // namespace
 
 AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
   options.welch.validate();
-  WelchAccumulator welch(3, options.welch);
-  QualityMonitor quality = quality_monitor(source, options);
-  SourceSummary summary = stream(
-      source, options, &quality, [&](const auto& selected, std::size_t) { welch.push(selected); }, progress);
-  if (welch.segments_done() == 0) {
-    std::ostringstream message;
-    message << source.origin() << ": the record has " << summary.sample_count << " samples, fewer than one segment of "
-            << options.welch.segment_length << "; choose a shorter segment length";
-    throw InputError(message.str());
-  }
-  const CrossSpectra spectra = welch.finish(summary.sample_rate_hz);
-  Diagnostics findings = quality.findings();
-  append(findings, spectral_findings(spectra, {options.roles.injection, options.roles.x, options.roles.y}));
-  const Response measured = estimate_response(spectra, options.response, findings);
-  return finish_result(source, options, std::move(summary), measured, std::move(findings));
+  return run_kind(source, options, ExcitationKind::kBroadband, {}, 0.0, progress);
 }
 
 Inspection inspect_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
   ExcitationDetector detector;
   QualityMonitor quality = quality_monitor(source, options);
-  SourceSummary summary = stream(
-      source, options, &quality, [&](const auto& selected, std::size_t) { detector.push(selected[0]); }, progress);
+  stream(
+      source, options.roles, &quality,
+      [&](const RoleChannels& selected, const SampleBlock&) {
+        detector.push(selected[0]);
+        return true;
+      },
+      progress);
+  SourceSummary summary = source.summary();
   Inspection out;
   out.origin = source.origin();
   out.sample_rate_hz = summary.sample_rate_hz;
@@ -186,87 +240,34 @@ Inspection inspect_recording(SampleSource& source, const AnalysisOptions& option
 }
 
 AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options, const ProgressFunction& progress) {
-  const auto forced = options.excitation;
-  const bool need_plan = !forced || *forced == ExcitationKind::kStepped || !options.schedule_path.empty() ||
-                         !options.marker_channel.empty() ||
-                         (*forced == ExcitationKind::kPeriodic && options.period_samples == 0);
-  if (!need_plan) {
+  if (!needs_plan(options)) {
     const auto source = open();
-    AnalysisResult result = *forced == ExcitationKind::kPeriodic
-                                ? analyze_periodic(*source, options, options.period_samples, progress)
-                                : analyze_recording(*source, options, progress);
-    result.excitation_kind = *forced;
-    return result;
+    return run_kind(*source, options, *options.excitation, {}, 0.0, progress);
   }
-  // A noise or periodic injection shows what it is within its first
-  // ExcitationDetector::kPeriodSearchSamples samples: those are kept, and
-  // the analysis goes on from them in the same pass. Tones (stepped, chirp)
-  // and given dwells need the whole record first, and a second pass.
   const bool dwells_given = !options.schedule_path.empty() || !options.marker_channel.empty();
-  const bool needs_whole = dwells_given || forced == ExcitationKind::kStepped;
-  ExcitationDetector detector;
-  MarkerDwells marker;
-  std::optional<SourceSummary> first_pass;
   auto source = open();
-  std::vector<SampleBlock> prefix;
-  {
-    const bool has_marker = !options.marker_channel.empty();
-    const std::size_t marker_index =
-        has_marker ? channel_index(*source, options.marker_channel, "the frequency marker") : 0;
-    RoleSelector roles(*source, options.roles);
-    SampleBlock block;
-    bool decided = false;
-    while (source->next(block)) {
-      detector.push(roles.select(block)[0]);
-      if (has_marker) marker.push(block.channels[marker_index], block.first_sample);
-      if (!needs_whole && prefix.size() < kMaxPrefixBlocks) prefix.push_back(block);
-      if (!needs_whole && detector.samples_seen() >= ExcitationDetector::kPeriodSearchSamples) {
-        decided = !detector.looks_tonal();
-        if (decided) break;
-      }
-    }
-    if (!decided) first_pass = source->summary();
-  }
+  FirstPass pass = first_pass(*source, options, dwells_given || options.excitation == ExcitationKind::kStepped);
   // Without the whole first pass the sample rate is known only at the end:
   // the plan is made in cycles per sample and rescaled then.
-  const double sample_rate_hz = first_pass ? first_pass->sample_rate_hz : 1.0;
-  ExcitationPlan plan = detector.finish(sample_rate_hz);
-  if (!first_pass) {  // go on in the same pass: replay the prefix, then the rest
-    const ExcitationKind kind = forced.value_or(plan.kind);
-    const std::size_t period = options.period_samples ? options.period_samples : plan.period_samples;
-    if (kind == ExcitationKind::kPeriodic && period == 0) {
-      throw NumericalError(source->origin() + ": no period found in the injection; give the period in samples");
-    }
-    ReplaySource replay(std::move(prefix), *source);
-    AnalysisResult result = kind == ExcitationKind::kPeriodic ? analyze_periodic(replay, options, period, progress)
-                                                              : analyze_recording(replay, options, progress);
+  const double sample_rate_hz = pass.whole ? pass.whole->sample_rate_hz : 1.0;
+  ExcitationPlan plan = pass.detector.finish(sample_rate_hz);
+  if (!pass.whole) {  // go on in the same pass: replay the prefix, then the rest
+    ReplaySource replay(std::move(pass.prefix), *source);
+    AnalysisResult result =
+        run_kind(replay, options, options.excitation.value_or(plan.kind), plan, sample_rate_hz, progress);
     plan.rescale_frequencies(result.record->sample_rate_hz);
-    result.excitation_kind = kind;
     result.excitation = std::move(plan);
     return result;
   }
   if (!options.schedule_path.empty()) {
-    plan.dwells = dwells_in_samples(read_dwell_schedule(options.schedule_path), sample_rate_hz, first_pass->sample_count,
-                                    options.schedule_path);
+    plan.dwells = dwells_in_samples(read_dwell_schedule(options.schedule_path), sample_rate_hz,
+                                    pass.whole->sample_count, options.schedule_path);
   } else if (!options.marker_channel.empty()) {
-    plan.dwells = marker.finish();
+    plan.dwells = pass.marker.finish();
   }
-  const ExcitationKind kind = dwells_given ? ExcitationKind::kStepped : forced.value_or(plan.kind);
+  const ExcitationKind kind = dwells_given ? ExcitationKind::kStepped : options.excitation.value_or(plan.kind);
   source = open();
-  AnalysisResult result;
-  if (kind == ExcitationKind::kPeriodic) {
-    if (plan.period_samples == 0) {
-      throw NumericalError(source->origin() + ": no period found in the injection; give the period in samples");
-    }
-    result = analyze_periodic(*source, options, options.period_samples ? options.period_samples : plan.period_samples,
-                              progress);
-  } else if (kind == ExcitationKind::kStepped) {
-    if (plan.dwells.empty()) throw NumericalError(source->origin() + ": no dwells of a stepped sine found in the injection");
-    result = analyze_stepped(*source, options, plan, sample_rate_hz, progress);
-  } else {
-    result = analyze_recording(*source, options, progress);
-  }
-  result.excitation_kind = kind;
+  AnalysisResult result = run_kind(*source, options, kind, plan, sample_rate_hz, progress);
   result.excitation = std::move(plan);
   return result;
 }
