@@ -172,6 +172,17 @@ double golden_minimum(const std::function<double(double)>& g, double a, double b
   return 0.5 * (a + b);
 }
 
+Window window_around(std::size_t first_bracket, std::size_t last_bracket, std::size_t half_width, std::size_t size) {
+  const std::size_t first = first_bracket >= half_width - 1 ? first_bracket - (half_width - 1) : 0;
+  const std::size_t last = std::min(last_bracket + half_width, size - 1);
+  return {first, last};
+}
+
+std::optional<Interval> interval(double value, double sigma, double z) {
+  if (!(sigma > 0.0)) return std::nullopt;
+  return Interval{value - z * sigma, value + z * sigma};
+}
+
 GainDirection direction_of(double gain_margin_db) {
   return gain_margin_db >= 0.0 ? GainDirection::kIncrease : GainDirection::kDecrease;
 }

@@ -76,6 +76,17 @@ double bisect(const std::function<double(double)>& g, double a, double b);
 // Minimum of a unimodal g on [a, b] by golden-section search.
 double golden_minimum(const std::function<double(double)>& g, double a, double b);
 
+// Lines first..last (inclusive) around the brackets first_bracket..last_bracket,
+// half_width lines on each side, within the table.
+struct Window {
+  std::size_t first;
+  std::size_t last;
+};
+Window window_around(std::size_t first_bracket, std::size_t last_bracket, std::size_t half_width, std::size_t size);
+
+// value +- z sigma; unset when sigma is not positive (exact lines).
+std::optional<Interval> interval(double value, double sigma, double z);
+
 GainDirection direction_of(double gain_margin_db);
 MarginSummary summarize(const Margins& margins);
 void add_absence_findings(const LineTable& table, Margins& margins);

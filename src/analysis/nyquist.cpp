@@ -139,6 +139,72 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
   return result;
 }
 
+// What the count assumes of the band's ends and the lines left out.
+std::vector<std::string> assumptions(int rhp_poles, int integrators, double f_low, double f_high,
+                                     std::size_t left_out, double max_relative_sigma) {
+  std::vector<std::string> out = {
+      std::to_string(rhp_poles) + " open-loop poles in the right half plane (from the settings)",
+      "1 + L = 0 is the closed loop's characteristic equation (the sign convention is right)",
+      "above " + format_frequency(f_high) + " |L| stays below 1",
+      "below " + format_frequency(f_low) + " L runs to " +
+          (integrators == 0 ? std::string("a constant") : counted(integrators, "integrator") + " times a constant") +
+          " without crossing the negative real axis beyond -1"};
+  if (left_out > 0) {
+    out.push_back(std::to_string(left_out) + " lines with a relative uncertainty above " +
+                  relative_text(max_relative_sigma) + " were left out, and L does not circle -1 between the lines kept");
+  }
+  return out;
+}
+
+// The clockwise encirclements of -1 along the whole contour: the arc at s = 0
+// (when L is outside the unit circle below the band), the branch from the
+// asymptote to the bottom line, and the crossings along the band, the
+// positive-frequency branch counted twice. Unset, with the reason in
+// `unclear`, when a crossing lies too close to -1.
+std::optional<long> encirclements(const detail::LineTable& table, const Bottom& low_end, bool bottom_outside,
+                                  double clear_sigmas, std::string& unclear) {
+  const int n = low_end.integrators;
+  // The low-frequency asymptote K / (j w)^n: angle -90 n with K > 0, or 180 deg
+  // more with K < 0, whichever the bottom lines lie nearer.
+  const double positive_k = -90.0 * n;
+  const double negative_k = positive_k - 180.0;
+  const double near = low_end.phase_deg;
+  const bool k_negative = std::abs(wrap_deg(near - negative_k)) < std::abs(wrap_deg(near - positive_k));
+  const double asymptote = k_negative ? negative_k : positive_k;
+  const double shift = asymptote + wrap_deg(near - asymptote) - near;  // a multiple of 360
+  // The arc at s = 0 turns clockwise through n * 180 deg from the mirror of the
+  // asymptote's angle to the asymptote's angle.
+  const double arc = bottom_outside ? axis_crossings(asymptote + 180.0 * n, asymptote) : 0.0;
+  double branch = bottom_outside ? axis_crossings(asymptote, table.phase_deg[0] + shift) : 0.0;
+  const BandCrossings band = band_crossings(table, shift, clear_sigmas);
+  if (band.unclear) {
+    unclear = *band.unclear;
+    return std::nullopt;
+  }
+  branch += band.count;
+  return std::lround(arc + 2.0 * branch);
+}
+
+// The verdict from N and P: Z = N + P closed-loop poles in the right half plane.
+StabilityAssessment verdict_from_count(StabilityAssessment a, long encirclements) {
+  a.encirclements = static_cast<int>(encirclements);
+  const int z = a.open_loop_rhp_poles + static_cast<int>(encirclements);
+  const std::string found = counted(encirclements, "clockwise encirclement") + " of -1 with P = " +
+                            std::to_string(a.open_loop_rhp_poles);
+  if (z < 0) {
+    return undecided(a, found + " would leave " + std::to_string(z) +
+                            " closed-loop poles in the right half plane, which cannot be: check P, the sign "
+                            "convention and the band");
+  }
+  a.closed_loop_rhp_poles = z;
+  a.verdict = z == 0 ? StabilityVerdict::kStable : StabilityVerdict::kUnstable;
+  a.reason = z == 0 ? found + ": no closed-loop poles in the right half plane"
+                    : found + ": " + counted(z, "closed-loop pole") + " in the right half plane. A loop that ran "
+                      "stably while it was measured points to a wrong P, a wrong sign convention or behaviour "
+                      "outside the band";
+  return a;
+}
+
 }  // namespace
 
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
@@ -158,18 +224,8 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
   const Bottom low_end = bottom_of_band(table);
   a.low_frequency_integrators = low_end.integrators;
   const int n = a.low_frequency_integrators;
-  a.assumptions = {
-      std::to_string(a.open_loop_rhp_poles) + " open-loop poles in the right half plane (from the settings)",
-      "1 + L = 0 is the closed loop's characteristic equation (the sign convention is right)",
-      "above " + format_frequency(f_high) + " |L| stays below 1",
-      "below " + format_frequency(f_low) + " L runs to " +
-          (n == 0 ? std::string("a constant") : counted(n, "integrator") + " times a constant") +
-          " without crossing the negative real axis beyond -1"};
-  if (lines.size() < loop.size()) {
-    a.assumptions.push_back(std::to_string(loop.size() - lines.size()) + " lines with a relative uncertainty above " +
-                            relative_text(options.max_relative_sigma) +
-                            " were left out, and L does not circle -1 between the lines kept");
-  }
+  a.assumptions = assumptions(a.open_loop_rhp_poles, n, f_low, f_high, loop.size() - lines.size(),
+                              options.max_relative_sigma);
   if (side_of_unity(table.gain_db[top], table.relative_sigma[top], options.clear_sigmas) != Side::kInside) {
     return undecided(a, "|L| is " + gain_text(table.gain_db[top]) + " at the top of the band (" +
                             format_frequency(f_high) + "), not clearly below 0 dB: encirclements above the band "
@@ -186,40 +242,10 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
                             ": whether L crosses the negative real axis beyond -1 below the band cannot be "
                             "inferred; extend the band downward");
   }
-  // The low-frequency asymptote K / (j w)^n: angle -90 n with K > 0, or 180 deg
-  // more with K < 0, whichever the bottom lines lie nearer.
-  const double positive_k = -90.0 * n;
-  const double negative_k = positive_k - 180.0;
-  const double near = low_end.phase_deg;
-  const bool k_negative = std::abs(wrap_deg(near - negative_k)) < std::abs(wrap_deg(near - positive_k));
-  const double asymptote = k_negative ? negative_k : positive_k;
-  const double shift = asymptote + wrap_deg(near - asymptote) - near;  // a multiple of 360
-  const double bottom = table.phase_deg[0];
-  // The arc at s = 0 turns clockwise through n * 180 deg from the mirror of the
-  // asymptote's angle to the asymptote's angle.
-  const double count = bottom_outside ? axis_crossings(asymptote + 180.0 * n, asymptote) : 0.0;
-  double branch = bottom_outside ? axis_crossings(asymptote, bottom + shift) : 0.0;
-  const BandCrossings band = band_crossings(table, shift, options.clear_sigmas);
-  if (band.unclear) return undecided(a, *band.unclear);
-  branch += band.count;
-  const double total = count + 2.0 * branch;
-  const long encirclements = std::lround(total);
-  a.encirclements = static_cast<int>(encirclements);
-  const int z = a.open_loop_rhp_poles + static_cast<int>(encirclements);
-  const std::string found = counted(encirclements, "clockwise encirclement") + " of -1 with P = " +
-                            std::to_string(a.open_loop_rhp_poles);
-  if (z < 0) {
-    return undecided(a, found + " would leave " + std::to_string(z) +
-                            " closed-loop poles in the right half plane, which cannot be: check P, the sign "
-                            "convention and the band");
-  }
-  a.closed_loop_rhp_poles = z;
-  a.verdict = z == 0 ? StabilityVerdict::kStable : StabilityVerdict::kUnstable;
-  a.reason = z == 0 ? found + ": no closed-loop poles in the right half plane"
-                    : found + ": " + counted(z, "closed-loop pole") + " in the right half plane. A loop that ran "
-                      "stably while it was measured points to a wrong P, a wrong sign convention or behaviour "
-                      "outside the band";
-  return a;
+  std::string unclear;
+  const auto count = encirclements(table, low_end, bottom_outside, options.clear_sigmas, unclear);
+  if (!count) return undecided(a, unclear);
+  return verdict_from_count(std::move(a), *count);
 }
 
 }  // namespace loopaudit
