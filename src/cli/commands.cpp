@@ -108,14 +108,14 @@ RunSettings resolve(const AnalyzeArgs& a) {
   return s;
 }
 
-void run_analyze(const AnalyzeArgs& a) {
+void run_analyze(const AnalyzeArgs& a, const std::string& command_line) {
   const RunSettings settings = resolve(a);
   const std::optional<MarginSummary> truth =
       a.truth_path.empty() ? std::nullopt : std::optional(read_truth_summary(a.truth_path));
   const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
   Progress progress(a.quiet);
   const AnalysisResult result = analyze(open, settings.analysis, progress.function());
-  write_outputs(result, a.outputs, a.recording, a.config_path, truth);
+  write_outputs(result, a.outputs, a.recording, a.config_path, command_line, truth);
   write_text_report(std::cout, result, truth);
 }
 
@@ -158,7 +158,7 @@ void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
 
 }  // namespace
 
-void add_analyze(CLI::App& app) {
+void add_analyze(CLI::App& app, const std::string& command_line) {
   auto a = std::make_shared<AnalyzeArgs>();
   auto* cmd = app.add_subcommand("analyze", "Loop response and margins from a series-injection recording");
   add_input_options(cmd, *a);
@@ -187,7 +187,7 @@ void add_analyze(CLI::App& app) {
   cmd->add_option("--truth", a->truth_path, "Truth file from `loopaudit synth`, shown beside the results")
       ->type_name("FILE");
   add_margin_options(cmd, a->confidence, a->rhp_poles);
-  cmd->callback([a] { run_analyze(*a); });
+  cmd->callback([a, command_line] { run_analyze(*a, command_line); });
 }
 
 void add_inspect(CLI::App& app) {
@@ -202,7 +202,7 @@ void add_inspect(CLI::App& app) {
   });
 }
 
-void add_table(CLI::App& app) {
+void add_table(CLI::App& app, const std::string& command_line) {
   struct Args {
     std::string table;
     OutputRequest outputs;
@@ -217,11 +217,11 @@ void add_table(CLI::App& app) {
       ->capture_default_str();
   add_output_options(cmd, args->outputs);
   add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles);
-  cmd->callback([args] {
+  cmd->callback([args, command_line] {
     const Convention convention = convention_from_name(args->convention);
     const AnalysisResult result =
         analyze_response(args->table, read_response_table(args->table), convention, args->margins);
-    write_outputs(result, args->outputs, args->table, "");
+    write_outputs(result, args->outputs, args->table, "", command_line);
     write_text_report(std::cout, result);
   });
 }

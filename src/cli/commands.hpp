@@ -4,6 +4,7 @@
 #pragma once
 
 #include <CLI/CLI.hpp>
+#include <string>
 
 namespace loopaudit::cli {
 
@@ -18,8 +19,9 @@ enum ExitCode : int {
   kOutput = 6,
 };
 
-void add_analyze(CLI::App& app);
-void add_table(CLI::App& app);
+// `command_line` is recorded in the report.
+void add_analyze(CLI::App& app, const std::string& command_line);
+void add_table(CLI::App& app, const std::string& command_line);
 void add_inspect(CLI::App& app);
 void add_synth(CLI::App& app);
 

@@ -10,11 +10,11 @@ int main(int argc, char** argv) {
   CLI::App app{"loopaudit: loop frequency response and stability margins from bench injection recordings"};
   app.set_version_flag("--version", std::string("loopaudit ") + LOOPAUDIT_VERSION);
   app.require_subcommand(1);
-  cli::add_analyze(app);
+  const std::string command_line = cli::command_line_text(argc, argv);
+  cli::add_analyze(app, command_line);
   cli::add_inspect(app);
-  cli::add_table(app);
+  cli::add_table(app, command_line);
   cli::add_synth(app);
-  cli::remember_command_line(argc, argv);
   try {
     app.parse(argc, argv);
     return cli::kOk;

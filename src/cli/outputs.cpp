@@ -18,12 +18,6 @@ namespace {
 
 namespace fs = std::filesystem;
 
-std::string& command_line() {
-  static std::string text;
-  return text;
-}
-
-
 std::string utc_text(std::chrono::system_clock::time_point when) {
   const std::time_t t = std::chrono::system_clock::to_time_t(when);
   std::tm parts{};
@@ -71,10 +65,10 @@ void write_text_file(const std::string& path, const std::string& text) {
   write_atomically(path, [&](std::ostream& out) { out << text; });
 }
 
-void remember_command_line(int argc, char** argv) {
+std::string command_line_text(int argc, char** argv) {
   std::string text = "loopaudit";
   for (int i = 1; i < argc; ++i) text += std::string(" ") + argv[i];
-  command_line() = text;
+  return text;
 }
 
 void add_output_options(CLI::App* cmd, OutputRequest& r) {
@@ -88,7 +82,8 @@ void add_output_options(CLI::App* cmd, OutputRequest& r) {
 }
 
 void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
-                   const std::string& settings, const std::optional<MarginSummary>& truth) {
+                   const std::string& settings, const std::string& command_line,
+                   const std::optional<MarginSummary>& truth) {
   const OutputRequest r = resolved(request, input);
   if (!r.json_path.empty()) write_text_file(r.json_path, analysis_json(result));
   if (!r.csv_path.empty()) {
@@ -102,7 +97,7 @@ void write_outputs(const AnalysisResult& result, const OutputRequest& request, c
   }
   if (!r.report_path.empty()) {
     ReportContext context{modified_text(input), utc_text(std::chrono::system_clock::now()), settings,
-                          settings.empty() ? "" : file_text(settings), command_line(), truth};
+                          settings.empty() ? "" : file_text(settings), command_line, truth};
     write_text_file(r.report_path, html_report(result, plots, context));
   }
 }

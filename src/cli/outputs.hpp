@@ -22,14 +22,16 @@ struct OutputRequest {
 void add_output_options(CLI::App* command, OutputRequest& request);
 
 // `input` names the file analysed (for the stem and its date), `settings`
-// the run settings file or "".
+// the run settings file or "", `command_line` the command that ran, for the
+// report's record of how it was made.
 void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
-                   const std::string& settings, const std::optional<MarginSummary>& truth = std::nullopt);
+                   const std::string& settings, const std::string& command_line,
+                   const std::optional<MarginSummary>& truth = std::nullopt);
 
 // Writes the whole text or nothing (see write_atomically).
 void write_text_file(const std::string& path, const std::string& text);
 
-// The command line, for the report's record of how it was made.
-void remember_command_line(int argc, char** argv);
+// The command line as one line of text, starting with the tool's name.
+std::string command_line_text(int argc, char** argv);
 
 }  // namespace loopaudit::cli
