@@ -11,7 +11,7 @@
 #include <optional>
 #include <string>
 
-#include "loopaudit/pipeline.hpp"
+#include "loopaudit/pipeline/pipeline.hpp"
 #include "loopaudit/units.hpp"
 
 namespace {
@@ -34,13 +34,13 @@ void check(const char* name, double got, double expected) {
   if (!ok) ++failures;
 }
 
-void check(const char* name, const std::optional<double>& got, double expected) {
+void check(const char* name, const std::optional<loopaudit::Estimate>& got, double expected) {
   if (!got) {
     std::printf("%-18s missing (expected %.9g)  MISMATCH\n", name, expected);
     ++failures;
     return;
   }
-  check(name, *got, expected);
+  check(name, got->value, expected);
 }
 
 }  // namespace
