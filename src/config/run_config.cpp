@@ -71,9 +71,7 @@ void read_excitation(const toml::table& t, const std::string& where, AnalysisOpt
   check_keys(t, {"kind", "period_samples", "skip_periods", "settle_cycles", "settle_s", "schedule", "marker"}, where);
   set_if(optional_text(t, "schedule", where), a.schedule_path);
   set_if(optional_text(t, "marker", where), a.marker_channel);
-  if (const auto kind = optional_text(t, "kind", where)) {
-    a.excitation = *kind == "auto" ? std::nullopt : std::optional(excitation_from_name(*kind));
-  }
+  if (const auto kind = optional_text(t, "kind", where)) a.excitation = excitation_setting_from_name(*kind);
   set_if(optional_count(t, "period_samples", where), a.period_samples);
   set_if(optional_count(t, "skip_periods", where), a.skip_periods);
   set_if(optional_number(t, "settle_cycles", where), a.settle_cycles);
@@ -81,12 +79,6 @@ void read_excitation(const toml::table& t, const std::string& where, AnalysisOpt
 }
 
 }  // namespace
-
-Estimator estimator_from_name(const std::string& name) {
-  if (name == "reference") return Estimator::kReference;
-  if (name == "two-channel") return Estimator::kTwoChannel;
-  throw ConfigError("unknown estimator '" + name + "'; choose reference or two-channel");
-}
 
 RunSettings load_run_settings(const std::string& path, RunSettings settings) {
   const toml::table root = detail::parse_toml_file(path);

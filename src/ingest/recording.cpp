@@ -33,22 +33,9 @@ std::vector<double> expand(const std::vector<double>& values, std::size_t count,
 
 }  // namespace
 
-RecordingFormat format_from_name(const std::string& name) {
-  if (name == "auto") return RecordingFormat::kAuto;
-  if (name == "text") return RecordingFormat::kText;
-  if (name == "raw") return RecordingFormat::kRaw;
-  if (name == "wav") return RecordingFormat::kWav;
-  if (name == "hdf5") return RecordingFormat::kHdf5;
-  throw ConfigError("unknown format '" + name + "'; choose auto, text, raw, wav or hdf5");
-}
+RecordingFormat format_from_name(const std::string& name) { return value_of(kFormatNames, name, {"format"}); }
 
-SampleType sample_type_from_name(const std::string& name) {
-  if (name == "int16") return SampleType::kInt16;
-  if (name == "int32") return SampleType::kInt32;
-  if (name == "float32") return SampleType::kFloat32;
-  if (name == "float64") return SampleType::kFloat64;
-  throw ConfigError("unknown sample type '" + name + "'; choose int16, int32, float32 or float64");
-}
+SampleType sample_type_from_name(const std::string& name) { return value_of(kSampleTypeNames, name, {"sample type"}); }
 
 std::size_t sample_type_bytes(SampleType type) {
   switch (type) {

@@ -87,6 +87,10 @@ void report_low_coherence(const Response& r, Diagnostics& findings) {
 
 }  // namespace
 
+const char* estimator_name(Estimator estimator) { return name_of(kEstimatorNames, estimator); }
+
+Estimator estimator_from_name(const std::string& name) { return value_of(kEstimatorNames, name, {"estimator"}); }
+
 double bendat_piersol_random_error(double coherence, double averages) {
   if (coherence <= 0.0) return INFINITY;
   return std::sqrt(1.0 - coherence) / (std::sqrt(coherence) * std::sqrt(2.0 * averages));

@@ -2,7 +2,7 @@
 
 The stages run in one direction (DEVELOPERS.md, "How data flows"). A file belongs to the stage
 of its folder: src/<stage>/ and include/loopaudit/<stage>/ are the same stage; the top-level
-headers include/loopaudit/{error,units,format}.hpp belong to the first stage. An include
+headers include/loopaudit/{error,units,format,names}.hpp belong to the first stage. An include
 "loopaudit/<stage>/..." (public) or "<stage>/..." (private to src/) belongs to that stage; a
 bare name next to the including file ("crossings.hpp") to the file's own stage.
 
@@ -16,7 +16,7 @@ import sys
 STAGES = ["record", "fft", "ingest", "excitation", "spectral", "loop", "analysis", "model", "verdict",
           "pipeline", "synth", "report", "config", "cli"]
 BASE_STAGE = STAGES[0]
-BASE_HEADERS = {"error.hpp", "units.hpp", "format.hpp"}
+BASE_HEADERS = {"error.hpp", "units.hpp", "format.hpp", "names.hpp"}
 SOURCE_SUFFIXES = {".hpp", ".cpp", ".h", ".cc", ".hh", ".ipp", ".inl"}
 
 INCLUDE = re.compile(r'^\s*#\s*include\s*(?:"([^"]+)"|<(loopaudit/[^>]+)>)')

@@ -14,7 +14,11 @@
 namespace loopaudit {
 
 enum class StabilityVerdict { kStable, kUnstable, kUndecided };
-const char* verdict_name(StabilityVerdict verdict);  // "stable" / "unstable" / "undecided"
+inline constexpr NameTable<StabilityVerdict, 3> kVerdictNames{{{StabilityVerdict::kStable, "stable"},
+                                                               {StabilityVerdict::kUnstable, "unstable"},
+                                                               {StabilityVerdict::kUndecided, "undecided"}}};
+static_assert(one_to_one(kVerdictNames));
+const char* verdict_name(StabilityVerdict verdict);
 
 struct StabilityAssessment {
   StabilityVerdict verdict = StabilityVerdict::kUndecided;
@@ -43,7 +47,10 @@ struct Interval {
   double low = 0.0;
   double high = 0.0;
 };
-const char* direction_name(GainDirection direction);  // "increase" / "decrease"
+inline constexpr NameTable<GainDirection, 2> kDirectionNames{
+    {{GainDirection::kIncrease, "increase"}, {GainDirection::kDecrease, "decrease"}}};
+static_assert(one_to_one(kDirectionNames));
+const char* direction_name(GainDirection direction);
 
 struct GainCrossover {
   double frequency_hz = 0.0;

@@ -17,6 +17,7 @@
 #include <string>
 #include <vector>
 
+#include "loopaudit/names.hpp"
 #include "loopaudit/record/diagnostic.hpp"
 #include "loopaudit/record/response.hpp"
 #include "loopaudit/spectral/welch.hpp"
@@ -24,6 +25,11 @@
 namespace loopaudit {
 
 enum class Estimator { kReference, kTwoChannel };
+inline constexpr NameTable<Estimator, 2> kEstimatorNames{
+    {{Estimator::kReference, "reference"}, {Estimator::kTwoChannel, "two-channel"}}};
+static_assert(one_to_one(kEstimatorNames));
+const char* estimator_name(Estimator estimator);
+Estimator estimator_from_name(const std::string& name);  // throws ConfigError
 
 // Roles of the channels of the CrossSpectra handed to estimate_response.
 inline constexpr std::size_t kReferenceChannel = 0;
