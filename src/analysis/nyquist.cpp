@@ -142,6 +142,7 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
 }  // namespace
 
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
+  options.validate();
   StabilityAssessment a;
   a.open_loop_rhp_poles = options.open_loop_rhp_poles;
   if (loop.size() < 2) return undecided(a, "fewer than two lines: nothing to count");

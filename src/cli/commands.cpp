@@ -101,8 +101,6 @@ RunSettings resolve(const AnalyzeArgs& a) {
   if (a.given("--marker")) o.marker_channel = a.marker;
   if (a.given("--confidence")) o.margins.confidence = a.confidence;
   if (a.given("--rhp-poles")) o.margins.open_loop_rhp_poles = a.rhp_poles;
-  if (r.sample_rate_hz && !(*r.sample_rate_hz > 0.0)) throw ConfigError("the sample rate must be positive");
-  o.welch.validate();
   return s;
 }
 

@@ -33,10 +33,7 @@ void read_input(const toml::table& t, const std::string& where, RecordingOptions
              where);
   if (const auto format = optional_text(t, "format", where)) r.format = format_from_name(*format);
   set_if(optional_texts(t, "channels", where), r.channel_names);
-  if (const auto rate = optional_number(t, "sample_rate_hz", where)) {
-    if (!(*rate > 0.0)) throw ConfigError(where + ": 'sample_rate_hz' must be positive");
-    r.sample_rate_hz = rate;
-  }
+  if (const auto rate = optional_number(t, "sample_rate_hz", where)) r.sample_rate_hz = rate;
   set_if(optional_text(t, "time_column", where), r.text.time_column);
   if (const auto type = optional_text(t, "sample_type", where)) r.raw.sample_type = sample_type_from_name(*type);
   if (const auto order = optional_text(t, "byte_order", where)) {
@@ -95,12 +92,8 @@ RunSettings load_run_settings(const std::string& path, RunSettings settings) {
   }
   if (const auto* t = optional_table(root, "margins", path)) {
     check_keys(*t, {"confidence"}, path + " [margins]");
-    if (const auto c = optional_number(*t, "confidence", path + " [margins]")) {
-      if (!(*c > 0.5 && *c < 1.0)) throw ConfigError(path + " [margins]: 'confidence' must lie between 0.5 and 1");
-      settings.analysis.margins.confidence = *c;
-    }
+    set_if(optional_number(*t, "confidence", path + " [margins]"), settings.analysis.margins.confidence);
   }
-  settings.analysis.welch.validate();
   return settings;
 }
 

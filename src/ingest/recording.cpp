@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cctype>
+#include <cmath>
 #include <filesystem>
 
 #include "ingest/channel_setup.hpp"
@@ -77,7 +78,23 @@ ChannelSetup channel_setup(const RecordingOptions& options, std::size_t count, c
 
 }  // namespace detail
 
+void RecordingOptions::validate() const {
+  if (sample_rate_hz && !(*sample_rate_hz > 0.0 && std::isfinite(*sample_rate_hz))) {
+    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, "a positive rate in Hz");
+  }
+  if (block_size < 1 || block_size > kMaxBlockSize) {
+    throw setting_out_of_range("block_size", block_size, "1 to " + std::to_string(kMaxBlockSize) + " samples");
+  }
+  for (const double v : scale) {
+    if (!std::isfinite(v)) throw setting_out_of_range("scale", v, "finite numbers");
+  }
+  for (const double v : offset) {
+    if (!std::isfinite(v)) throw setting_out_of_range("offset", v, "finite numbers");
+  }
+}
+
 std::unique_ptr<SampleSource> open_recording(const std::string& path, const RecordingOptions& options) {
+  options.validate();
   const RecordingFormat format = options.format == RecordingFormat::kAuto ? format_from_extension(path) : options.format;
   switch (format) {
     case RecordingFormat::kRaw: return detail::open_raw(path, options);

@@ -153,7 +153,6 @@ AnalysisResult analyze_stepped(SampleSource& source, const AnalysisOptions& opti
 }  // namespace
 
 AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
-  options.welch.validate();
   WelchAccumulator welch(3, options.welch);
   QualityMonitor quality = quality_monitor(source, options);
   SourceSummary summary = stream(

@@ -62,7 +62,12 @@ struct RecordingOptions {
   DelimitedOptions text;
   RawLayout raw;
   Hdf5Layout hdf5;
-  std::size_t block_size = 65536;
+  std::size_t block_size = kMaxBlockSize;  // 1 to kMaxBlockSize
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // open_recording). What only a format needs (a raw file's sample rate, an
+  // HDF5 file's datasets) its reader checks.
+  void validate() const;
 };
 
 // Throws InputError when the file cannot be opened or does not match its

@@ -41,6 +41,10 @@ struct ResponseOptions {
   // Lines whose reference power lies more than this far below its peak carry
   // no injection and are not reported.
   double injection_floor_db = 40.0;
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // estimate_response).
+  void validate() const;
 };
 
 
