@@ -2,8 +2,11 @@
 // or frequency at fault. Data-quality findings are Diagnostics, not errors.
 #pragma once
 
+#include <concepts>
+#include <cstdio>
 #include <stdexcept>
 #include <string>
+#include <string_view>
 
 namespace loopaudit {
 
@@ -23,6 +26,25 @@ class ConfigError : public Error {
  public:
   using Error::Error;
 };
+
+// The error of an options struct's validate() for a setting outside its
+// range, named by its settings key: "'overlap' 0.99 is out of range; use a
+// fraction from 0 to 0.9".
+template <typename Number>
+  requires std::integral<Number> || std::floating_point<Number>
+ConfigError setting_out_of_range(std::string_view key, Number value, std::string_view allowed) {
+  char text[32];
+  if constexpr (std::floating_point<Number>) {
+    std::snprintf(text, sizeof text, "%g", static_cast<double>(value));
+  } else if constexpr (std::unsigned_integral<Number>) {
+    std::snprintf(text, sizeof text, "%llu", static_cast<unsigned long long>(value));
+  } else {
+    std::snprintf(text, sizeof text, "%lld", static_cast<long long>(value));
+  }
+  std::string message = "'";
+  message.append(key).append("' ").append(text).append(" is out of range; use ").append(allowed);
+  return ConfigError(message);
+}
 
 // The data are readable but no answer can be computed from them
 // (for example no line with injection power).

@@ -368,8 +368,8 @@ double two_sided_z(double confidence) {
 }
 
 Margins find_margins(const Response& loop, const MarginOptions& options) {
+  options.validate();
   if (loop.size() < 2) return too_few_lines(loop, options);
-  if (options.fit_half_width < 1) throw ConfigError("the local fit needs at least one line on each side");
   const LineTable table = detail::make_line_table(loop.frequency_hz, loop.value, loop.relative_sigma, loop.coherence);
   Margins margins;
   margins.band_low_hz = loop.frequency_hz.front();

@@ -208,6 +208,7 @@ StabilityAssessment verdict_from_count(StabilityAssessment a, long encirclements
 }  // namespace
 
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
+  options.validate();
   StabilityAssessment a;
   a.open_loop_rhp_poles = options.open_loop_rhp_poles;
   if (loop.size() < 2) return undecided(a, "fewer than two lines: nothing to count");

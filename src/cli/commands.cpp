@@ -94,17 +94,13 @@ RunSettings resolve(const AnalyzeArgs& a) {
   if (a.given("--estimator")) o.response.estimator = estimator_from_name(a.estimator);
   if (a.given("--convention")) o.convention = convention_from_name(a.convention);
   if (a.given("--injection-floor")) o.response.injection_floor_db = a.injection_floor_db;
-  if (a.given("--excitation")) {
-    o.excitation = a.excitation == "auto" ? std::nullopt : std::optional(excitation_from_name(a.excitation));
-  }
+  if (a.given("--excitation")) o.excitation = excitation_setting_from_name(a.excitation);
   if (a.given("--period")) o.period_samples = a.period;
   if (a.given("--settle-cycles")) o.settle_cycles = a.settle_cycles;
   if (a.given("--schedule")) o.schedule_path = a.schedule;
   if (a.given("--marker")) o.marker_channel = a.marker;
   if (a.given("--confidence")) o.margins.confidence = a.confidence;
   if (a.given("--rhp-poles")) o.margins.open_loop_rhp_poles = a.rhp_poles;
-  if (r.sample_rate_hz && !(*r.sample_rate_hz > 0.0)) throw ConfigError("the sample rate must be positive");
-  o.welch.validate();
   return s;
 }
 

@@ -3,7 +3,6 @@
 #include <numeric>
 #include <sstream>
 
-#include "loopaudit/error.hpp"
 #include "loopaudit/excitation/excitation.hpp"
 #include "loopaudit/format.hpp"
 #include "loopaudit/fft/window.hpp"
@@ -58,22 +57,15 @@ struct Plateau {
 
 }  // namespace
 
-const char* excitation_name(ExcitationKind kind) {
-  switch (kind) {
-    case ExcitationKind::kBroadband: return "broadband";
-    case ExcitationKind::kPeriodic: return "periodic";
-    case ExcitationKind::kStepped: return "stepped";
-    case ExcitationKind::kChirp: return "chirp";
-  }
-  return "broadband";
-}
+const char* excitation_name(ExcitationKind kind) { return name_of(kExcitationNames, kind); }
 
 ExcitationKind excitation_from_name(const std::string& name) {
-  for (ExcitationKind k : {ExcitationKind::kBroadband, ExcitationKind::kPeriodic, ExcitationKind::kStepped,
-                           ExcitationKind::kChirp}) {
-    if (name == excitation_name(k)) return k;
-  }
-  throw ConfigError("unknown excitation '" + name + "'; choose auto, broadband, periodic, stepped or chirp");
+  return value_of(kExcitationNames, name, {"excitation"});
+}
+
+std::optional<ExcitationKind> excitation_setting_from_name(const std::string& name) {
+  if (name == "auto") return std::nullopt;
+  return value_of(kExcitationNames, name, {.what = "excitation", .also = "auto"});
 }
 
 struct ExcitationDetector::Impl {

@@ -5,7 +5,6 @@
 #include <numbers>
 #include <numeric>
 
-#include "loopaudit/error.hpp"
 #include "loopaudit/units.hpp"
 
 namespace loopaudit {
@@ -28,24 +27,9 @@ std::vector<double> cosine_sum(std::vector<double> coefficients, std::size_t len
 
 }  // namespace
 
-WindowKind window_from_name(std::string_view name) {
-  if (name == "rectangular") return WindowKind::kRectangular;
-  if (name == "hann") return WindowKind::kHann;
-  if (name == "hamming") return WindowKind::kHamming;
-  if (name == "blackman-harris") return WindowKind::kBlackmanHarris;
-  throw ConfigError("unknown window '" + std::string(name) +
-                    "'; choose one of rectangular, hann, hamming, blackman-harris");
-}
+WindowKind window_from_name(std::string_view name) { return value_of(kWindowNames, name, {"window"}); }
 
-const char* window_name(WindowKind kind) {
-  switch (kind) {
-    case WindowKind::kRectangular: return "rectangular";
-    case WindowKind::kHann: return "hann";
-    case WindowKind::kHamming: return "hamming";
-    case WindowKind::kBlackmanHarris: return "blackman-harris";
-  }
-  return "hann";
-}
+const char* window_name(WindowKind kind) { return name_of(kWindowNames, kind); }
 
 std::vector<double> make_window(WindowKind kind, std::size_t length) {
   switch (kind) {

@@ -260,12 +260,29 @@ void DelimitedReader::finish() {
   }
 }
 
+// A delimiter must not be part of a number or end a line.
+bool can_delimit(char c) {
+  return c != '\0' && !std::isalnum(static_cast<unsigned char>(c)) &&
+         std::string_view(".+-\r\n").find(c) == std::string_view::npos;
+}
+
 }  // namespace
 
-std::unique_ptr<SampleSource> open_delimited(const std::string& path, const DelimitedOptions& options) {
-  if (options.sample_rate_hz && !(*options.sample_rate_hz > 0.0)) {
-    throw ConfigError("the sample rate must be positive");
+void DelimitedOptions::validate() const {
+  if (delimiter && !can_delimit(*delimiter)) {
+    throw ConfigError(std::string("'delimiter' '") + *delimiter +
+                      "' cannot separate numbers; use a punctuation character, a space or a tab");
   }
+  if (sample_rate_hz && !(*sample_rate_hz > 0.0 && std::isfinite(*sample_rate_hz))) {
+    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, "a positive rate in Hz");
+  }
+  if (block_size < 1 || block_size > kMaxBlockSize) {
+    throw setting_out_of_range("block_size", block_size, "1 to " + std::to_string(kMaxBlockSize) + " samples");
+  }
+}
+
+std::unique_ptr<SampleSource> open_delimited(const std::string& path, const DelimitedOptions& options) {
+  options.validate();
   return std::make_unique<DelimitedReader>(path, options);
 }
 

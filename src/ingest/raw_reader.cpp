@@ -57,7 +57,7 @@ bool host_is_big_endian() {
 class RawReader final : public SampleSource {
  public:
   RawReader(const std::string& path, const RecordingOptions& options) : path_(path), options_(options) {
-    if (!options.sample_rate_hz || !(*options.sample_rate_hz > 0.0)) {
+    if (!options.sample_rate_hz) {
       throw ConfigError(path + ": a raw binary recording needs its sample rate (sample_rate_hz)");
     }
     const std::size_t channels = options.channel_names.empty() ? 3 : options.channel_names.size();

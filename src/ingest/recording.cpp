@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cctype>
+#include <cmath>
 #include <filesystem>
 
 #include "ingest/channel_setup.hpp"
@@ -33,22 +34,9 @@ std::vector<double> expand(const std::vector<double>& values, std::size_t count,
 
 }  // namespace
 
-RecordingFormat format_from_name(const std::string& name) {
-  if (name == "auto") return RecordingFormat::kAuto;
-  if (name == "text") return RecordingFormat::kText;
-  if (name == "raw") return RecordingFormat::kRaw;
-  if (name == "wav") return RecordingFormat::kWav;
-  if (name == "hdf5") return RecordingFormat::kHdf5;
-  throw ConfigError("unknown format '" + name + "'; choose auto, text, raw, wav or hdf5");
-}
+RecordingFormat format_from_name(const std::string& name) { return value_of(kFormatNames, name, {"format"}); }
 
-SampleType sample_type_from_name(const std::string& name) {
-  if (name == "int16") return SampleType::kInt16;
-  if (name == "int32") return SampleType::kInt32;
-  if (name == "float32") return SampleType::kFloat32;
-  if (name == "float64") return SampleType::kFloat64;
-  throw ConfigError("unknown sample type '" + name + "'; choose int16, int32, float32 or float64");
-}
+SampleType sample_type_from_name(const std::string& name) { return value_of(kSampleTypeNames, name, {"sample type"}); }
 
 std::size_t sample_type_bytes(SampleType type) {
   switch (type) {
@@ -90,7 +78,23 @@ ChannelSetup channel_setup(const RecordingOptions& options, std::size_t count, c
 
 }  // namespace detail
 
+void RecordingOptions::validate() const {
+  if (sample_rate_hz && !(*sample_rate_hz > 0.0 && std::isfinite(*sample_rate_hz))) {
+    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, "a positive rate in Hz");
+  }
+  if (block_size < 1 || block_size > kMaxBlockSize) {
+    throw setting_out_of_range("block_size", block_size, "1 to " + std::to_string(kMaxBlockSize) + " samples");
+  }
+  for (const double v : scale) {
+    if (!std::isfinite(v)) throw setting_out_of_range("scale", v, "finite numbers");
+  }
+  for (const double v : offset) {
+    if (!std::isfinite(v)) throw setting_out_of_range("offset", v, "finite numbers");
+  }
+}
+
 std::unique_ptr<SampleSource> open_recording(const std::string& path, const RecordingOptions& options) {
+  options.validate();
   const RecordingFormat format = options.format == RecordingFormat::kAuto ? format_from_extension(path) : options.format;
   switch (format) {
     case RecordingFormat::kRaw: return detail::open_raw(path, options);

@@ -5,7 +5,6 @@
 #include <sstream>
 #include <string>
 
-#include "loopaudit/error.hpp"
 #include "loopaudit/units.hpp"
 
 namespace loopaudit {
@@ -45,22 +44,9 @@ void check_sign(const Response& loop, Diagnostics& findings) {
 
 }  // namespace
 
-Convention convention_from_name(std::string_view name) {
-  if (name == "series-injection") return Convention::kSeriesInjection;
-  if (name == "direct") return Convention::kDirect;
-  if (name == "closed-loop") return Convention::kClosedLoop;
-  throw ConfigError("unknown convention '" + std::string(name) +
-                    "'; choose one of series-injection, direct, closed-loop");
-}
+Convention convention_from_name(std::string_view name) { return value_of(kConventionNames, name, {"convention"}); }
 
-const char* convention_name(Convention convention) {
-  switch (convention) {
-    case Convention::kSeriesInjection: return "series-injection";
-    case Convention::kDirect: return "direct";
-    case Convention::kClosedLoop: return "closed-loop";
-  }
-  return "series-injection";
-}
+const char* convention_name(Convention convention) { return name_of(kConventionNames, convention); }
 
 const char* convention_formula(Convention convention) {
   switch (convention) {

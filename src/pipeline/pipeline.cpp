@@ -212,7 +212,6 @@ bool needs_plan(const AnalysisOptions& options) {
 }  // namespace
 
 AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
-  options.welch.validate();
   return run_kind(source, options, ExcitationKind::kBroadband, {}, 0.0, progress);
 }
 

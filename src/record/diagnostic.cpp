@@ -4,14 +4,7 @@
 
 namespace loopaudit {
 
-const char* severity_name(Severity severity) {
-  switch (severity) {
-    case Severity::kNote: return "note";
-    case Severity::kWarning: return "warning";
-    case Severity::kError: return "error";
-  }
-  return "note";
-}
+const char* severity_name(Severity severity) { return name_of(kSeverityNames, severity); }
 
 Diagnostic make_note(std::string code, std::string message, Location where) {
   return {Severity::kNote, std::move(code), std::move(message), std::move(where)};

@@ -20,17 +20,8 @@ std::span<const SummaryField> summary_fields() {
   return kFields;
 }
 
-const char* direction_name(GainDirection direction) {
-  return direction == GainDirection::kIncrease ? "increase" : "decrease";
-}
+const char* direction_name(GainDirection direction) { return name_of(kDirectionNames, direction); }
 
-const char* verdict_name(StabilityVerdict verdict) {
-  switch (verdict) {
-    case StabilityVerdict::kStable: return "stable";
-    case StabilityVerdict::kUnstable: return "unstable";
-    case StabilityVerdict::kUndecided: return "undecided";
-  }
-  return "undecided";
-}
+const char* verdict_name(StabilityVerdict verdict) { return name_of(kVerdictNames, verdict); }
 
 }  // namespace loopaudit

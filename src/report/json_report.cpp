@@ -2,6 +2,7 @@
 
 #include "loopaudit/fft/window.hpp"
 #include "loopaudit/loop/loop.hpp"
+#include "loopaudit/spectral/response.hpp"
 #include "record/json_fields.hpp"
 
 namespace loopaudit {
@@ -37,7 +38,7 @@ Json method_json(const AnalysisResult& result) {
                                {"dwells", result.excitation->dwells.size()},
                                {"snr_db", optional_number(result.excitation->snr_db)}};
   }
-  out["estimator"] = o.response.estimator == Estimator::kReference ? "reference" : "two-channel";
+  out["estimator"] = estimator_name(o.response.estimator);
   out["window"] = window_name(o.welch.window);
   out["segment_length"] = o.welch.segment_length;
   out["overlap"] = o.welch.overlap;

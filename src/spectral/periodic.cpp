@@ -14,6 +14,8 @@ namespace {
 
 using Complex = std::complex<double>;
 constexpr std::size_t kChannels = 3;  // injection, x, y
+// The shortest period the accumulator takes, in samples.
+constexpr std::size_t kMinPeriodSamples = 16;
 
 // Sums over periods for one line.
 struct LineSums {
@@ -55,8 +57,18 @@ struct PeriodicAccumulator::Impl {
   }
 };
 
+void PeriodicOptions::validate() const {
+  if (period_samples < kMinPeriodSamples) {
+    throw setting_out_of_range("period_samples", period_samples,
+                               "at least " + std::to_string(kMinPeriodSamples) + " samples");
+  }
+  if (!(injection_floor_db > 0.0 && std::isfinite(injection_floor_db))) {
+    throw setting_out_of_range("injection_floor_db", injection_floor_db, "a positive number of dB");
+  }
+}
+
 PeriodicAccumulator::PeriodicAccumulator(const PeriodicOptions& options) {
-  if (options.period_samples < 16) throw ConfigError("the period must be at least 16 samples");
+  options.validate();
   impl_ = std::make_unique<Impl>(options);
 }
 PeriodicAccumulator::~PeriodicAccumulator() = default;

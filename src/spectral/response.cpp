@@ -87,12 +87,23 @@ void report_low_coherence(const Response& r, Diagnostics& findings) {
 
 }  // namespace
 
+const char* estimator_name(Estimator estimator) { return name_of(kEstimatorNames, estimator); }
+
+Estimator estimator_from_name(const std::string& name) { return value_of(kEstimatorNames, name, {"estimator"}); }
+
 double bendat_piersol_random_error(double coherence, double averages) {
   if (coherence <= 0.0) return INFINITY;
   return std::sqrt(1.0 - coherence) / (std::sqrt(coherence) * std::sqrt(2.0 * averages));
 }
 
+void ResponseOptions::validate() const {
+  if (!(injection_floor_db > 0.0 && std::isfinite(injection_floor_db))) {
+    throw setting_out_of_range("injection_floor_db", injection_floor_db, "a positive number of dB");
+  }
+}
+
 Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& options, Diagnostics& findings) {
+  options.validate();
   const auto& reference_power = spectra.at(kReferenceChannel, kReferenceChannel);
   // DC and the Nyquist line of a real signal carry no phase: never reported.
   const std::size_t last_line = (spectra.segment_length - 1) / 2;

@@ -96,7 +96,25 @@ struct SteppedSineEstimator::Impl {
   }
 };
 
-SteppedSineEstimator::SteppedSineEstimator(SteppedOptions options) : impl_(std::make_unique<Impl>(std::move(options))) {}
+void SteppedOptions::validate() const {
+  if (!(sample_rate_hz > 0.0 && std::isfinite(sample_rate_hz))) {
+    throw setting_out_of_range("sample_rate_hz", sample_rate_hz, "a positive rate in Hz");
+  }
+  if (!(settle_cycles >= 0.0 && std::isfinite(settle_cycles))) {
+    throw setting_out_of_range("settle_cycles", settle_cycles, "0 or more cycles");
+  }
+  if (!(settle_s >= 0.0 && std::isfinite(settle_s))) {
+    throw setting_out_of_range("settle_s", settle_s, "0 or more seconds");
+  }
+  if (!(max_harmonic_ratio > 0.0 && std::isfinite(max_harmonic_ratio))) {
+    throw setting_out_of_range("max_harmonic_ratio", max_harmonic_ratio, "a positive share of the fundamental");
+  }
+}
+
+SteppedSineEstimator::SteppedSineEstimator(SteppedOptions options) {
+  options.validate();
+  impl_ = std::make_unique<Impl>(std::move(options));
+}
 SteppedSineEstimator::~SteppedSineEstimator() = default;
 SteppedSineEstimator::SteppedSineEstimator(SteppedSineEstimator&&) noexcept = default;
 SteppedSineEstimator& SteppedSineEstimator::operator=(SteppedSineEstimator&&) noexcept = default;

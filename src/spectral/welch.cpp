@@ -11,6 +11,7 @@
 #include <thread>
 
 #include "loopaudit/error.hpp"
+#include "loopaudit/format.hpp"
 #include "fft/fft_plan.hpp"
 
 namespace loopaudit {
@@ -28,13 +29,10 @@ std::size_t pair_index(std::size_t i, std::size_t j, std::size_t channel_count) 
 
 void WelchOptions::validate() const {
   if (segment_length < kMinSegmentLength) {
-    throw ConfigError("segment length " + std::to_string(segment_length) + " is too short; use at least " +
-                      std::to_string(kMinSegmentLength) + " samples");
+    throw setting_out_of_range("segment", segment_length, "at least " + std::to_string(kMinSegmentLength) + " samples");
   }
   if (!(overlap >= 0.0 && overlap <= kMaxOverlap)) {
-    std::ostringstream message;
-    message << "overlap " << overlap << " is out of range; use a fraction from 0 to " << kMaxOverlap;
-    throw ConfigError(message.str());
+    throw setting_out_of_range("overlap", overlap, "a fraction from 0 to " + format_fixed(kMaxOverlap, 1));
   }
 }
 

@@ -60,23 +60,9 @@ Stage read_stage(const toml::table& table, const std::string& where) {
   stage.integrators = whole(table, "integrators", where, 0, {0, 64});
   stage.zeros = factors(table, "zeros", where);
   stage.poles = factors(table, "poles", where);
-  const std::string method = text(table, "discretize", where, "zoh");
-  if (method == "zoh") {
-    stage.discretization = Discretization::kZeroOrderHold;
-  } else if (method == "bilinear") {
-    stage.discretization = Discretization::kBilinear;
-  } else {
-    throw ConfigError(where + ": discretize = '" + method + "'; choose zoh or bilinear");
-  }
+  stage.discretization = value_of(kDiscretizationNames, text(table, "discretize", where, "zoh"),
+                                  {.what = "discretization", .where = where});
   return stage;
-}
-
-InjectionKind injection_kind_from_name(const std::string& kind, const std::string& where) {
-  for (InjectionKind k : {InjectionKind::kNoise, InjectionKind::kMultisine, InjectionKind::kPrbs, InjectionKind::kStepped,
-                          InjectionKind::kChirp}) {
-    if (kind == injection_kind_name(k)) return k;
-  }
-  throw ConfigError(where + ": kind = '" + kind + "'; choose noise, multisine, prbs, stepped or chirp");
 }
 
 Injection read_injection(const toml::table& table, const std::string& where) {
@@ -84,7 +70,7 @@ Injection read_injection(const toml::table& table, const std::string& where) {
                      "points", "dwell_s", "sweep", "sweep_s"},
              where);
   Injection in;
-  in.kind = injection_kind_from_name(text(table, "kind", where, "noise"), where);
+  in.kind = value_of(kInjectionKindNames, text(table, "kind", where, "noise"), {.what = "kind", .where = where});
   in.rms = number(table, "rms", where);
   in.low_hz = number(table, "low_hz", where, 0.0);
   in.high_hz = number(table, "high_hz", where, 0.0);
@@ -113,16 +99,7 @@ void require(bool condition, const std::string& message) {
 
 }  // namespace
 
-const char* injection_kind_name(InjectionKind kind) {
-  switch (kind) {
-    case InjectionKind::kNoise: return "noise";
-    case InjectionKind::kMultisine: return "multisine";
-    case InjectionKind::kPrbs: return "prbs";
-    case InjectionKind::kStepped: return "stepped";
-    case InjectionKind::kChirp: return "chirp";
-  }
-  return "noise";
-}
+const char* injection_kind_name(InjectionKind kind) { return name_of(kInjectionKindNames, kind); }
 
 std::size_t Injection::period(double sample_rate_hz) const {
   switch (kind) {

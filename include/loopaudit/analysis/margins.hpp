@@ -52,6 +52,10 @@ struct MarginOptions {
   double confidence = 0.95;
   // Open-loop poles in the right half plane, for the Nyquist count.
   int open_loop_rhp_poles = 0;
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // find_margins).
+  void validate() const;
 };
 
 // Margins from measured or tabulated lines (ascending frequency). Crossings

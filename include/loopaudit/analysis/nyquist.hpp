@@ -34,6 +34,10 @@ struct StabilityOptions {
   // Lines whose relative standard deviation (of |L| in nepers, of angle L in
   // rad) exceeds this carry no usable phase and are left out of the count.
   double max_relative_sigma = 0.5;
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // assess_stability).
+  void validate() const;
 };
 
 StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options = {});

@@ -19,6 +19,4 @@ struct RunSettings {
 // ConfigError for an unknown key or a bad value (naming table and key).
 RunSettings load_run_settings(const std::string& path, RunSettings defaults = {});
 
-Estimator estimator_from_name(const std::string& name);  // "reference", "two-channel"
-
 }  // namespace loopaudit

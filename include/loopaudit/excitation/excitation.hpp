@@ -16,14 +16,22 @@
 #include <string>
 #include <vector>
 
+#include "loopaudit/names.hpp"
 #include "loopaudit/record/diagnostic.hpp"
 #include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
 
 enum class ExcitationKind { kBroadband, kPeriodic, kStepped, kChirp };
-const char* excitation_name(ExcitationKind kind);  // "broadband", "periodic", "stepped", "chirp"
+inline constexpr NameTable<ExcitationKind, 4> kExcitationNames{{{ExcitationKind::kBroadband, "broadband"},
+                                                                {ExcitationKind::kPeriodic, "periodic"},
+                                                                {ExcitationKind::kStepped, "stepped"},
+                                                                {ExcitationKind::kChirp, "chirp"}}};
+static_assert(one_to_one(kExcitationNames));
+const char* excitation_name(ExcitationKind kind);
 ExcitationKind excitation_from_name(const std::string& name);  // throws ConfigError
+// A setting: "auto" (none: the detector finds the kind) or one of the names.
+std::optional<ExcitationKind> excitation_setting_from_name(const std::string& name);
 
 
 struct ExcitationPlan {

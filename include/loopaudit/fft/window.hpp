@@ -12,12 +12,19 @@
 #include <string_view>
 #include <vector>
 
+#include "loopaudit/names.hpp"
+
 namespace loopaudit {
 
 enum class WindowKind { kRectangular, kHann, kHamming, kBlackmanHarris };
 
-// Accepted names: "rectangular", "hann", "hamming", "blackman-harris".
-// Throws ConfigError for anything else, listing the accepted names.
+inline constexpr NameTable<WindowKind, 4> kWindowNames{{{WindowKind::kRectangular, "rectangular"},
+                                                        {WindowKind::kHann, "hann"},
+                                                        {WindowKind::kHamming, "hamming"},
+                                                        {WindowKind::kBlackmanHarris, "blackman-harris"}}};
+static_assert(one_to_one(kWindowNames));
+
+// The names of kWindowNames; throws ConfigError for anything else, listing them.
 WindowKind window_from_name(std::string_view name);
 const char* window_name(WindowKind kind);
 

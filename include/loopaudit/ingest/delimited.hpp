@@ -15,11 +15,19 @@
 
 namespace loopaudit {
 
+// The most samples a reader hands out in one block (the analysis keeps up to
+// 64 blocks of the start of a recording for replay).
+inline constexpr std::size_t kMaxBlockSize = 65536;
+
 struct DelimitedOptions {
   std::optional<char> delimiter;         // unset: the most frequent of , ; and tab in the header
   std::string time_column;               // empty: a column named t, time or time_s, if any
   std::optional<double> sample_rate_hz;  // overrides the time column; required without one
-  std::size_t block_size = 65536;        // samples per block handed out
+  std::size_t block_size = kMaxBlockSize;  // samples per block handed out, 1 to kMaxBlockSize
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // open_delimited).
+  void validate() const;
 };
 
 // Opens the file and reads its header. Throws InputError for a missing file

@@ -13,17 +13,29 @@
 #include <vector>
 
 #include "loopaudit/ingest/delimited.hpp"
+#include "loopaudit/names.hpp"
 #include "loopaudit/record/record.hpp"
 
 namespace loopaudit {
 
 enum class RecordingFormat { kAuto, kText, kRaw, kWav, kHdf5 };
+inline constexpr NameTable<RecordingFormat, 5> kFormatNames{{{RecordingFormat::kAuto, "auto"},
+                                                             {RecordingFormat::kText, "text"},
+                                                             {RecordingFormat::kRaw, "raw"},
+                                                             {RecordingFormat::kWav, "wav"},
+                                                             {RecordingFormat::kHdf5, "hdf5"}}};
+static_assert(one_to_one(kFormatNames));
 
-// Accepted names: "auto", "text", "raw", "wav", "hdf5". Throws ConfigError.
+// The names of kFormatNames ("auto": by the file's extension). Throws ConfigError.
 RecordingFormat format_from_name(const std::string& name);
 
 enum class SampleType { kInt16, kInt32, kFloat32, kFloat64 };
-SampleType sample_type_from_name(const std::string& name);  // int16, int32, float32, float64
+inline constexpr NameTable<SampleType, 4> kSampleTypeNames{{{SampleType::kInt16, "int16"},
+                                                            {SampleType::kInt32, "int32"},
+                                                            {SampleType::kFloat32, "float32"},
+                                                            {SampleType::kFloat64, "float64"}}};
+static_assert(one_to_one(kSampleTypeNames));
+SampleType sample_type_from_name(const std::string& name);  // throws ConfigError
 std::size_t sample_type_bytes(SampleType type);
 
 // Interleaved binary samples after an optional header; value = raw * scale + offset.
@@ -50,7 +62,12 @@ struct RecordingOptions {
   DelimitedOptions text;
   RawLayout raw;
   Hdf5Layout hdf5;
-  std::size_t block_size = 65536;
+  std::size_t block_size = kMaxBlockSize;  // 1 to kMaxBlockSize
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // open_recording). What only a format needs (a raw file's sample rate, an
+  // HDF5 file's datasets) its reader checks.
+  void validate() const;
 };
 
 // Throws InputError when the file cannot be opened or does not match its

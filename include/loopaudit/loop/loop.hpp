@@ -4,12 +4,18 @@
 
 #include <string_view>
 
+#include "loopaudit/names.hpp"
 #include "loopaudit/record/diagnostic.hpp"
 #include "loopaudit/record/response.hpp"
 
 namespace loopaudit {
 
-// Accepted names: "series-injection", "direct", "closed-loop".
+inline constexpr NameTable<Convention, 3> kConventionNames{{{Convention::kSeriesInjection, "series-injection"},
+                                                            {Convention::kDirect, "direct"},
+                                                            {Convention::kClosedLoop, "closed-loop"}}};
+static_assert(one_to_one(kConventionNames));
+
+// The names of kConventionNames; throws ConfigError for anything else.
 Convention convention_from_name(std::string_view name);
 const char* convention_name(Convention convention);
 const char* convention_formula(Convention convention);  // e.g. "L = -Y/X"

@@ -8,6 +8,8 @@
 #include <string>
 #include <vector>
 
+#include "loopaudit/names.hpp"
+
 namespace loopaudit {
 
 // One factor of a transfer function in s (rad/s): a real root (1 + s/w) or a
@@ -18,6 +20,9 @@ struct Factor {
 };
 
 enum class Discretization { kZeroOrderHold, kBilinear };
+inline constexpr NameTable<Discretization, 2> kDiscretizationNames{
+    {{Discretization::kZeroOrderHold, "zoh"}, {Discretization::kBilinear, "bilinear"}}};
+static_assert(one_to_one(kDiscretizationNames));
 
 // gain * prod(zeros) / (s^integrators * prod(poles)).
 struct Stage {

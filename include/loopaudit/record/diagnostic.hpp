@@ -5,9 +5,14 @@
 #include <string>
 #include <vector>
 
+#include "loopaudit/names.hpp"
+
 namespace loopaudit {
 
 enum class Severity { kNote, kWarning, kError };
+inline constexpr NameTable<Severity, 3> kSeverityNames{
+    {{Severity::kNote, "note"}, {Severity::kWarning, "warning"}, {Severity::kError, "error"}}};
+static_assert(one_to_one(kSeverityNames));
 
 // Where a finding applies; every part is optional.
 struct Location {

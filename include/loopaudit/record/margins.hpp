@@ -15,7 +15,11 @@
 namespace loopaudit {
 
 enum class StabilityVerdict { kStable, kUnstable, kUndecided };
-const char* verdict_name(StabilityVerdict verdict);  // "stable" / "unstable" / "undecided"
+inline constexpr NameTable<StabilityVerdict, 3> kVerdictNames{{{StabilityVerdict::kStable, "stable"},
+                                                               {StabilityVerdict::kUnstable, "unstable"},
+                                                               {StabilityVerdict::kUndecided, "undecided"}}};
+static_assert(one_to_one(kVerdictNames));
+const char* verdict_name(StabilityVerdict verdict);
 
 struct StabilityAssessment {
   StabilityVerdict verdict = StabilityVerdict::kUndecided;
@@ -52,7 +56,10 @@ struct Estimate {
   std::optional<Interval> interval;
 };
 
-const char* direction_name(GainDirection direction);  // "increase" / "decrease"
+inline constexpr NameTable<GainDirection, 2> kDirectionNames{
+    {{GainDirection::kIncrease, "increase"}, {GainDirection::kDecrease, "decrease"}}};
+static_assert(one_to_one(kDirectionNames));
+const char* direction_name(GainDirection direction);
 
 struct GainCrossover {
   Estimate frequency_hz;

@@ -23,9 +23,13 @@
 namespace loopaudit {
 
 struct PeriodicOptions {
-  std::size_t period_samples = 0;
-  std::size_t skip_periods = 1;  // transient periods dropped at the start
+  std::size_t period_samples = 0;  // at least 16
+  std::size_t skip_periods = 1;    // transient periods dropped at the start
   double injection_floor_db = 40.0;
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // the accumulator's constructor).
+  void validate() const;
 };
 
 class PeriodicAccumulator {

@@ -17,6 +17,7 @@
 #include <string>
 #include <vector>
 
+#include "loopaudit/names.hpp"
 #include "loopaudit/record/diagnostic.hpp"
 #include "loopaudit/record/response.hpp"
 #include "loopaudit/spectral/welch.hpp"
@@ -24,6 +25,11 @@
 namespace loopaudit {
 
 enum class Estimator { kReference, kTwoChannel };
+inline constexpr NameTable<Estimator, 2> kEstimatorNames{
+    {{Estimator::kReference, "reference"}, {Estimator::kTwoChannel, "two-channel"}}};
+static_assert(one_to_one(kEstimatorNames));
+const char* estimator_name(Estimator estimator);
+Estimator estimator_from_name(const std::string& name);  // throws ConfigError
 
 // Roles of the channels of the CrossSpectra handed to estimate_response.
 inline constexpr std::size_t kReferenceChannel = 0;
@@ -35,6 +41,10 @@ struct ResponseOptions {
   // Lines whose reference power lies more than this far below its peak carry
   // no injection and are not reported.
   double injection_floor_db = 40.0;
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // estimate_response).
+  void validate() const;
 };
 
 

@@ -25,6 +25,11 @@ struct SteppedOptions {
   double settle_cycles = 3.0;
   double settle_s = 0.0;
   double max_harmonic_ratio = 0.05;  // a harmonic above this share of the fundamental is reported
+
+  // Throws ConfigError naming the setting that is out of range (called by
+  // the estimator's constructor). The dwells are data, checked where they
+  // are found (detector, schedule, marker).
+  void validate() const;
 };
 
 class SteppedSineEstimator {

@@ -27,7 +27,8 @@ struct WelchOptions {
   double overlap = 0.5;               // fraction of a segment shared with the next, 0 <= overlap <= 0.9
   bool remove_segment_mean = true;    // subtract each segment's mean before windowing
 
-  // Throws ConfigError naming the option that is out of range.
+  // Throws ConfigError naming the setting that is out of range (called by
+  // the accumulator's constructor).
   void validate() const;
   std::size_t step() const;  // samples between segment starts
 };

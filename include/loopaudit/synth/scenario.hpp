@@ -12,6 +12,12 @@
 namespace loopaudit {
 
 enum class InjectionKind { kNoise, kMultisine, kPrbs, kStepped, kChirp };
+inline constexpr NameTable<InjectionKind, 5> kInjectionKindNames{{{InjectionKind::kNoise, "noise"},
+                                                                  {InjectionKind::kMultisine, "multisine"},
+                                                                  {InjectionKind::kPrbs, "prbs"},
+                                                                  {InjectionKind::kStepped, "stepped"},
+                                                                  {InjectionKind::kChirp, "chirp"}}};
+static_assert(one_to_one(kInjectionKindNames));
 const char* injection_kind_name(InjectionKind kind);
 
 struct Injection {
