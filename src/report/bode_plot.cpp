@@ -1,9 +1,12 @@
 // The Bode plots: L with its margins marked, and the ratio as measured.
 #include <algorithm>
 #include <cmath>
+#include <string>
 #include <tuple>
+#include <utility>
 
 #include "loopaudit/units.hpp"
+#include "report/margin_marks.hpp"
 #include "report/plot_parts.hpp"
 #include "report/svg.hpp"
 
@@ -13,66 +16,25 @@ namespace {
 using svg::Canvas;
 using svg::Panel;
 
-// Label placement that keeps labels of neighbouring markers from overlapping:
-// each label takes the next free row when one already sits within `gap` px.
-class LabelRows {
- public:
-  explicit LabelRows(double gap) : gap_(gap) {}
-  int take(double x) {
-    int row = 0;
-    while (std::any_of(taken_.begin(), taken_.end(),
-                       [&](const auto& t) { return t.second == row && std::abs(t.first - x) < gap_; })) {
-      ++row;
-    }
-    taken_.push_back({x, row});
-    return row;
-  }
-
- private:
-  double gap_;
-  std::vector<std::pair<double, int>> taken_;
+// Where the table and the key go: below the panes, the table only when
+// there are marks (an unmarked view keeps the plain layout).
+struct BodeLayout {
+  double table_top;   // the table header's baseline
+  double key_y;       // the key line of the curve and references
+  double mark_key_y;  // the first key line of the marks
+  double height;
 };
 
-// The phase and gain margins marked on a Bode plot: a dotted vertical at each
-// crossover and a thick segment from the reference to the curve, labelled.
-void mark_margins(Canvas& canvas, const Panel& mag, const Panel& phase, const Margins& marks,
-                  const std::vector<double>& f, const std::vector<double>& ph) {
-  LabelRows phase_rows(150.0), gain_rows(150.0);
-  // The -180 deg level (mod 360) nearest the drawn phase at f.
-  const auto level_at = [&](double frequency) {
-    const std::size_t k = std::min<std::size_t>(std::lower_bound(f.begin(), f.end(), frequency) - f.begin(), f.size() - 1);
-    return std::round((ph[k] + 180.0) / 360.0) * 360.0 - 180.0;
-  };
-  for (const auto& c : marks.gain_crossovers) {
-    const double fc = crossover_frequency(c).value;
-    const auto pm = phase_margin(c);
-    if (!mag.x.contains(fc)) continue;
-    const double x = mag.x(fc);
-    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
-    canvas.circle(mag.at(fc, 0.0), 4.0, {kMarker, 1.5}, "#ffffff");
-    const double level = level_at(fc);
-    const double at = level + pm.value;
-    canvas.line(phase.at(fc, level), phase.at(fc, at), {kMarker, 2.4});
-    canvas.circle(phase.at(fc, at), 3.0, {kMarker, 1.2}, kMarker);
-    side_label(canvas, phase, x, phase.y(level) + (at >= level ? 17.0 : -8.0) + 15.0 * phase_rows.take(x),
-               "PM " + deg(pm.value) + interval_suffix(pm.interval, one_decimal));
-  }
-  for (const auto& c : marks.phase_crossovers) {
-    const double fc = crossover_frequency(c).value;
-    const auto gm = gain_margin(c);
-    if (!mag.x.contains(fc)) continue;
-    const double x = mag.x(fc);
-    canvas.line({x, mag.top}, {x, phase.bottom()}, kMarkerLine);
-    canvas.rect(x - 3.5, phase.y(level_at(fc)) - 3.5, 7.0, 7.0, {kMarker, 1.5}, "#ffffff");
-    canvas.line(mag.at(fc, 0.0), mag.at(fc, -gm.value), {kMarker, 2.4});
-    canvas.circle(mag.at(fc, -gm.value), 3.0, {kMarker, 1.2}, kMarker);
-    side_label(canvas, mag, x, mag.y(0.0) + (gm.value >= 0.0 ? -8.0 : 17.0) - 15.0 * gain_rows.take(x),
-               "GM " + signed_db(gm.value) + interval_suffix(gm.interval, one_decimal));
-  }
+BodeLayout bode_layout(const std::vector<CrossoverMark>& marks) {
+  if (marks.empty()) return {0.0, 585.0, 600.0, 600.0};
+  const double table_top = 592.0;
+  const double key_y = table_top + margin_table_height(marks.size()) + 12.0;
+  const double mark_key_y = key_y + 18.0;
+  return {table_top, key_y, mark_key_y, mark_key_y + mark_key_height(marks) - 3.0};
 }
 
-void bode_key(Canvas& canvas, const BodeView& view, double confidence) {
-  const double y = 585.0;
+// The curve, its band and the references; the marks' own key lines follow it.
+void bode_key(Canvas& canvas, const BodeView& view, double confidence, double y) {
   canvas.line({kLeft, y - 4.0}, {kLeft + 26.0, y - 4.0}, kCurveStroke);
   canvas.text({kLeft + 32.0, y}, view.curve_label, {11.0});
   canvas.rect(kLeft + 120.0, y - 10.0, 26.0, 10.0, {kCurve, 0.0}, "rgba(11,93,122,0.2)");
@@ -81,10 +43,6 @@ void bode_key(Canvas& canvas, const BodeView& view, double confidence) {
   canvas.text({kLeft + 362.0, y},
               view.phase_reference_deg ? "0 dB and " + tick_number(*view.phase_reference_deg) + "° (mod 360°)" : "0 dB",
               {11.0});
-  if (view.marked) {
-    canvas.line({kLeft + 530.0, y - 4.0}, {kLeft + 556.0, y - 4.0}, {kMarker, 2.4});
-    canvas.text({kLeft + 562.0, y}, "margins", {11.0});
-  }
 }
 
 // The two panes of a Bode plot, sharing the frequency axis.
@@ -177,6 +135,13 @@ void draw_bode_curves(Canvas& canvas, const BodePanes& panes, const BodeCurves& 
 }
 
 void bode_notes(const Drawable& d, const BodeView& view, Plot& plot) {
+  for (const auto& [count, kind] : {std::pair{view.marks.gain_crossovers.size(), "gain crossovers"},
+                                    std::pair{view.marks.phase_crossovers.size(), "phase crossovers"}}) {
+    if (view.marked && count > kMostMarkedEach) {
+      plot.notes.push_back("Only the first " + std::to_string(kMostMarkedEach) + " of " + std::to_string(count) + " " +
+                           kind + " are marked; the margins table lists them all.");
+    }
+  }
   if (std::find(d.reliable.begin(), d.reliable.end(), false) != d.reliable.end()) {
     plot.notes.push_back("Faint parts of the curve are lines too noisy to trust (relative standard deviation above " +
                          fixed(kMostTrustedSigma, 1) + "); they do not set the axes.");
@@ -193,7 +158,10 @@ void bode_notes(const Drawable& d, const BodeView& view, Plot& plot) {
 
 Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view) {
   Plot plot{view.name, view.caption, "", {}};
-  Canvas canvas(kWidth, 600.0, view.title);
+  const std::vector<CrossoverMark> marks =
+      view.marked && !d.f.empty() ? crossover_marks(view.marks) : std::vector<CrossoverMark>{};
+  const BodeLayout layout = bode_layout(marks);
+  Canvas canvas(kWidth, layout.height, view.title);
   canvas.text({kLeft, 24.0}, view.title, {14.0, "start", kInk, true});
   BodePanes panes = bode_panes(frequency_scale(d.f));
   if (d.f.empty()) {
@@ -204,8 +172,10 @@ Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view)
   const BodeCurves curves = bode_curves(d, view.marks, result.margins.confidence);
   draw_bode_axes(canvas, panes, curves, d, view, plot);
   draw_bode_curves(canvas, panes, curves, d, view);
-  if (view.marked) mark_margins(canvas, panes.mag, panes.phase, view.marks, d.f, curves.phase);
-  bode_key(canvas, view, result.margins.confidence);
+  draw_crossover_marks(canvas, {panes.mag, panes.phase, d.f, curves.gain, curves.phase}, marks, kWidth, layout.height);
+  draw_margin_table(canvas, layout.table_top, marks, result.margins.confidence);
+  bode_key(canvas, view, result.margins.confidence, layout.key_y);
+  draw_mark_key(canvas, layout.mark_key_y, marks);
   bode_notes(d, view, plot);
   plot.svg = canvas.finish();
   return plot;

@@ -24,6 +24,7 @@ extern const char* const kMarker;
 extern const char* const kReference;
 extern const char* const kModulus;
 extern const char* const kInk;
+extern const char* const kPaper;
 extern const svg::Stroke kCurveStroke;
 extern const svg::Stroke kReferenceStroke;
 extern const svg::Stroke kMarkerLine;

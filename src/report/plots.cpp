@@ -22,12 +22,14 @@ using svg::Text;
 
 // The project's look: one deep teal for the measurement, a burnt orange for
 // what the analysis marks on it, grey for references, violet for the
-// modulus margin. Each also differs in line style, for greyscale print.
+// modulus margin. Each also differs in line style, for greyscale print; the
+// margin marks differ in shape (round, square), fill and id as well.
 const char* const kCurve = "#0b5d7a";
 const char* const kMarker = "#b8440f";
 const char* const kReference = "#6b6f76";
 const char* const kModulus = "#6d3fb5";
 const char* const kInk = "#222831";
+const char* const kPaper = "#ffffff";  // the background: hollow marks, and the id on a filled tag
 const Stroke kCurveStroke{kCurve, 1.6};
 const Stroke kReferenceStroke{kReference, 1.0, "6 4"};
 const Stroke kMarkerLine{kMarker, 1.2, "2 3"};
