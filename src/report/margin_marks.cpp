@@ -73,8 +73,10 @@ std::vector<Point> curve_points(const Panel& p, const std::vector<double>& f, co
 void draw_tag(Canvas& canvas, TagPlacer& placer, const Panel& pane, Point at, const CrossoverMark& m, bool filled) {
   const Point centre = placer.place(at, kTagHalf, pane_box(pane));
   const double dx = centre.x - at.x, dy = centre.y - at.y, length = std::hypot(dx, dy);
-  const double to = length - kTagHalf;
-  canvas.line(at, {at.x + dx * to / length, at.y + dy * to / length}, {kMarker, 1.0});
+  if (length > kTagHalf) {
+    const double to = length - kTagHalf;
+    canvas.line(at, {at.x + dx * to / length, at.y + dy * to / length}, {kMarker, 1.0});
+  }
   draw_shape(canvas, centre, kTagHalf, m.gain_crossover, filled, m.id);
 }
 

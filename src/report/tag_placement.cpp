@@ -107,8 +107,11 @@ double TagPlacer::crowding(Point anchor, Point centre, double half) const {
 }
 
 Point TagPlacer::place(Point anchor, double half, const Box& area) {
-  Point best{std::clamp(anchor.x, area.left + half, area.right - half),
-             std::clamp(anchor.y - kRadii[0], area.top + half, area.bottom - half)};
+  // Where the tag goes when no candidate fits the area: above the mark, pushed inside.
+  const auto inside = [&](double v, double low, double high) {
+    return std::clamp(v, low + half, std::max(low + half, high - half));
+  };
+  Point best{inside(anchor.x, area.left, area.right), inside(anchor.y - kRadii[0], area.top, area.bottom)};
   double best_cost = std::numeric_limits<double>::infinity();
   for (double radius : kRadii) {
     for (int i = 0; i < kDirections; ++i) {
