@@ -50,8 +50,7 @@ Plot dwell_snr(const Drawable& d) {
   Canvas canvas(kWidth, 330.0, "Signal-to-noise ratio of each dwell against frequency");
   canvas.text({kLeft, 24.0}, "Signal-to-noise ratio of each dwell", {14.0, "start", kInk, true});
   const svg::Scale fx = frequency_scale(d.f);
-  std::vector<double> snr_db;
-  for (double c : d.coherence) snr_db.push_back(db_from_power(std::max(c, 1e-12) / std::max(1.0 - c, 1e-12)));
+  const std::vector<double>& snr_db = d.snr_db;
   auto [low, high] = value_range(snr_db, std::vector<bool>(snr_db.size(), true));
   low = std::min(low, -10.0);
   high = std::max(high, 20.0);

@@ -69,6 +69,7 @@ Drawable drawable(const Response& r) {
     d.sigma.push_back(std::isfinite(s) ? s : 0.0);
     d.reliable.push_back(!(d.sigma.back() > kMostTrustedSigma));
     if (k < r.coherence.size()) d.coherence.push_back(r.coherence[k]);
+    if (k < r.snr_db.size()) d.snr_db.push_back(r.snr_db[k]);
   }
   if (d.coherence.size() != d.f.size()) d.coherence.clear();
   return d;
@@ -232,7 +233,7 @@ void side_label(Canvas& canvas, const Panel& p, double x, double y, const std::s
 std::vector<Plot> draw_plots(const AnalysisResult& result) {
   using namespace plotting;
   const Drawable d = drawable(result.loop.lines);
-  const bool stepped = result.excitation_kind == ExcitationKind::kStepped && !d.coherence.empty();
+  const bool stepped = d.snr_db.size() == d.f.size() && !d.snr_db.empty();
   const BodeView loop_view{"bode", "Bode plot of L: magnitude and phase against frequency, margins marked",
                            std::string("Loop gain ") + convention_formula(result.loop.convention) + ": magnitude and phase",
                            result.margins, true, -180.0, "measured L"};
