@@ -48,15 +48,19 @@ struct SummaryRow {
   const char* label;
   const char* key;
   std::string (*format)(double);
+  std::string (*interval_format)(double);
 };
 std::string frequency(double v) { return format_frequency(v); }
 std::string deg_value(double v) { return printf_string("%.1f deg", v); }
 std::string sensitivity_db(double v) { return printf_string("%.1f dB", v); }
 constexpr SummaryRow kSummaryRows[] = {
-    {"gain crossover", "gain_crossover_hz", frequency}, {"phase margin", "phase_margin_deg", deg_value},
-    {"delay margin", "delay_margin_s", seconds},       {"phase crossover", "phase_crossover_hz", frequency},
-    {"gain margin", "gain_margin_db", signed_db},      {"modulus margin", "modulus_margin", ratio},
-    {"peak sensitivity", "peak_sensitivity_db", sensitivity_db},
+    {"gain crossover", "gain_crossover_hz", frequency, frequency},
+    {"phase margin", "phase_margin_deg", deg_value, deg_value},
+    {"delay margin", "delay_margin_s", seconds, seconds},
+    {"phase crossover", "phase_crossover_hz", frequency, frequency},
+    {"gain margin", "gain_margin_db", signed_db, signed_db},
+    {"modulus margin", "modulus_margin", ratio, ratio},
+    {"peak sensitivity", "peak_sensitivity_db", sensitivity_db, plain_db},  // an interval end may be unbounded
 };
 
 std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
@@ -64,10 +68,9 @@ std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
   std::vector<Row> rows;
   for (const SummaryRow& r : kSummaryRows) {
     const QuantityComparison& c = comparison_of(compared, r.key);
-    const auto interval_format = std::string(r.key) == "peak_sensitivity_db" ? plain_db : r.format;
     rows.push_back({r.label, c.measured ? r.format(c.measured->value) : "none in band",
                     c.reference ? r.format(*c.reference) : "none in band",
-                    c.measured ? interval_text(*c.measured, interval_format) : ""});
+                    c.measured ? interval_text(*c.measured, r.interval_format) : ""});
   }
   return rows;
 }
