@@ -187,6 +187,36 @@ GainDirection direction_of(double gain_margin_db) {
   return gain_margin_db >= 0.0 ? GainDirection::kIncrease : GainDirection::kDecrease;
 }
 
+namespace {
+
+// What an unresolved stretch may hide from the summary. Phase crossings
+// where |L| > 1 would limit a gain reduction (GM = -|L| dB), where |L| < 1 a
+// gain increase; gain crossings would have a phase margin in the range of
+// 180 + angle L there. Only what could be smaller than the summary's value,
+// or of a kind it has none of, is kept.
+std::vector<PossibleMargin> possible_margins(const std::vector<UnresolvedStretch>& stretches, const MarginSummary& s) {
+  std::vector<PossibleMargin> out;
+  const auto smaller = [](const std::optional<Estimate>& known, double could_be) {
+    return !known || std::abs(could_be) < std::abs(known->value);
+  };
+  for (const UnresolvedStretch& u : stretches) {
+    const auto add = [&](const char* key, double low, double high) { out.push_back({key, u.low_hz, u.high_hz, {low, high}}); };
+    if (u.level == CrossingLevel::kGain) {
+      if (smaller(s.phase_margin_deg, u.other.low)) add("phase_margin_deg", u.other.low, u.other.high);
+      continue;
+    }
+    if (u.other.high > 0.0 && smaller(s.gain_reduction_margin_db, std::max(u.other.low, 0.0))) {
+      add("gain_reduction_margin_db", -u.other.high, -std::max(u.other.low, 0.0));
+    }
+    if (u.other.low < 0.0 && smaller(s.gain_increase_margin_db, std::max(-u.other.high, 0.0))) {
+      add("gain_increase_margin_db", std::max(-u.other.high, 0.0), -u.other.low);
+    }
+  }
+  return out;
+}
+
+}  // namespace
+
 MarginSummary summarize(const Margins& margins) {
   MarginSummary summary;
   for (const GainCrossover& c : margins.gain_crossovers) {
@@ -207,6 +237,7 @@ MarginSummary summarize(const Margins& margins) {
     auto& directed = gm >= 0.0 ? summary.gain_increase_margin_db : summary.gain_reduction_margin_db;
     if (!directed || std::abs(gm) < std::abs(directed->value)) directed = c.gain_margin_db;
   }
+  summary.possible = possible_margins(margins.unresolved, summary);
   if (margins.modulus) {
     summary.modulus_margin = margins.modulus->modulus_margin;
     summary.peak_sensitivity_db = margins.modulus->peak_sensitivity_db;

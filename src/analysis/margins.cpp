@@ -4,6 +4,7 @@
 #include <sstream>
 
 #include "analysis/crossings.hpp"
+#include "analysis/groups.hpp"
 #include "analysis/peaks.hpp"
 #include "loopaudit/analysis/margins.hpp"
 #include "loopaudit/error.hpp"
@@ -14,102 +15,21 @@ namespace loopaudit {
 namespace {
 
 using detail::Bracket;
+using detail::Crossing;
+using detail::Curve;
+using detail::Group;
+using detail::Verdict;
+using detail::bracket_sigma;
+using detail::crossing_groups;
+using detail::group_band;
+using detail::unresolved;
 using detail::LineTable;
 using detail::LocalFit;
 using detail::interval;
 using detail::Window;
 using detail::window_around;
 
-// A crossing placed between two lines, before clusters are merged.
-struct Crossing {
-  Bracket bracket;
-  double log_f = 0.0;
-  double slope = 0.0;        // of the curve, per decade, fitted over a wide window
-  double log_f_sigma = 0.0;  // from the per-line uncertainty and the slope
-  bool noisy = false;        // its lines are too uncertain to place it
-};
 
-double bracket_sigma(const std::vector<double>& sigmas, const Bracket& bracket) {
-  return 0.5 * (sigmas[bracket.index] + sigmas[bracket.index + 1]);
-}
-
-// One curve of the table (gain in dB or unwrapped phase in deg) with the
-// standard deviation of each line, in the same unit.
-struct Curve {
-  const std::vector<double>& values;
-  const std::vector<double>& sigmas;
-};
-
-std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
-                                      const MarginOptions& options) {
-  std::vector<Crossing> crossings;
-  for (const Bracket& bracket : brackets) {
-    const Window w = window_around(bracket.index, bracket.index, options.fit_half_width, table.size());
-    const int degree = detail::fit_degree(curve.sigmas, w.first, w.last);
-    const LocalFit fit = detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree);
-    const double log_f = detail::solve_in_bracket(fit, table.log_f, curve.values, bracket);
-    const Window wide = window_around(bracket.index, bracket.index, options.slope_half_width, table.size());
-    const double slope =
-        std::abs(detail::fit_local(table.log_f, curve.values, curve.sigmas, wide.first, wide.last, 1).slope());
-    const double sigma = bracket_sigma(curve.sigmas, bracket);
-    const bool noisy = bracket_sigma(table.relative_sigma, bracket) > options.max_line_sigma;
-    crossings.push_back({bracket, log_f, slope, slope > 0.0 ? sigma / slope : 0.0, noisy});
-  }
-  return crossings;
-}
-
-// True when two crossings of one level are the same crossover seen through
-// noise: both placeable or both not (a noisy crossing's wide interval must not
-// swallow a clean one), their intervals touch, and every line between them
-// stays near the level (a curve that leaves the level between two crossings
-// crosses twice for real). "Near" is three standard deviations, so that one
-// line of several rarely breaks a group by chance (0.3 % a line for Gaussian
-// errors), plus what the curve's own slope moves it from the nearer crossing.
-bool same_crossover(const Crossing& a, const Crossing& b, const LineTable& table, const Curve& curve,
-                    double merge_sigmas) {
-  constexpr double kNearLevelSigmas = 3.0;
-  if (a.bracket.level != b.bracket.level || a.noisy != b.noisy) return false;
-  if (b.log_f - a.log_f >= merge_sigmas * (a.log_f_sigma + b.log_f_sigma)) return false;
-  const double slope = 0.5 * (a.slope + b.slope);
-  for (std::size_t k = a.bracket.index + 1; k <= b.bracket.index; ++k) {
-    const double from_crossing = std::min(table.log_f[k] - a.log_f, b.log_f - table.log_f[k]);
-    const double allowed = kNearLevelSigmas * curve.sigmas[k] + slope * std::max(from_crossing, 0.0);
-    if (std::abs(curve.values[k] - a.bracket.level) > allowed) return false;
-  }
-  return true;
-}
-
-// Groups of neighbouring crossings that are one crossover seen through noise.
-std::vector<std::vector<Crossing>> cluster(const std::vector<Crossing>& crossings, const LineTable& table,
-                                           const Curve& curve, double merge_sigmas) {
-  std::vector<std::vector<Crossing>> groups;
-  for (const Crossing& c : crossings) {
-    if (!groups.empty() && same_crossover(groups.back().back(), c, table, curve, merge_sigmas)) {
-      groups.back().push_back(c);
-    } else {
-      groups.push_back({c});
-    }
-  }
-  return groups;
-}
-
-Location group_band(const std::vector<Crossing>& group, const LineTable& table) {
-  return {.low_hz = std::pow(10.0, table.log_f[group.front().bracket.index]),
-          .high_hz = std::pow(10.0, table.log_f[group.back().bracket.index + 1])};
-}
-
-// The log frequency where a merged group crosses its level: a straight line
-// fitted to all lines the group spans.
-double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, const Curve& curve,
-                    const MarginOptions& options) {
-  if (group.size() == 1) return group.front().log_f;
-  const Window w = window_around(group.front().bracket.index, group.back().bracket.index, options.fit_half_width,
-                                 table.size());
-  const LocalFit fit = detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 1);
-  const double level = group.front().bracket.level;
-  const double root = fit.slope() != 0.0 ? fit.centre + (level - fit.coefficients[0]) / fit.slope() : fit.centre;
-  return std::clamp(root, group.front().log_f, group.back().log_f);
-}
 
 // The local fit of a curve over the lines a group spans (the one that placed
 // a single crossing; a straight line over a merged group).
@@ -193,81 +113,87 @@ std::optional<Interval> frequency_interval(double log_f, double log_f_sigma, dou
   return Interval{std::pow(10.0, log_f - z * log_f_sigma), std::pow(10.0, log_f + z * log_f_sigma)};
 }
 
-// What a group of merged crossings says.
-enum class Verdict {
-  kCrossover,    // an odd number of crossings: the curve passes the level once on balance
-  kNearMiss,     // an even number: it comes back to the side it started on, within noise
-  kUnresolved,   // a member lies between lines too noisy to place it
-};
 
-struct Group {
-  std::vector<Crossing> members;
-  Verdict verdict = Verdict::kCrossover;
-  double log_f = 0.0;
-};
-
-// The side of the level (+1 above, -1 below) that the curve is clearly on
-// next to a group: the first line, walking away from the group, that lies
-// more than two standard deviations from the level. 0 when no line within
-// kSideWalkDecades (or before the band edge) is that clear.
-int clear_side(const Group& g, const LineTable& table, const Curve& curve, bool upward) {
-  constexpr double kSideSigmas = 2.0;
-  constexpr double kSideWalkDecades = 0.1;
-  const double level = g.members.front().bracket.level;
-  const std::ptrdiff_t start = upward ? static_cast<std::ptrdiff_t>(g.members.back().bracket.index + 1)
-                                      : static_cast<std::ptrdiff_t>(g.members.front().bracket.index);
-  const std::ptrdiff_t step = upward ? 1 : -1;
-  for (std::ptrdiff_t k = start; k >= 0 && k < static_cast<std::ptrdiff_t>(table.size()); k += step) {
-    if (std::abs(table.log_f[k] - table.log_f[start]) > kSideWalkDecades) break;
-    const double offset = curve.values[k] - level;
-    if (std::abs(offset) > kSideSigmas * curve.sigmas[k]) return offset > 0.0 ? 1 : -1;
+// Intervals that say nothing: a frequency interval wider than a decade or
+// than the whole band, a margin interval wider than `max_margin_width` (180
+// deg of phase: any phase at all; 40 dB of gain: a factor of 100). Such a
+// crossing is neither listed nor summarised.
+bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_margin_width, const LineTable& table) {
+  constexpr double kMaxFrequencyDecades = 1.0;
+  const double band_decades = table.log_f.back() - table.log_f.front();
+  if (const auto& f = frequency_hz.interval) {
+    const double decades = std::log10(f->high / f->low);
+    if (!(decades <= std::min(kMaxFrequencyDecades, band_decades))) return true;
   }
-  return 0;
-}
-
-// A crossover when the curve is clearly on opposite sides before and after
-// the group, a near miss when on the same side, unresolved otherwise.
-Verdict verdict_of(const Group& g, const LineTable& table, const Curve& curve) {
-  if (g.members.front().noisy) return Verdict::kUnresolved;  // a group is all noisy or all placeable
-  const int before = clear_side(g, table, curve, false);
-  const int after = clear_side(g, table, curve, true);
-  if (before == 0 || after == 0) return Verdict::kUnresolved;
-  return before == after ? Verdict::kNearMiss : Verdict::kCrossover;
-}
-
-std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
-                                   const MarginOptions& options) {
-  std::vector<Group> groups;
-  for (auto& members : cluster(place_crossings(brackets, table, curve, options), table, curve, options.merge_sigmas)) {
-    Group g{std::move(members)};
-    g.verdict = verdict_of(g, table, curve);
-    g.log_f = merged_log_f(g.members, table, curve, options);
-    groups.push_back(std::move(g));
+  if (const auto& m = margin.interval) {
+    if (!(m->high - m->low <= max_margin_width)) return true;
   }
-  return groups;
+  return false;
+}
+constexpr double kMaxPhaseIntervalDeg = 180.0;
+constexpr double kMaxGainIntervalDb = 40.0;
+
+
+// The other curve's range over lines first..last: |L| in dB for phase
+// crossings, the phase margin for gain crossings.
+Interval other_range(const LineTable& table, CrossingLevel level, std::size_t first, std::size_t last) {
+  Interval range{INFINITY, -INFINITY};
+  for (std::size_t k = first; k <= last; ++k) {
+    const double v = level == CrossingLevel::kPhase ? table.gain_db[k] : wrap_deg(180.0 + table.phase_deg[k]);
+    range.low = std::min(range.low, v);
+    range.high = std::max(range.high, v);
+  }
+  return range;
 }
 
-// One finding for each run of unresolved groups between resolved ones.
-void report_unresolved(const std::vector<Group>& groups, const LineTable& table, const char* what,
-                       const MarginOptions& options, Diagnostics& findings) {
+// One stretch and one finding for each run of unresolved groups between
+// resolved ones.
+void report_unresolved(const std::vector<Group>& groups, const LineTable& table, CrossingLevel level,
+                       const MarginOptions& options, Margins& margins) {
+  const char* what = level == CrossingLevel::kGain ? "gain crossing" : "phase crossing";
   for (std::size_t i = 0; i < groups.size();) {
-    if (groups[i].verdict != Verdict::kUnresolved) {
+    if (!unresolved(groups[i].verdict)) {
       ++i;
       continue;
     }
-    std::size_t end = i;
-    std::size_t count = 0;
-    for (; end < groups.size() && groups[end].verdict == Verdict::kUnresolved; ++end) count += groups[end].members.size();
-    const Location band{.low_hz = group_band(groups[i].members, table).low_hz,
-                        .high_hz = group_band(groups[end - 1].members, table).high_hz};
+    std::size_t end = i, count = 0, wide = 0;
+    for (; end < groups.size() && unresolved(groups[end].verdict); ++end) {
+      count += groups[end].members.size();
+      if (groups[end].verdict == Verdict::kTooWide) wide += groups[end].members.size();
+    }
+    const std::size_t first = groups[i].members.front().bracket.index;
+    const std::size_t last = groups[end - 1].members.back().bracket.index + 1;
+    const Location band{.low_hz = std::pow(10.0, table.log_f[first]), .high_hz = std::pow(10.0, table.log_f[last])};
+    margins.unresolved.push_back({level, *band.low_hz, *band.high_hz, count, other_range(table, level, first, last)});
     std::ostringstream message;
-    message << count << " " << what << (count == 1 ? "" : "s") << " from " << format_frequency(*band.low_hz) << " to "
-            << format_frequency(*band.high_hz) << " are not listed: the lines there are too noisy to place them "
-            << "(relative uncertainty above " << options.max_line_sigma << ") or to show that the curve really "
-            << "crosses. Raise the injection or average longer if a crossover may lie there";
-    findings.push_back(make_warning("margins.unresolved-crossings", message.str(), band));
+    message << count << " " << what << (count == 1 ? " " : "s ") << "from " << format_frequency(*band.low_hz)
+            << " to " << format_frequency(*band.high_hz) << (count == 1 ? " is" : " are")
+            << " not listed: the lines there are too noisy to place " << (count == 1 ? "it" : "them")
+            << " (relative uncertainty above " << options.max_line_sigma << "), to show that the curve really "
+            << "crosses, or to give an interval that means anything";
+    if (wide > 0) message << " (" << wide << " placed with intervals too wide to use)";
+    message << ". Raise the injection or average longer if a crossover may lie there";
+    margins.findings.push_back(make_warning("margins.unresolved-crossings", message.str(), band));
     i = end;
   }
+}
+
+double group_sigma(const Group& g) {
+  double sigma = 0.0;
+  for (const Crossing& c : g.members) sigma = std::max(sigma, c.log_f_sigma);
+  return sigma;
+}
+
+// A near miss within a few of its sigmas of a crossover of the same level is
+// that crossover's noise (a steep curve crossed many times by noisy lines),
+// not a second approach to the level: it gets no warning of its own.
+bool beside_crossover(const Group& near_miss, const std::vector<Group>& groups) {
+  constexpr double kBesideSigmas = 3.0;
+  for (const Group& g : groups) {
+    if (g.verdict != Verdict::kCrossover) continue;
+    if (std::abs(g.log_f - near_miss.log_f) <= kBesideSigmas * (group_sigma(g) + group_sigma(near_miss))) return true;
+  }
+  return false;
 }
 
 void report_near_miss(const Group& g, const LineTable& table, const std::string& what, Diagnostics& findings) {
@@ -277,19 +203,18 @@ void report_near_miss(const Group& g, const LineTable& table, const std::string&
   findings.push_back(make_warning("margins.near-crossing", message.str(), group_band(g.members, table)));
 }
 
-std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginOptions& options, Diagnostics& findings) {
+std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginOptions& options, Margins& margins) {
   const Curve gain{table.gain_db, table.gain_sigma_db};
   const Curve phase{table.phase_deg, table.phase_sigma_deg};
-  const auto groups = crossing_groups(detail::gain_brackets(table), table, gain, options);
-  report_unresolved(groups, table, "gain crossing", options, findings);
+  auto groups = crossing_groups(detail::gain_brackets(table), table, gain, options);
   std::vector<GainCrossover> result;
   const double z = two_sided_z(options.confidence);
-  for (const Group& g : groups) {
+  for (Group& g : groups) {
     const Placed p = place(table, gain, phase, g.members, g.log_f, options);
     const double phase_margin_deg = wrap_deg(180.0 + p.other);
-    if (g.verdict == Verdict::kNearMiss) {
+    if (g.verdict == Verdict::kNearMiss && !beside_crossover(g, groups)) {
       report_near_miss(g, table, "|L| comes within noise of 0 dB (phase margin there about " +
-                                     std::to_string(std::lround(phase_margin_deg)) + " deg)", findings);
+                                     std::to_string(std::lround(phase_margin_deg)) + " deg)", margins.findings);
     }
     if (g.verdict != Verdict::kCrossover) continue;
     GainCrossover c;
@@ -304,25 +229,28 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
     c.delay_margin_s = {delay_margin_s, interval(delay_margin_s, delay_sigma, z)};
     c.merged_crossings = g.members.size();
     c.trust_flags = trust_flags(table, g.members, options);
+    if (too_wide(c.frequency_hz, c.phase_margin_deg, kMaxPhaseIntervalDeg, table)) {
+      g.verdict = Verdict::kTooWide;
+      continue;
+    }
     result.push_back(c);
   }
+  report_unresolved(groups, table, CrossingLevel::kGain, options, margins);
   return result;
 }
 
-std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const MarginOptions& options,
-                                             Diagnostics& findings) {
+std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const MarginOptions& options, Margins& margins) {
   const Curve gain{table.gain_db, table.gain_sigma_db};
   const Curve phase{table.phase_deg, table.phase_sigma_deg};
-  const auto groups = crossing_groups(detail::phase_brackets(table), table, phase, options);
-  report_unresolved(groups, table, "phase crossing", options, findings);
+  auto groups = crossing_groups(detail::phase_brackets(table), table, phase, options);
   std::vector<PhaseCrossover> result;
   const double z = two_sided_z(options.confidence);
-  for (const Group& g : groups) {
+  for (Group& g : groups) {
     const Placed p = place(table, phase, gain, g.members, g.log_f, options);
     const double gain_db = p.other;
-    if (g.verdict == Verdict::kNearMiss) {
+    if (g.verdict == Verdict::kNearMiss && !beside_crossover(g, groups)) {
       report_near_miss(g, table, "the phase comes within noise of -180 deg (|L| there about " +
-                                     std::to_string(std::lround(gain_db)) + " dB)", findings);
+                                     std::to_string(std::lround(gain_db)) + " dB)", margins.findings);
     }
     if (g.verdict != Verdict::kCrossover) continue;
     PhaseCrossover c;
@@ -331,8 +259,13 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
     c.limits = detail::direction_of(-gain_db);
     c.merged_crossings = g.members.size();
     c.trust_flags = trust_flags(table, g.members, options);
+    if (too_wide(c.frequency_hz, c.gain_margin_db, kMaxGainIntervalDb, table)) {
+      g.verdict = Verdict::kTooWide;
+      continue;
+    }
     result.push_back(c);
   }
+  report_unresolved(groups, table, CrossingLevel::kPhase, options, margins);
   std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz.value < b.frequency_hz.value; });
   return result;
 }
@@ -354,6 +287,58 @@ Margins too_few_lines(const Response& loop, const MarginOptions& options) {
   return margins;
 }
 
+// The lines inside options.band_hz (all without one), with a note for the
+// lines left out; fewer than two inside is an error that names the band.
+Response lines_in_band(const Response& loop, const MarginOptions& options, Diagnostics& findings) {
+  if (!options.band_hz || loop.size() == 0) return loop;
+  const Interval band = *options.band_hz;
+  Response inside;
+  inside.method = loop.method;
+  for (std::size_t k = 0; k < loop.size(); ++k) {
+    if (loop.frequency_hz[k] < band.low || loop.frequency_hz[k] > band.high) continue;
+    inside.frequency_hz.push_back(loop.frequency_hz[k]);
+    inside.value.push_back(loop.value[k]);
+    if (k < loop.coherence.size()) inside.coherence.push_back(loop.coherence[k]);
+    if (k < loop.relative_sigma.size()) inside.relative_sigma.push_back(loop.relative_sigma[k]);
+    if (k < loop.snr_db.size()) inside.snr_db.push_back(loop.snr_db[k]);
+  }
+  const std::string what = format_frequency(band.low) + " to " + format_frequency(band.high) + " (" +
+                           options.band_source + ")";
+  if (inside.size() < 2) {
+    throw NumericalError("only " + std::to_string(inside.size()) + " of the " + std::to_string(loop.size()) +
+                         " lines (" + format_frequency(loop.frequency_hz.front()) + " to " +
+                         format_frequency(loop.frequency_hz.back()) + ") lie in the margin band " + what +
+                         "; margins need at least two: widen the band");
+  }
+  const std::size_t left_out = loop.size() - inside.size();
+  if (left_out > 0) {
+    findings.push_back(make_note("margins.band", "margins are read from the " + std::to_string(inside.size()) +
+                                                     " lines from " + what + "; the other " + std::to_string(left_out) +
+                                                     " lines are drawn but not used",
+                                 {.low_hz = band.low, .high_hz = band.high}));
+  }
+  return inside;
+}
+
+// A warning for each margin an unresolved stretch may hide from the summary.
+void report_possible(const MarginSummary& summary, Diagnostics& findings) {
+  for (const PossibleMargin& p : summary.possible) {
+    const std::string key = p.key;
+    const bool phase = key == "phase_margin_deg";
+    const char* what = phase ? "a phase margin" : key == "gain_reduction_margin_db" ? "a gain reduction margin"
+                                                                                    : "a gain increase margin";
+    const char* unit = phase ? " deg" : " dB";
+    std::ostringstream message;
+    const auto number = [&](double v) { return phase ? format_fixed(v, 1) : format_signed(v, 1); };
+    message << what << " from " << number(p.range.low) << " to " << number(p.range.high) << unit
+            << " may lie from " << format_frequency(p.low_hz) << " to " << format_frequency(p.high_hz) << ", where "
+            << (phase ? "gain" : "phase") << " crossings could not be resolved: the summary's "
+            << (phase ? "phase margin" : "gain margins") << " may not be the loop's. Measure that stretch again with "
+            << "more injection or longer averaging before relying on them";
+    findings.push_back(make_warning("margins.possible-margin", message.str(), {.low_hz = p.low_hz, .high_hz = p.high_hz}));
+  }
+}
+
 }  // namespace
 
 double two_sided_z(double confidence) {
@@ -367,8 +352,10 @@ double two_sided_z(double confidence) {
   return 0.5 * (low + high);
 }
 
-Margins find_margins(const Response& loop, const MarginOptions& options) {
+Margins find_margins(const Response& all_lines, const MarginOptions& options) {
   options.validate();
+  Diagnostics band_findings;
+  const Response loop = lines_in_band(all_lines, options, band_findings);
   if (loop.size() < 2) return too_few_lines(loop, options);
   const LineTable table = detail::make_line_table(loop.frequency_hz, loop.value, loop.relative_sigma, loop.coherence);
   Margins margins;
@@ -376,13 +363,15 @@ Margins find_margins(const Response& loop, const MarginOptions& options) {
   margins.band_high_hz = loop.frequency_hz.back();
   margins.line_count = loop.size();
   margins.confidence = options.confidence;
-  margins.gain_crossovers = gain_crossovers(table, options, margins.findings);
-  margins.phase_crossovers = phase_crossovers(table, options, margins.findings);
+  margins.gain_crossovers = gain_crossovers(table, options, margins);
+  margins.phase_crossovers = phase_crossovers(table, options, margins);
   margins.modulus = detail::modulus_point(table, options);
   margins.disk = detail::disk_point(table, options);
   margins.stability = assess_stability(loop, {options.open_loop_rhp_poles});
   margins.summary = detail::summarize(margins);
+  report_possible(margins.summary, margins.findings);
   detail::add_absence_findings(table, margins);
+  margins.findings.insert(margins.findings.begin(), band_findings.begin(), band_findings.end());
   return margins;
 }
 

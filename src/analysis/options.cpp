@@ -6,6 +6,7 @@
 #include "loopaudit/analysis/margins.hpp"
 #include "loopaudit/analysis/nyquist.hpp"
 #include "loopaudit/error.hpp"
+#include "loopaudit/format.hpp"
 
 namespace loopaudit {
 
@@ -28,6 +29,10 @@ void MarginOptions::validate() const {
   }
   if (open_loop_rhp_poles < 0) {
     throw setting_out_of_range("open_loop_rhp_poles", open_loop_rhp_poles, "0 or more poles");
+  }
+  if (band_hz && !(band_hz->low > 0.0 && band_hz->high > band_hz->low && std::isfinite(band_hz->high))) {
+    throw ConfigError("the margin band " + format_frequency(band_hz->low) + " to " + format_frequency(band_hz->high) +
+                      " is empty or not finite: give 'band' (--band LOW:HIGH) in Hz with 0 < LOW < HIGH");
   }
 }
 

@@ -5,6 +5,7 @@
 #include <unistd.h>
 
 #include <chrono>
+#include <cmath>
 #include <filesystem>
 #include <iostream>
 #include <memory>
@@ -68,6 +69,7 @@ struct AnalyzeArgs {
   double injection_floor_db = 0.0;
   double confidence = 0.0;
   int rhp_poles = 0;
+  std::string band;
   CLI::App* command = nullptr;
 
   // True when the option exists for this verb and was given.
@@ -76,6 +78,14 @@ struct AnalyzeArgs {
     return o != nullptr && o->count() > 0;
   }
 };
+
+std::optional<Interval> parse_band(const std::string& text);
+
+// A --band the validator accepted, as the margins' band.
+void set_band(MarginOptions& margins, const std::string& text) {
+  margins.band_hz = parse_band(text);
+  margins.band_source = "--band " + text;
+}
 
 RunSettings resolve(const AnalyzeArgs& a) {
   RunSettings s = a.config_path.empty() ? RunSettings{} : load_run_settings(a.config_path);
@@ -101,6 +111,7 @@ RunSettings resolve(const AnalyzeArgs& a) {
   if (a.given("--marker")) o.marker_channel = a.marker;
   if (a.given("--confidence")) o.margins.confidence = a.confidence;
   if (a.given("--rhp-poles")) o.margins.open_loop_rhp_poles = a.rhp_poles;
+  if (a.given("--band")) set_band(o.margins, a.band);
   return s;
 }
 
@@ -121,8 +132,31 @@ namespace {
 
 // The options that say how to read a recording and which channel is which,
 // shared by analyze and inspect.
+// LOW:HIGH in Hz as an interval; nullopt when the text is not that.
+std::optional<Interval> parse_band(const std::string& text) {
+  const auto colon = text.find(':');
+  if (colon == std::string::npos) return std::nullopt;
+  try {
+    std::size_t used_low = 0, used_high = 0;
+    const std::string low = text.substr(0, colon), high = text.substr(colon + 1);
+    const Interval band{std::stod(low, &used_low), std::stod(high, &used_high)};
+    if (used_low != low.size() || used_high != high.size()) return std::nullopt;
+    if (!(band.low > 0.0 && band.high > band.low && std::isfinite(band.high))) return std::nullopt;
+    return band;
+  } catch (const std::exception&) {
+    return std::nullopt;
+  }
+}
+
 // Options of the margins stage, shared by analyze and table.
-void add_margin_options(CLI::App* cmd, double& confidence, int& rhp_poles) {
+void add_margin_options(CLI::App* cmd, double& confidence, int& rhp_poles, std::string& band) {
+  cmd->add_option("--band", band, "Read margins only from the lines from LOW to HIGH Hz [the excited band]")
+      ->check(CLI::Validator(
+          [](const std::string& text) {
+            return parse_band(text) ? std::string() : "'" + text + "' is not LOW:HIGH in Hz with 0 < LOW < HIGH";
+          },
+          "", "band"))
+      ->type_name("LOW:HIGH");
   cmd->add_option("--confidence", confidence, "Level of every interval, 0.5 to 1 [0.95]")
       ->check(CLI::Range(0.5, 0.9999).description(""))
       ->type_name("LEVEL");
@@ -182,7 +216,7 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
       ->type_name("NAME");
   cmd->add_option("--truth", a->truth_path, "Truth file from `loopaudit synth`, shown beside the results")
       ->type_name("FILE");
-  add_margin_options(cmd, a->confidence, a->rhp_poles);
+  add_margin_options(cmd, a->confidence, a->rhp_poles, a->band);
   cmd->callback([a, command_line] { run_analyze(*a, command_line); });
 }
 
@@ -204,6 +238,7 @@ void add_table(CLI::App& app, const std::string& command_line) {
     OutputRequest outputs;
     std::string convention = "direct";
     MarginOptions margins;
+    std::string band;
   };
   auto args = std::make_shared<Args>();
   auto* cmd = app.add_subcommand("table", "Margins from a frequency-response table (freq_hz with re,im or mag_db,phase_deg)");
@@ -212,9 +247,10 @@ void add_table(CLI::App& app, const std::string& command_line) {
                   "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T)")
       ->capture_default_str();
   add_output_options(cmd, args->outputs);
-  add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles);
+  add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles, args->band);
   cmd->callback([args, command_line] {
     const Convention convention = convention_from_name(args->convention);
+    if (!args->band.empty()) set_band(args->margins, args->band);
     const AnalysisResult result =
         analyze_response(args->table, read_response_table(args->table), convention, args->margins);
     write_outputs(result, args->outputs, args->table, "", command_line);

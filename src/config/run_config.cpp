@@ -91,8 +91,16 @@ RunSettings load_run_settings(const std::string& path, RunSettings settings) {
            settings.analysis.margins.open_loop_rhp_poles);
   }
   if (const auto* t = optional_table(root, "margins", path)) {
-    check_keys(*t, {"confidence"}, path + " [margins]");
-    set_if(optional_number(*t, "confidence", path + " [margins]"), settings.analysis.margins.confidence);
+    const std::string where = path + " [margins]";
+    check_keys(*t, {"confidence", "band"}, where);
+    set_if(optional_number(*t, "confidence", where), settings.analysis.margins.confidence);
+    if (const auto band = optional_numbers(*t, "band", where)) {
+      if (band->size() != 2 || !((*band)[0] > 0.0 && (*band)[1] > (*band)[0])) {
+        throw ConfigError(where + ": 'band' must be [LOW, HIGH] in Hz with 0 < LOW < HIGH");
+      }
+      settings.analysis.margins.band_hz = Interval{(*band)[0], (*band)[1]};
+      settings.analysis.margins.band_source = "band in " + path;
+    }
   }
   return settings;
 }

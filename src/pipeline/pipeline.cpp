@@ -4,6 +4,7 @@
 #include <sstream>
 
 #include "loopaudit/error.hpp"
+#include "loopaudit/format.hpp"
 #include "loopaudit/excitation/schedule.hpp"
 #include "loopaudit/ingest/quality.hpp"
 #include "loopaudit/loop/loop.hpp"
@@ -108,17 +109,53 @@ QualityMonitor quality_monitor(const SampleSource& source, const AnalysisOptions
   return QualityMonitor({options.roles.injection, options.roles.x, options.roles.y}, kReferenceChannel, source.origin());
 }
 
-// The stages after the response: loop, margins, findings.
+// Refuses a response averaged too few times for its uncertainty to mean
+// anything, saying what to change.
+void refuse_weak(const Response& measured, const AnalysisOptions& options, std::size_t sample_count,
+                 const std::string& origin) {
+  const ResponseMethod& m = measured.method;
+  const bool averaged = m.kind == ResponseMethodKind::kWelch || m.kind == ResponseMethodKind::kPeriodic;
+  if (!averaged || m.effective_averages >= options.min_effective_averages) return;
+  std::ostringstream message;
+  message << origin << ": only " << format_fixed(m.effective_averages, 1) << " effective averages ("
+          << m.averages << (m.kind == ResponseMethodKind::kWelch ? " segments" : " periods") << "); at least "
+          << options.min_effective_averages << " are needed for the lines' uncertainty, and so the margins and "
+          << "their intervals, to mean anything. ";
+  if (m.kind == ResponseMethodKind::kWelch) {
+    // The largest power-of-two segment that gives about 16 averages at the
+    // overlap in use (each segment advances by step samples).
+    const WelchOptions& w = options.welch;
+    std::size_t segment = w.segment_length;
+    const auto averages_at = [&](std::size_t length) {
+      const double step = std::max(1.0, static_cast<double>(length) * (1.0 - w.overlap));
+      return (static_cast<double>(sample_count) - static_cast<double>(length)) / step + 1.0;
+    };
+    while (segment > 64 && averages_at(segment) < 16.0) segment /= 2;
+    message << "Use shorter segments (--segment " << segment << " gives about " << std::lround(averages_at(segment))
+            << ") or a longer record";
+  } else {
+    message << "Record more periods, or skip fewer (skip_periods in the settings file)";
+  }
+  throw NumericalError(message.str());
+}
+
+// The stages after the response: loop, margins (from the excited band unless
+// a band is given), findings.
 AnalysisResult finish_result(SampleSource& source, const AnalysisOptions& options, SourceSummary summary,
-                             const Response& measured, Diagnostics findings) {
+                             const Response& measured, Diagnostics findings, std::optional<Interval> excited_hz) {
+  refuse_weak(measured, options, summary.sample_count, source.origin());
   AnalysisResult result;
   result.origin = source.origin();
   result.options = options;
+  if (!options.margins.band_hz && excited_hz) {
+    result.options.margins.band_hz = excited_hz;
+    result.options.margins.band_source = "the band the injection excites";
+  }
   result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles};
   result.findings = std::move(summary.findings);
   append(result.findings, findings);
   result.loop = to_loop(measured, options.convention, result.findings);
-  result.margins = find_margins(result.loop.lines, options.margins);
+  result.margins = find_margins(result.loop.lines, result.options.margins);
   append(result.findings, result.margins.findings);
   return result;
 }
@@ -145,28 +182,36 @@ std::unique_ptr<ResponseEstimator> make_estimator(ExcitationKind kind, const Exc
   throw ConfigError("unknown excitation kind");
 }
 
-// Reads the source to its end through `estimator`, then the later stages.
-AnalysisResult run_estimator(SampleSource& source, const AnalysisOptions& options, ResponseEstimator& estimator,
-                             const ProgressFunction& progress) {
+// The band a broadband or swept injection excites, in Hz, from a plan made
+// at plan_rate_hz (1 when made in cycles per sample); unset for the other
+// kinds, whose estimators keep only the lines they excite.
+std::optional<Interval> excited_band(ExcitationKind kind, const ExcitationPlan& plan, double plan_rate_hz,
+                                     double sample_rate_hz) {
+  const bool spread = kind == ExcitationKind::kBroadband || kind == ExcitationKind::kChirp;
+  if (!spread || !(plan.high_hz > plan.low_hz) || !(plan_rate_hz > 0.0)) return std::nullopt;
+  const double factor = sample_rate_hz / plan_rate_hz;
+  return Interval{plan.low_hz * factor, plan.high_hz * factor};
+}
+
+// Reads the source to its end through the kind's estimator, then the later
+// stages.
+AnalysisResult run_kind(SampleSource& source, const AnalysisOptions& options, ExcitationKind kind,
+                        const ExcitationPlan& plan, double plan_rate_hz, const ProgressFunction& progress) {
+  const auto estimator = make_estimator(kind, plan, plan_rate_hz, options, source.origin());
   QualityMonitor quality = quality_monitor(source, options);
   stream(
       source, options.roles, &quality,
       [&](const RoleChannels& selected, const SampleBlock& block) {
-        estimator.push(selected, block.first_sample);
+        estimator->push(selected, block.first_sample);
         return true;
       },
       progress);
   SourceSummary summary = source.summary();
   Diagnostics findings = quality.findings();
   const Response measured =
-      estimator.finish({summary.sample_rate_hz, summary.sample_count, source.origin()}, findings);
-  return finish_result(source, options, std::move(summary), measured, std::move(findings));
-}
-
-AnalysisResult run_kind(SampleSource& source, const AnalysisOptions& options, ExcitationKind kind,
-                        const ExcitationPlan& plan, double sample_rate_hz, const ProgressFunction& progress) {
-  const auto estimator = make_estimator(kind, plan, sample_rate_hz, options, source.origin());
-  AnalysisResult result = run_estimator(source, options, *estimator, progress);
+      estimator->finish({summary.sample_rate_hz, summary.sample_count, source.origin()}, findings);
+  const auto excited = excited_band(kind, plan, plan_rate_hz, summary.sample_rate_hz);
+  AnalysisResult result = finish_result(source, options, std::move(summary), measured, std::move(findings), excited);
   result.excitation_kind = kind;
   return result;
 }

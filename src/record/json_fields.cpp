@@ -28,6 +28,24 @@ Json summary_json(const MarginSummary& s) {
   }
   out[kModulusFrequencyKey] = optional_number(s.modulus_frequency_hz);
   out["intervals"] = intervals;
+  out["possible"] = Json::array();
+  for (const PossibleMargin& p : s.possible) {
+    out["possible"].push_back({{"key", p.key}, {"low_hz", p.low_hz}, {"high_hz", p.high_hz},
+                               {"range", {{"low", finite_or_null(p.range.low)}, {"high", finite_or_null(p.range.high)}}}});
+  }
+  return out;
+}
+
+// Stretches where crossings were neither placed nor ruled out, with the
+// other curve's range there.
+Json unresolved_json(const std::vector<UnresolvedStretch>& stretches) {
+  Json out = Json::array();
+  for (const UnresolvedStretch& u : stretches) {
+    out.push_back({{"level", level_name(u.level)}, {"low_hz", u.low_hz}, {"high_hz", u.high_hz},
+                   {"crossings", u.crossings},
+                   {u.level == CrossingLevel::kPhase ? "gain_db" : "phase_margin_deg",
+                    {{"low", finite_or_null(u.other.low)}, {"high", finite_or_null(u.other.high)}}}});
+  }
   return out;
 }
 
@@ -76,6 +94,7 @@ void put_margins(Json& out, const Margins& m) {
                                 {"gain_high_db", interval_json(m.disk->gain_high_db.interval)},
                                 {"phase_deg", interval_json(m.disk->phase_deg.interval)}}}}
                        : Json(nullptr);
+  out["unresolved"] = unresolved_json(m.unresolved);
   const auto& st = m.stability;
   out["stability"] = {{"verdict", verdict_name(st.verdict)},
                       {"open_loop_rhp_poles", st.open_loop_rhp_poles},

@@ -24,4 +24,6 @@ const char* direction_name(GainDirection direction) { return name_of(kDirectionN
 
 const char* verdict_name(StabilityVerdict verdict) { return name_of(kVerdictNames, verdict); }
 
+const char* level_name(CrossingLevel level) { return name_of(kLevelNames, level); }
+
 }  // namespace loopaudit

@@ -52,6 +52,11 @@ struct MarginOptions {
   double confidence = 0.95;
   // Open-loop poles in the right half plane, for the Nyquist count.
   int open_loop_rhp_poles = 0;
+  // Only the lines from band_hz->low to band_hz->high count (all when unset);
+  // band_source says where the band came from ("the band the injection
+  // excites", "--band"), for the note that reports the lines left out.
+  std::optional<Interval> band_hz;
+  std::string band_source;
 
   // Throws ConfigError naming the setting that is out of range (called by
   // find_margins).

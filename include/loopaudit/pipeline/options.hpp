@@ -35,7 +35,18 @@ struct AnalysisOptions {
   WelchOptions welch;
   ResponseOptions response;
   Convention convention = Convention::kSeriesInjection;
+  // Margins from the band the injection excites (as the detector finds it)
+  // unless margins.band_hz is given (--band).
   MarginOptions margins;
+  // Below this many effective averages (Welch segments corrected for
+  // overlap, or whole periods) the analysis refuses: the lines' uncertainty
+  // comes from their scatter over the averages, and with few the coherence is
+  // biased high and the intervals too narrow. Measured on the servo demo
+  // over 20 seeds: at 4.8 averages the crossover's (value - truth)/sigma has
+  // an rms of 1.7 and the gain margin a bias of -1 sigma; at 7.6 the rms is
+  // 1.2 and at 17 under 0.4. Below 12 the spectral stage warns
+  // (spectral.few-averages).
+  double min_effective_averages = 6.0;
 };
 
 }  // namespace loopaudit

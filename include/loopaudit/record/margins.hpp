@@ -101,6 +101,36 @@ struct DiskMargin {
   bool at_band_edge = false;
 };
 
+// Which curve crosses its level: |L| = 1 (gain crossings) or angle L =
+// -180 deg (phase crossings).
+enum class CrossingLevel { kGain, kPhase };
+inline constexpr NameTable<CrossingLevel, 2> kLevelNames{{{CrossingLevel::kGain, "gain"}, {CrossingLevel::kPhase, "phase"}}};
+static_assert(one_to_one(kLevelNames));
+const char* level_name(CrossingLevel level);
+
+// A stretch of the band where crossings of one level could be neither placed
+// nor ruled out: the lines are too noisy, the curve shows no clear side, or
+// the intervals would be too wide to mean anything. Nothing there is listed.
+struct UnresolvedStretch {
+  CrossingLevel level = CrossingLevel::kPhase;
+  double low_hz = 0.0;
+  double high_hz = 0.0;
+  std::size_t crossings = 0;  // noise crossings of the level seen there
+  // The other curve over the stretch's lines: |L| in dB for phase crossings,
+  // the phase margin 180 deg + angle L for gain crossings.
+  Interval other;
+};
+
+// A margin an unresolved stretch may hold that the summary cannot show: one
+// smaller than the summary's, or of a kind (gain reduction, gain increase)
+// the summary has none of.
+struct PossibleMargin {
+  const char* key = "";  // the summary field it qualifies, e.g. "gain_reduction_margin_db"
+  double low_hz = 0.0;   // the stretch
+  double high_hz = 0.0;
+  Interval range;        // the values the margin could take there
+};
+
 // The loop's margins in a few numbers, each from the crossing it came from.
 // Unset: none in the band.
 struct MarginSummary {
@@ -114,6 +144,9 @@ struct MarginSummary {
   std::optional<Estimate> modulus_margin;
   std::optional<Estimate> peak_sensitivity_db;
   std::optional<double> modulus_frequency_hz;
+  // Where the values above may not be the loop's: unresolved stretches that
+  // could hold a smaller margin or one in the other direction.
+  std::vector<PossibleMargin> possible;
 };
 
 // The summary's quantities by the names that the JSON results (and limits)
@@ -132,6 +165,7 @@ struct Margins {
   std::vector<PhaseCrossover> phase_crossovers;  // ascending frequency
   std::optional<ModulusPoint> modulus;
   std::optional<DiskMargin> disk;
+  std::vector<UnresolvedStretch> unresolved;  // ascending frequency within each level
   MarginSummary summary;
   StabilityAssessment stability;
   double band_low_hz = 0.0;

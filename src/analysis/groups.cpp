@@ -1,0 +1,166 @@
+#include "analysis/groups.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <numbers>
+
+namespace loopaudit::detail {
+
+double bracket_sigma(const std::vector<double>& sigmas, const Bracket& bracket) {
+  return 0.5 * (sigmas[bracket.index] + sigmas[bracket.index + 1]);
+}
+
+Location group_band(const std::vector<Crossing>& group, const LineTable& table) {
+  return {.low_hz = std::pow(10.0, table.log_f[group.front().bracket.index]),
+          .high_hz = std::pow(10.0, table.log_f[group.back().bracket.index + 1])};
+}
+
+bool unresolved(Verdict v) { return v == Verdict::kUnresolved || v == Verdict::kTooWide; }
+
+namespace {
+
+std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
+                                      const MarginOptions& options) {
+  std::vector<Crossing> crossings;
+  for (const Bracket& bracket : brackets) {
+    const Window w = window_around(bracket.index, bracket.index, options.fit_half_width, table.size());
+    const int degree = detail::fit_degree(curve.sigmas, w.first, w.last);
+    const LocalFit fit = detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree);
+    const double log_f = detail::solve_in_bracket(fit, table.log_f, curve.values, bracket);
+    const Window wide = window_around(bracket.index, bracket.index, options.slope_half_width, table.size());
+    const double slope =
+        std::abs(detail::fit_local(table.log_f, curve.values, curve.sigmas, wide.first, wide.last, 1).slope());
+    const double sigma = bracket_sigma(curve.sigmas, bracket);
+    const bool noisy = bracket_sigma(table.relative_sigma, bracket) > options.max_line_sigma;
+    crossings.push_back({bracket, log_f, slope, slope > 0.0 ? sigma / slope : 0.0, noisy});
+  }
+  return crossings;
+}
+
+// True when the lines between two crossings show that the curve leaves the
+// level there, so that the two are separate crossings, each to be judged on
+// its own evidence: either a run of kClearRun neighbouring lines all more
+// than kClearSigmas from the level on one side (for lines on the level by
+// chance about 0.023^3 = 1e-5, more with correlated neighbours), or their
+// weighted mean more than kMeanSigmas of its own sigma from the level, that
+// sigma inflated by sqrt 2 because neighbouring lines are correlated (0.3 to
+// 0.5 for a Hann window; DEVELOPERS.md, "Intervals").
+bool leaves_level_between(const Crossing& a, const Crossing& b, const Curve& curve) {
+  constexpr double kClearSigmas = 2.0;
+  constexpr std::size_t kClearRun = 3;
+  constexpr double kMeanSigmas = 3.0;
+  constexpr double kCorrelationInflation = std::numbers::sqrt2;
+  std::size_t run = 0, lines = 0;
+  int run_side = 0;
+  double weighted_sum = 0.0, weight_total = 0.0;
+  for (std::size_t k = a.bracket.index + 1; k <= b.bracket.index; ++k) {
+    const double offset = curve.values[k] - a.bracket.level;
+    const double sigma = curve.sigmas[k];
+    if (!(sigma > 0.0)) return false;  // exact lines: every crossing is its own
+    const int side = std::abs(offset) > kClearSigmas * sigma ? (offset > 0.0 ? 1 : -1) : 0;
+    run = side != 0 && side == run_side ? run + 1 : (side != 0 ? 1 : 0);
+    run_side = side;
+    if (run >= kClearRun) return true;
+    weighted_sum += offset / (sigma * sigma);
+    weight_total += 1.0 / (sigma * sigma);
+    ++lines;
+  }
+  if (lines < kClearRun) return false;
+  const double mean_sigma = kCorrelationInflation / std::sqrt(weight_total);
+  return std::abs(weighted_sum / weight_total) > kMeanSigmas * mean_sigma;
+}
+
+// True when two crossings of one level are the same crossover seen through
+// noise: both placeable or both not (a noisy crossing's wide interval must not
+// swallow a clean one), their intervals touch, every line between them
+// stays near the level (a curve that leaves the level between two crossings
+// crosses twice for real), and no run of clearly one-sided lines parts them.
+// "Near" is three standard deviations, so that one line of several rarely
+// breaks a group by chance (0.3 % a line for Gaussian errors), plus what the
+// curve's own slope moves it from the nearer crossing.
+bool same_crossover(const Crossing& a, const Crossing& b, const LineTable& table, const Curve& curve,
+                    double merge_sigmas) {
+  constexpr double kNearLevelSigmas = 3.0;
+  if (a.bracket.level != b.bracket.level || a.noisy != b.noisy) return false;
+  if (b.log_f - a.log_f >= merge_sigmas * (a.log_f_sigma + b.log_f_sigma)) return false;
+  if (leaves_level_between(a, b, curve)) return false;
+  const double slope = 0.5 * (a.slope + b.slope);
+  for (std::size_t k = a.bracket.index + 1; k <= b.bracket.index; ++k) {
+    const double from_crossing = std::min(table.log_f[k] - a.log_f, b.log_f - table.log_f[k]);
+    const double allowed = kNearLevelSigmas * curve.sigmas[k] + slope * std::max(from_crossing, 0.0);
+    if (std::abs(curve.values[k] - a.bracket.level) > allowed) return false;
+  }
+  return true;
+}
+
+// Groups of neighbouring crossings that are one crossover seen through noise.
+std::vector<std::vector<Crossing>> cluster(const std::vector<Crossing>& crossings, const LineTable& table,
+                                           const Curve& curve, double merge_sigmas) {
+  std::vector<std::vector<Crossing>> groups;
+  for (const Crossing& c : crossings) {
+    if (!groups.empty() && same_crossover(groups.back().back(), c, table, curve, merge_sigmas)) {
+      groups.back().push_back(c);
+    } else {
+      groups.push_back({c});
+    }
+  }
+  return groups;
+}
+
+// The log frequency where a merged group crosses its level: a straight line
+// fitted to all lines the group spans.
+double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, const Curve& curve,
+                    const MarginOptions& options) {
+  if (group.size() == 1) return group.front().log_f;
+  const Window w = window_around(group.front().bracket.index, group.back().bracket.index, options.fit_half_width,
+                                 table.size());
+  const LocalFit fit = detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 1);
+  const double level = group.front().bracket.level;
+  const double root = fit.slope() != 0.0 ? fit.centre + (level - fit.coefficients[0]) / fit.slope() : fit.centre;
+  return std::clamp(root, group.front().log_f, group.back().log_f);
+}
+
+// The side of the level (+1 above, -1 below) that the curve is clearly on
+// next to a group: the first line, walking away from the group, that lies
+// more than two standard deviations from the level. 0 when no line within
+// kSideWalkDecades (or before the band edge) is that clear.
+int clear_side(const Group& g, const LineTable& table, const Curve& curve, bool upward) {
+  constexpr double kSideSigmas = 2.0;
+  constexpr double kSideWalkDecades = 0.1;
+  const double level = g.members.front().bracket.level;
+  const std::ptrdiff_t start = upward ? static_cast<std::ptrdiff_t>(g.members.back().bracket.index + 1)
+                                      : static_cast<std::ptrdiff_t>(g.members.front().bracket.index);
+  const std::ptrdiff_t step = upward ? 1 : -1;
+  for (std::ptrdiff_t k = start; k >= 0 && k < static_cast<std::ptrdiff_t>(table.size()); k += step) {
+    if (std::abs(table.log_f[k] - table.log_f[start]) > kSideWalkDecades) break;
+    const double offset = curve.values[k] - level;
+    if (std::abs(offset) > kSideSigmas * curve.sigmas[k]) return offset > 0.0 ? 1 : -1;
+  }
+  return 0;
+}
+
+// A crossover when the curve is clearly on opposite sides before and after
+// the group, a near miss when on the same side, unresolved otherwise.
+Verdict verdict_of(const Group& g, const LineTable& table, const Curve& curve) {
+  if (g.members.front().noisy) return Verdict::kUnresolved;  // a group is all noisy or all placeable
+  const int before = clear_side(g, table, curve, false);
+  const int after = clear_side(g, table, curve, true);
+  if (before == 0 || after == 0) return Verdict::kUnresolved;
+  return before == after ? Verdict::kNearMiss : Verdict::kCrossover;
+}
+
+}  // namespace
+
+std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
+                                   const MarginOptions& options) {
+  std::vector<Group> groups;
+  for (auto& members : cluster(place_crossings(brackets, table, curve, options), table, curve, options.merge_sigmas)) {
+    Group g{std::move(members)};
+    g.verdict = verdict_of(g, table, curve);
+    g.log_f = merged_log_f(g.members, table, curve, options);
+    groups.push_back(std::move(g));
+  }
+  return groups;
+}
+
+}  // namespace loopaudit::detail

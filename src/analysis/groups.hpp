@@ -1,0 +1,51 @@
+// Crossings of one level between measured lines, grouped into crossovers:
+// noise crossings of one crossover merge, and each group says whether the
+// curve really passes the level there (DEVELOPERS.md, "Crossings").
+#pragma once
+
+#include <cstddef>
+#include <vector>
+
+#include "analysis/crossings.hpp"
+
+namespace loopaudit::detail {
+
+// A crossing placed between two lines, before clusters are merged.
+struct Crossing {
+  Bracket bracket;
+  double log_f = 0.0;
+  double slope = 0.0;        // of the curve, per decade, fitted over a wide window
+  double log_f_sigma = 0.0;  // from the per-line uncertainty and the slope
+  bool noisy = false;        // its lines are too uncertain to place it
+};
+
+// One curve of the table (gain in dB or unwrapped phase in deg) with the
+// standard deviation of each line, in the same unit.
+struct Curve {
+  const std::vector<double>& values;
+  const std::vector<double>& sigmas;
+};
+
+// What a group of merged crossings says.
+enum class Verdict {
+  kCrossover,    // the curve is clearly on opposite sides before and after it
+  kNearMiss,     // clearly on the same side: it comes back, within noise
+  kUnresolved,   // a member lies between lines too noisy to place it, or no clear side
+  kTooWide,      // placed, but its intervals are too wide to mean anything
+};
+bool unresolved(Verdict v);
+
+struct Group {
+  std::vector<Crossing> members;
+  Verdict verdict = Verdict::kCrossover;
+  double log_f = 0.0;  // where the group crosses the level
+};
+
+double bracket_sigma(const std::vector<double>& sigmas, const Bracket& bracket);
+Location group_band(const std::vector<Crossing>& group, const LineTable& table);
+
+// The crossings of `brackets`, grouped, each group with its verdict.
+std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
+                                   const MarginOptions& options);
+
+}  // namespace loopaudit::detail
