@@ -280,7 +280,7 @@ Margins too_few_lines(const Response& loop, const MarginOptions& options) {
     margins.band_low_hz = loop.frequency_hz.front();
     margins.band_high_hz = loop.frequency_hz.back();
   }
-  margins.stability = assess_stability(loop, {options.open_loop_rhp_poles});
+  margins.stability = assess_stability(loop, {.open_loop_rhp_poles = options.open_loop_rhp_poles, .sign_doubted = options.sign_doubted});
   margins.findings.push_back(make_warning("margins.too-few-lines",
                                           "margins need at least two lines to bracket a crossing; the response has " +
                                               std::to_string(loop.size())));
@@ -367,7 +367,7 @@ Margins find_margins(const Response& all_lines, const MarginOptions& options) {
   margins.phase_crossovers = phase_crossovers(table, options, margins);
   margins.modulus = detail::modulus_point(table, options);
   margins.disk = detail::disk_point(table, options);
-  margins.stability = assess_stability(loop, {options.open_loop_rhp_poles});
+  margins.stability = assess_stability(loop, {.open_loop_rhp_poles = options.open_loop_rhp_poles, .sign_doubted = options.sign_doubted});
   margins.summary = detail::summarize(margins);
   report_possible(margins.summary, margins.findings);
   detail::add_absence_findings(table, margins);

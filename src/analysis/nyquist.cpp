@@ -141,10 +141,13 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
 
 // What the count assumes of the band's ends and the lines left out.
 std::vector<std::string> assumptions(int rhp_poles, int integrators, double f_low, double f_high,
-                                     std::size_t left_out, double max_relative_sigma) {
+                                     std::size_t left_out, const StabilityOptions& options) {
+  const double max_relative_sigma = options.max_relative_sigma;
   std::vector<std::string> out = {
       std::to_string(rhp_poles) + " open-loop poles in the right half plane (from the settings)",
-      "1 + L = 0 is the closed loop's characteristic equation (the sign convention is right)",
+      options.sign_doubted ? "1 + L = 0 is the closed loop's characteristic equation, which the sign check doubts "
+                             "(loop.sign-suspect)"
+                           : "1 + L = 0 is the closed loop's characteristic equation (the sign convention is right)",
       "above " + format_frequency(f_high) + " |L| stays below 1",
       "below " + format_frequency(f_low) + " L runs to " +
           (integrators == 0 ? std::string("a constant") : counted(integrators, "integrator") + " times a constant") +
@@ -205,9 +208,7 @@ StabilityAssessment verdict_from_count(StabilityAssessment a, long encirclements
   return a;
 }
 
-}  // namespace
-
-StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
+StabilityAssessment count_encirclements(const Response& loop, const StabilityOptions& options) {
   options.validate();
   StabilityAssessment a;
   a.open_loop_rhp_poles = options.open_loop_rhp_poles;
@@ -225,8 +226,7 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
   const Bottom low_end = bottom_of_band(table);
   a.low_frequency_integrators = low_end.integrators;
   const int n = a.low_frequency_integrators;
-  a.assumptions = assumptions(a.open_loop_rhp_poles, n, f_low, f_high, loop.size() - lines.size(),
-                              options.max_relative_sigma);
+  a.assumptions = assumptions(a.open_loop_rhp_poles, n, f_low, f_high, loop.size() - lines.size(), options);
   if (side_of_unity(table.gain_db[top], table.relative_sigma[top], options.clear_sigmas) != Side::kInside) {
     return undecided(a, "|L| is " + gain_text(table.gain_db[top]) + " at the top of the band (" +
                             format_frequency(f_high) + "), not clearly below 0 dB: encirclements above the band "
@@ -247,6 +247,17 @@ StabilityAssessment assess_stability(const Response& loop, const StabilityOption
   const auto count = encirclements(table, low_end, bottom_outside, options.clear_sigmas, unclear);
   if (!count) return undecided(a, unclear);
   return verdict_from_count(std::move(a), *count);
+}
+
+}  // namespace
+
+StabilityAssessment assess_stability(const Response& loop, const StabilityOptions& options) {
+  StabilityAssessment a = count_encirclements(loop, options);
+  if (options.sign_doubted && a.verdict == StabilityVerdict::kUnstable) {
+    a.reason += ". The sign check found the low-frequency phase of an inverted loop (loop.sign-suspect): an inverted "
+                "probe or swapped x and y is the likely cause of this verdict; correct the sign and analyse again";
+  }
+  return a;
 }
 
 }  // namespace loopaudit

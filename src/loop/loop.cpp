@@ -10,35 +10,47 @@
 namespace loopaudit {
 namespace {
 
-// The plausibility check looks at lines with |L| above this gain in the
-// lowest fifth of the band (in log frequency), or the lowest few lines, and
-// needs at least this many of them.
+// The plausibility check votes with the lowest reliable lines of high gain:
+// walking up from the bottom of the band, the first kVoteLines lines whose
+// relative standard deviation is below kTrustedSigma (14 deg) and whose |L|
+// exceeds kHighGain, stopping at the first reliable line with |L| below 1
+// (past a crossover the phase says nothing of the sign). Their median phase
+// in (kSuspectPhaseLowDeg, kSuspectPhaseHighDeg) is what an inverted sign
+// shows and a negative-feedback loop at high gain does not (an integrator
+// gives -90 deg, inverted +90; an inverted type-0 loop sits near 0 or 180
+// and cannot be told apart). The upper end stays clear of a conditionally
+// stable dip to about -210 deg (+150 deg wrapped).
 constexpr double kHighGain = 2.0;
-constexpr std::size_t kMinLowLines = 3;
-// Lines noisier than this (relative standard deviation, 14 deg) do not vote.
+constexpr std::size_t kMinVoteLines = 3;
+constexpr std::size_t kVoteLines = 12;
 constexpr double kTrustedSigma = 0.25;
 constexpr double kSuspectPhaseLowDeg = 30.0;
-constexpr double kSuspectPhaseHighDeg = 179.0;
+constexpr double kSuspectPhaseHighDeg = 150.0;
 
 void check_sign(const Response& loop, Diagnostics& findings) {
-  if (loop.size() < kMinLowLines) return;
-  const double low_end = std::max(loop.frequency_hz[kMinLowLines - 1],
-                                  loop.frequency_hz.front() * std::pow(loop.frequency_hz.back() / loop.frequency_hz.front(), 0.2));
   std::vector<double> phases_deg;
-  for (std::size_t k = 0; k < loop.size() && loop.frequency_hz[k] <= low_end; ++k) {
+  std::size_t last = 0;
+  for (std::size_t k = 0; k < loop.size() && phases_deg.size() < kVoteLines; ++k) {
     const bool trusted = loop.relative_sigma.empty() || loop.relative_sigma[k] < kTrustedSigma;
-    if (trusted && std::abs(loop.value[k]) > kHighGain) phases_deg.push_back(deg_from_rad(std::arg(loop.value[k])));
+    if (!trusted) continue;
+    const double gain = std::abs(loop.value[k]);
+    if (gain < 1.0) break;
+    if (gain > kHighGain) {
+      phases_deg.push_back(deg_from_rad(std::arg(loop.value[k])));
+      last = k;
+    }
   }
-  if (phases_deg.size() < kMinLowLines) return;
+  if (phases_deg.size() < kMinVoteLines) return;
   std::nth_element(phases_deg.begin(), phases_deg.begin() + phases_deg.size() / 2, phases_deg.end());
   const double median = phases_deg[phases_deg.size() / 2];
   if (median > kSuspectPhaseLowDeg && median < kSuspectPhaseHighDeg) {
     std::ostringstream message;
-    message << "at the low end of the band |L| is high and its phase is " << std::lround(median)
-            << " deg: a negative-feedback loop does not do that; check the probe polarity, the x/y channel roles "
-               "and the convention";
+    message << "where |L| is high at the low end of the band its phase is " << std::lround(median)
+            << " deg (median of the " << phases_deg.size() << " lowest reliable lines): a negative-feedback loop "
+            << "does not do that, an inverted one does. Check the probe polarity (an inverted probe on x or y), "
+               "the x/y channel roles and the convention; margins and the stability verdict assume the sign is right";
     findings.push_back(make_warning("loop.sign-suspect", message.str(),
-                                    {.low_hz = loop.frequency_hz.front(), .high_hz = low_end}));
+                                    {.low_hz = loop.frequency_hz.front(), .high_hz = loop.frequency_hz[last]}));
   }
 }
 

@@ -56,6 +56,10 @@ class RoleSelector {
 
 void append(Diagnostics& to, const Diagnostics& from) { to.insert(to.end(), from.begin(), from.end()); }
 
+bool sign_doubted(const Diagnostics& findings) {
+  return std::any_of(findings.begin(), findings.end(), [](const Diagnostic& d) { return d.code == "loop.sign-suspect"; });
+}
+
 // Blocks already read, then the rest of a source: lets the analysis start
 // from what detection read, in the same pass over the file.
 class ReplaySource final : public SampleSource {
@@ -155,6 +159,7 @@ AnalysisResult finish_result(SampleSource& source, const AnalysisOptions& option
   result.findings = std::move(summary.findings);
   append(result.findings, findings);
   result.loop = to_loop(measured, options.convention, result.findings);
+  result.options.margins.sign_doubted = sign_doubted(result.findings);
   result.margins = find_margins(result.loop.lines, result.options.margins);
   append(result.findings, result.margins.findings);
   return result;
@@ -323,7 +328,8 @@ AnalysisResult analyze_response(const std::string& origin, const Response& measu
   result.options.convention = convention;
   result.options.margins = options;
   result.loop = to_loop(measured, convention, result.findings);
-  result.margins = find_margins(result.loop.lines, options);
+  result.options.margins.sign_doubted = sign_doubted(result.findings);
+  result.margins = find_margins(result.loop.lines, result.options.margins);
   append(result.findings, result.margins.findings);
   return result;
 }

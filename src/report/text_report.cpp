@@ -175,6 +175,20 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
   return lines;
 }
 
+// Margins that unresolved stretches may hide, right under the summary they
+// qualify, so that it is not read as the loop's whole story.
+void write_possible(std::ostream& out, const MarginSummary& summary) {
+  for (const PossibleMargin& p : summary.possible) {
+    const std::string key = p.key;
+    const bool phase = key == "phase_margin_deg";
+    const std::string what = phase ? "phase margin" : key == "gain_reduction_margin_db" ? "gain reduction" : "gain increase";
+    const std::string range = phase ? deg_value(p.range.low) + " to " + deg_value(p.range.high)
+                                    : signed_db(p.range.low) + " to " + signed_db(p.range.high);
+    out << "  may also lie       a " << what << (phase ? "" : " margin") << " of " << range << " from " << format_frequency(p.low_hz) << " to "
+        << format_frequency(p.high_hz) << ", where " << (phase ? "gain" : "phase") << " crossings are unresolved\n";
+  }
+}
+
 void write_text_report(std::ostream& out, const AnalysisResult& result, const std::optional<MarginSummary>& truth,
                        const std::string& value_heading) {
   write_method(out, result);
@@ -192,6 +206,7 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
                   row.interval.c_str(), truth ? row.truth.c_str() : "");
     out << line;
   }
+  write_possible(out, result.margins.summary);
   if (const auto& d = result.margins.disk) {
     out << "\n  disk margin        alpha " << printf_string("%.3f", d->alpha.value) << ": the loop tolerates gain "
         << (std::isfinite(d->gain_low_db) ? printf_string("%+.1f dB", d->gain_low_db) : std::string("down to 0"))

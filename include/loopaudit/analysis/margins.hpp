@@ -57,6 +57,8 @@ struct MarginOptions {
   // excites", "--band"), for the note that reports the lines left out.
   std::optional<Interval> band_hz;
   std::string band_source;
+  // The sign check doubts the convention; passed on to the stability verdict.
+  bool sign_doubted = false;
 
   // Throws ConfigError naming the setting that is out of range (called by
   // find_margins).

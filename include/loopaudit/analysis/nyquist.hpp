@@ -34,6 +34,9 @@ struct StabilityOptions {
   // Lines whose relative standard deviation (of |L| in nepers, of angle L in
   // rad) exceeds this carry no usable phase and are left out of the count.
   double max_relative_sigma = 0.5;
+  // The sign check doubts the convention (loop.sign-suspect): the verdict
+  // and its assumptions say so.
+  bool sign_doubted = false;
 
   // Throws ConfigError naming the setting that is out of range (called by
   // assess_stability).
