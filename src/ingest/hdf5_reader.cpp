@@ -63,7 +63,10 @@ struct DatasetFound {
 herr_t collect_dataset(hid_t group, const char* name, const H5L_info_t* info, void* data) {
   if (info->type != H5L_TYPE_HARD) return 0;
   Handle dataset(H5Dopen2(group, name, H5P_DEFAULT), H5Dclose);  // fails quietly for a group
-  if (dataset.valid()) static_cast<std::vector<DatasetFound>*>(data)->push_back({"/" + std::string(name), dimensions(dataset.get())});
+  if (!dataset.valid()) return 0;
+  std::string path(1, '/');
+  path.append(name);
+  static_cast<std::vector<DatasetFound>*>(data)->push_back({std::move(path), dimensions(dataset.get())});
   return 0;
 }
 
@@ -122,6 +125,11 @@ class Hdf5Reader final : public SampleSource {
     }
     if (options.hdf5.dataset.empty() && options.hdf5.datasets.empty()) {
       options_.hdf5 = chosen_layout(file_.get(), path, options.hdf5);
+      layout_ = "dataset";
+      if (!options_.hdf5.datasets.empty()) layout_ += "s";
+      for (const auto& name : options_.hdf5.datasets) layout_ += " '" + name + "'";
+      if (!options_.hdf5.dataset.empty()) layout_ += " '" + options_.hdf5.dataset + "'";
+      layout_ += " (the file's only candidate)";
     }
     const auto& layout = options_.hdf5;
     if (!layout.dataset.empty()) {
@@ -134,7 +142,7 @@ class Hdf5Reader final : public SampleSource {
 
   const std::vector<std::string>& channel_names() const override { return setup_.names; }
   const std::string& origin() const override { return path_; }
-  SourceSummary summary() const override { return {sample_rate_hz_, read_, {}}; }
+  SourceSummary summary() const override { return {sample_rate_hz_, read_, {}, layout_}; }
   bool next(SampleBlock& block) override;
 
  private:
@@ -156,6 +164,7 @@ class Hdf5Reader final : public SampleSource {
   std::size_t length_ = 0;
   std::size_t read_ = 0;
   double sample_rate_hz_ = 0.0;
+  std::string layout_;  // the datasets read, when the settings named none
   ChannelSetup setup_;
   std::vector<double> buffer_;
 };

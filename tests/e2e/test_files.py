@@ -26,8 +26,8 @@ USAGE, INPUT, SETTINGS = 2, 3, 4
 RATE = 8000  # servo_velocity.toml records at 8 kHz
 
 
-def run(*args, check=True):
-    result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300)
+def run(*args, check=True, cwd=None):
+    result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300, cwd=cwd)
     if check and result.returncode != 0:
         raise AssertionError(f"loopaudit {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
     return result
@@ -136,10 +136,10 @@ class Files(unittest.TestCase):
     # Outputs to standard output.
 
     def test_outputs_to_standard_output(self):
-        result = run("analyze", self.text, "--json", "-")
+        result = run("analyze", self.text, "--json", "-", cwd=self.folder)
         self.assertEqual(json.loads(result.stdout)["summary"], self.plain["summary"])
         self.assertIn("gain crossovers", result.stderr)  # the table goes to stderr
-        self.assertFalse(os.path.exists("-"))
+        self.assertFalse(os.path.exists(self.path("-")), "no file named '-'")
         result = run("analyze", self.text, "--csv", "-")
         with open(self.path("plain.lines.csv")) as f:
             self.assertEqual(result.stdout, f.read())
@@ -184,7 +184,8 @@ class Files(unittest.TestCase):
         with h5py.File(one, "w") as f:
             f.create_dataset("acq/samples", data=self.data).attrs["sample_rate_hz"] = float(RATE)
         out = self.path("h5.json")
-        run("analyze", one, "--json", out)
+        result = run("analyze", one, "--json", out)
+        self.assertIn("read as dataset '/acq/samples' (the file's only candidate)", result.stdout)
         self.assertSameMargins(load(out))
         columns = self.path("columns.h5")
         with h5py.File(columns, "w") as f:
