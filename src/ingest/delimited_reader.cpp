@@ -44,7 +44,11 @@ std::optional<std::size_t> find_time_column(const std::vector<std::string>& name
                                             const std::string& path) {
   if (!wanted.empty()) {
     const auto it = std::find(names.begin(), names.end(), wanted);
-    if (it == names.end()) throw ConfigError(path + ": no column named '" + wanted + "' for the time");
+    if (it == names.end()) {
+      std::string message = path + ": no column named '" + wanted + "' for the time (--time-column, time_column); the columns:";
+      for (const auto& name : names) message += " '" + name + "'";
+      throw ConfigError(message);
+    }
     return static_cast<std::size_t>(it - names.begin());
   }
   for (std::size_t i = 0; i < names.size(); ++i) {

@@ -76,6 +76,14 @@ std::string shape_text(const std::vector<hsize_t>& dims) {
   return text;
 }
 
+std::string datasets_listed(hid_t file) {
+  std::vector<DatasetFound> found;
+  H5Lvisit(file, H5_INDEX_NAME, H5_ITER_INC, collect_dataset, &found);
+  std::string text;
+  for (const auto& d : found) text += " '" + d.name + "' (" + shape_text(d.dims) + ")";
+  return found.empty() ? " no dataset" : text;
+}
+
 // The datasets to read when the settings name none: the only 2-D dataset,
 // or exactly `needed` 1-D datasets of equal length. Throws ConfigError
 // listing what the file holds otherwise.
@@ -103,9 +111,7 @@ Hdf5Layout chosen_layout(hid_t file, const std::string& path, Hdf5Layout layout)
   }
   std::ostringstream message;
   message << path << ": cannot tell which datasets hold the recording (" << layout.channels_needed
-          << " channels needed); the file holds";
-  for (const auto& d : found) message << " '" << d.name << "' (" << shape_text(d.dims) << ")";
-  if (found.empty()) message << " no dataset";
+          << " channels needed); the file holds" << datasets_listed(file);
   message << ". Name one 2-D dataset with dataset = \"/path\", or one 1-D dataset per channel with datasets = "
              "[\"/a\", \"/b\", \"/c\"], under [input] in a settings file (--config FILE)";
   throw ConfigError(message.str());
@@ -148,7 +154,7 @@ class Hdf5Reader final : public SampleSource {
  private:
   Handle open_dataset(const std::string& name) const {
     Handle d(H5Dopen2(file_.get(), name.c_str(), H5P_DEFAULT), H5Dclose);
-    if (!d.valid()) throw InputError(path_ + ": no dataset '" + name + "'");
+    if (!d.valid()) throw InputError(path_ + ": no dataset '" + name + "'; the file holds" + datasets_listed(file_.get()));
     return d;
   }
   void open_matrix(const std::string& name);

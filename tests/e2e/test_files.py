@@ -201,6 +201,8 @@ class Files(unittest.TestCase):
             f.create_dataset("run2", data=self.data)
         self.expect(SETTINGS, "analyze", two, contains=("'/run1' (2-D, %d x 3)" % len(self.data), "'/run2'",
                                                         "dataset = ", "--config FILE"))
+        settings = self.write("h5.toml", '[input]\ndataset = "/run3"\n')
+        self.expect(INPUT, "analyze", two, "--config", settings, contains=("no dataset '/run3'; the file holds '/run1'",))
 
     # Raw binary: the layout is echoed.
 
