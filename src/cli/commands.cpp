@@ -142,8 +142,10 @@ void run_analyze(const AnalyzeArgs& a, const std::string& command_line) {
   const std::optional<MarginSummary> truth =
       a.truth_path.empty() ? std::nullopt : std::optional(read_truth_summary(a.truth_path));
   const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
-  Progress progress(a.quiet);
-  const AnalysisResult result = analyze(open, settings.analysis, progress.function());
+  const AnalysisResult result = [&] {
+    Progress progress(a.quiet);  // cleared before anything else is written
+    return analyze(open, settings.analysis, progress.function());
+  }();
   write_outputs(result, a.outputs, a.recording, a.config_path, command_line, truth);
   write_text_report(to_stdout ? std::cerr : std::cout, result, truth);
 }

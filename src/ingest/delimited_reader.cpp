@@ -144,7 +144,8 @@ void DelimitedReader::check_names() {
               << ": the header must name every column, found '" << name << "'";
       if (header_guessed_) {
         message << "; no line in the first " << detail::kHeaderSearchLines
-                << " has names over rows of numbers: give --skip-rows N to skip the N lines above the header";
+                << " has names over rows of numbers: add a header line naming the columns, or, if it lies below N "
+                   "lines of metadata, give --skip-rows N";
       }
       throw InputError(message.str());
     }
@@ -184,7 +185,10 @@ void DelimitedReader::fail_cell(std::size_t column, std::string_view cell, const
   message << path_ << ": line " << line_number_ << ", column " << column + 1 << " ('"
           << column_names_.at(std::min(column, column_names_.size() - 1)) << "'): " << what << " '" << trim(cell)
           << "'";
-  if (line_number_ <= header_line_ + detail::kHeaderSearchLines) message << header_hint();  // near the header
+  // Text where a number belongs, near the header: perhaps the wrong line was taken as the header.
+  if (std::string_view(what) == "not a number:" && line_number_ <= header_line_ + detail::kHeaderSearchLines) {
+    message << header_hint();
+  }
   throw InputError(message.str());
 }
 
