@@ -59,7 +59,9 @@ struct AnalyzeArgs {
   OutputRequest outputs;
   std::string truth_path;
   bool quiet = false;
-  std::string format, time_column, window, estimator, convention, z, x, y, excitation, schedule, marker;
+  std::string format, time_column, window, estimator, convention, z, x, y, excitation, schedule, marker, sample_type;
+  std::size_t skip_rows = 0;
+  std::vector<std::string> scales;  // NAME=FACTOR
   std::size_t period = 0;
   double settle_cycles = 0.0;
   std::vector<std::string> channels;
@@ -87,6 +89,31 @@ void set_band(MarginOptions& margins, const std::string& text) {
   margins.band_source = "--band " + text;
 }
 
+// "y=-10" -> ("y", -10); throws CLI::ValidationError naming the option.
+std::pair<std::string, double> named_factor(const std::string& text) {
+  const auto equals = text.rfind('=');
+  std::size_t used = 0;
+  double factor = 0.0;
+  try {
+    if (equals != std::string::npos) factor = std::stod(text.substr(equals + 1), &used);
+  } catch (const std::exception&) {
+    used = 0;
+  }
+  if (equals == std::string::npos || equals == 0 || used == 0 || used != text.size() - equals - 1) {
+    throw CLI::ValidationError("--scale", "'" + text + "' is not NAME=FACTOR (for example y=-10: a x10 probe, inverted)");
+  }
+  return {text.substr(0, equals), factor};
+}
+
+// Command-line scales replace a settings file's scale for the same channel.
+void merge_scales(const std::vector<std::string>& given, std::vector<std::pair<std::string, double>>& scales) {
+  for (const std::string& text : given) {
+    const auto named = named_factor(text);
+    std::erase_if(scales, [&](const auto& s) { return s.first == named.first; });
+    scales.push_back(named);
+  }
+}
+
 RunSettings resolve(const AnalyzeArgs& a) {
   RunSettings s = a.config_path.empty() ? RunSettings{} : load_run_settings(a.config_path);
   RecordingOptions& r = s.recording;
@@ -95,6 +122,9 @@ RunSettings resolve(const AnalyzeArgs& a) {
   if (a.given("--channels")) r.channel_names = a.channels;
   if (a.given("--sample-rate")) r.sample_rate_hz = a.sample_rate_hz;
   if (a.given("--time-column")) r.text.time_column = a.time_column;
+  if (a.given("--skip-rows")) r.text.lines_before_header = a.skip_rows;
+  if (a.given("--sample-type")) r.raw.sample_type = sample_type_from_name(a.sample_type);
+  if (a.given("--scale")) merge_scales(a.scales, r.named_scale);
   if (a.given("--z")) o.roles.injection = a.z;
   if (a.given("--x")) o.roles.x = a.x;
   if (a.given("--y")) o.roles.y = a.y;
@@ -112,18 +142,23 @@ RunSettings resolve(const AnalyzeArgs& a) {
   if (a.given("--confidence")) o.margins.confidence = a.confidence;
   if (a.given("--rhp-poles")) o.margins.open_loop_rhp_poles = a.rhp_poles;
   if (a.given("--band")) set_band(o.margins, a.band);
+  const std::size_t loop_channels = o.roles.injection == kInjectionFromDifference ? 2 : 3;
+  r.hdf5.channels_needed = r.channel_names.empty() ? loop_channels + (o.marker_channel.empty() ? 0 : 1) : r.channel_names.size();
   return s;
 }
 
 void run_analyze(const AnalyzeArgs& a, const std::string& command_line) {
+  const bool to_stdout = check_standard_output(a.outputs);
   const RunSettings settings = resolve(a);
   const std::optional<MarginSummary> truth =
       a.truth_path.empty() ? std::nullopt : std::optional(read_truth_summary(a.truth_path));
   const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
-  Progress progress(a.quiet);
-  const AnalysisResult result = analyze(open, settings.analysis, progress.function());
+  const AnalysisResult result = [&] {
+    Progress progress(a.quiet);  // cleared before anything else is written
+    return analyze(open, settings.analysis, progress.function());
+  }();
   write_outputs(result, a.outputs, a.recording, a.config_path, command_line, truth);
-  write_text_report(std::cout, result, truth);
+  write_text_report(to_stdout ? std::cerr : std::cout, result, truth);
 }
 
 }  // namespace
@@ -183,6 +218,13 @@ void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
       ->type_name("NAME");
   cmd->add_option("--sample-rate", a.sample_rate_hz, "Sample rate in Hz; overrides what the file says")
       ->type_name("HZ");
+  cmd->add_option("--skip-rows", a.skip_rows, "Text: lines above the header to skip [found]")->type_name("N");
+  cmd->add_option("--sample-type", a.sample_type, "Raw: int16, int32, float32 or float64 [int16, said so]")
+      ->type_name("NAME");
+  cmd->add_option("--scale", a.scales,
+                  "Multiply a channel by a factor, NAME=FACTOR (y=-10: a x10 probe, inverted); repeat or separate by commas")
+      ->delimiter(',')
+      ->type_name("NAME=FACTOR");
   cmd->add_flag("--quiet", a.quiet, "No progress display");
 }
 
@@ -232,6 +274,21 @@ void add_inspect(CLI::App& app) {
   });
 }
 
+namespace {
+
+void add_table_columns(CLI::App* cmd, TableColumns& c) {
+  cmd->add_option("--freq-column", c.frequency, "Column holding the frequency [found by name]")->type_name("NAME");
+  cmd->add_option("--gain-column", c.gain_db, "Column holding the gain in dB [found by name]")->type_name("NAME");
+  cmd->add_option("--magnitude-column", c.magnitude, "Column holding the magnitude as a ratio [found by name]")
+      ->type_name("NAME");
+  cmd->add_option("--phase-column", c.phase, "Column holding the phase, deg (rad if its unit says so) [found by name]")
+      ->type_name("NAME");
+  cmd->add_option("--real-column", c.real, "Column holding the real part [found by name]")->type_name("NAME");
+  cmd->add_option("--imag-column", c.imag, "Column holding the imaginary part [found by name]")->type_name("NAME");
+}
+
+}  // namespace
+
 void add_table(CLI::App& app, const std::string& command_line) {
   struct Args {
     std::string table;
@@ -239,22 +296,27 @@ void add_table(CLI::App& app, const std::string& command_line) {
     std::string convention = "direct";
     MarginOptions margins;
     std::string band;
+    TableColumns columns;
   };
   auto args = std::make_shared<Args>();
-  auto* cmd = app.add_subcommand("table", "Margins from a frequency-response table (freq_hz with re,im or mag_db,phase_deg)");
+  auto* cmd = app.add_subcommand("table", "Margins from a frequency-response table (frequency with real and imaginary "
+                                          "parts, or gain and phase)");
   cmd->add_option("table", args->table, "Frequency-response table")->required()->type_name("FILE");
   cmd->add_option("--convention", args->convention,
                   "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T)")
       ->capture_default_str();
+  add_table_columns(cmd, args->columns);
   add_output_options(cmd, args->outputs);
   add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles, args->band);
   cmd->callback([args, command_line] {
+    const bool to_stdout = check_standard_output(args->outputs);
     const Convention convention = convention_from_name(args->convention);
     if (!args->band.empty()) set_band(args->margins, args->band);
-    const AnalysisResult result =
-        analyze_response(args->table, read_response_table(args->table), convention, args->margins);
+    const ResponseTable table = read_response_table(args->table, args->columns);
+    AnalysisResult result = analyze_response(args->table, table.response, convention, args->margins);
+    result.findings.insert(result.findings.begin(), table.findings.begin(), table.findings.end());
     write_outputs(result, args->outputs, args->table, "", command_line);
-    write_text_report(std::cout, result);
+    write_text_report(to_stdout ? std::cerr : std::cout, result);
   });
 }
 

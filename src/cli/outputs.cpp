@@ -3,7 +3,9 @@
 #include <chrono>
 #include <ctime>
 #include <filesystem>
+#include <functional>
 #include <fstream>
+#include <iostream>
 #include <sstream>
 
 #include "loopaudit/error.hpp"
@@ -41,6 +43,14 @@ std::string file_text(const std::string& path) {
   return text.str();
 }
 
+// "-" names standard output.
+void write_output(const std::string& path, const std::function<void(std::ostream&)>& write) {
+  if (path != kStandardOutput) return write_atomically(path, write);
+  write(std::cout);
+  std::cout.flush();
+  if (!std::cout) throw OutputError("standard output: cannot be written");
+}
+
 void make_folder(const std::string& path) {
   std::error_code ec;
   fs::create_directories(path, ec);
@@ -62,7 +72,20 @@ OutputRequest resolved(OutputRequest r, const std::string& input) {
 }  // namespace
 
 void write_text_file(const std::string& path, const std::string& text) {
-  write_atomically(path, [&](std::ostream& out) { out << text; });
+  write_output(path, [&](std::ostream& out) { out << text; });
+}
+
+bool check_standard_output(const OutputRequest& r) {
+  if (r.plots_dir == kStandardOutput || r.out_dir == kStandardOutput) {
+    throw CLI::ValidationError(r.plots_dir == kStandardOutput ? "--plots" : "--out-dir",
+                               "names a folder; '-' (standard output) can only be given to --json, --csv or --report");
+  }
+  const int to_stdout = (r.json_path == kStandardOutput) + (r.csv_path == kStandardOutput) + (r.report_path == kStandardOutput);
+  if (to_stdout > 1) {
+    throw CLI::ValidationError("--json, --csv, --report",
+                               "only one output can go to standard output ('-'); give the others a file name");
+  }
+  return to_stdout == 1;
 }
 
 std::string command_line_text(int argc, char** argv) {
@@ -72,9 +95,11 @@ std::string command_line_text(int argc, char** argv) {
 }
 
 void add_output_options(CLI::App* cmd, OutputRequest& r) {
-  cmd->add_option("--json", r.json_path, "Write the results as JSON to this file")->type_name("FILE");
-  cmd->add_option("--csv", r.csv_path, "Write the loop response lines as CSV to this file")->type_name("FILE");
-  cmd->add_option("--report", r.report_path, "Write the HTML report (self-contained) to this file")->type_name("FILE");
+  cmd->add_option("--json", r.json_path, "Write the results as JSON to this file ('-': standard output)")->type_name("FILE");
+  cmd->add_option("--csv", r.csv_path, "Write the loop response lines as CSV to this file ('-': standard output)")
+      ->type_name("FILE");
+  cmd->add_option("--report", r.report_path, "Write the HTML report (self-contained) to this file ('-': standard output)")
+      ->type_name("FILE");
   cmd->add_option("--plots", r.plots_dir, "Write each plot as an SVG file into this folder")->type_name("DIR");
   cmd->add_option("--out-dir", r.out_dir,
                   "Write every output not named otherwise here: STEM.json, STEM.lines.csv, STEM.report.html, STEM-plots/")
@@ -87,7 +112,7 @@ void write_outputs(const AnalysisResult& result, const OutputRequest& request, c
   const OutputRequest r = resolved(request, input);
   if (!r.json_path.empty()) write_text_file(r.json_path, analysis_json(result));
   if (!r.csv_path.empty()) {
-    write_atomically(r.csv_path, [&](std::ostream& out) { write_response_csv(out, result.loop.lines); });
+    write_output(r.csv_path, [&](std::ostream& out) { write_response_csv(out, result.loop.lines); });
   }
   if (r.report_path.empty() && r.plots_dir.empty()) return;
   const std::vector<Plot> plots = draw_plots(result);

@@ -18,6 +18,9 @@ struct OutputRequest {
   std::string out_dir;  // every output not named above, as STEM.json, STEM.lines.csv, STEM.report.html, STEM-plots/
 };
 
+// The output path that means standard output.
+inline constexpr const char* kStandardOutput = "-";
+
 // Adds --json, --csv, --report, --plots and --out-dir.
 void add_output_options(CLI::App* command, OutputRequest& request);
 
@@ -28,7 +31,12 @@ void write_outputs(const AnalysisResult& result, const OutputRequest& request, c
                    const std::string& settings, const std::string& command_line,
                    const std::optional<MarginSummary>& truth = std::nullopt);
 
-// Writes the whole text or nothing (see write_atomically).
+// True when one of --json, --csv, --report is "-" (standard output); the
+// table then goes to standard error. Throws CLI::ValidationError for two
+// outputs to "-", or "-" given to --plots or --out-dir.
+bool check_standard_output(const OutputRequest& request);
+
+// Writes the whole text or nothing (see write_atomically); "-": to standard output.
 void write_text_file(const std::string& path, const std::string& text);
 
 // The command line as one line of text, starting with the tool's name.

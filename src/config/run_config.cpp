@@ -27,10 +27,27 @@ std::optional<std::size_t> optional_count(const toml::table& t, const char* key,
   return static_cast<std::size_t>(*value);
 }
 
+// probe_scale = { y = -10.0 }: a factor per channel, by name.
+std::vector<std::pair<std::string, double>> probe_scales(const toml::table& t, const std::string& where) {
+  std::vector<std::pair<std::string, double>> out;
+  const auto* table = optional_table(t, "probe_scale", where);
+  if (table == nullptr) return out;
+  for (const auto& [name, value] : *table) {
+    const auto factor = value.value<double>();
+    if (!factor || !std::isfinite(*factor) || *factor == 0.0) {
+      throw ConfigError(where + ": 'probe_scale' entry '" + std::string(name.str()) + "' must be a number other than 0");
+    }
+    out.emplace_back(std::string(name.str()), *factor);
+  }
+  return out;
+}
+
 void read_input(const toml::table& t, const std::string& where, RecordingOptions& r) {
-  check_keys(t, {"format", "channels", "sample_rate_hz", "time_column", "sample_type", "byte_order", "header_bytes",
-                 "scale", "offset", "dataset", "datasets", "rate_attribute"},
+  check_keys(t, {"format", "channels", "sample_rate_hz", "time_column", "lines_before_header", "sample_type",
+                 "byte_order", "header_bytes", "scale", "offset", "probe_scale", "dataset", "datasets", "rate_attribute"},
              where);
+  if (const auto skip = optional_count(t, "lines_before_header", where)) r.text.lines_before_header = skip;
+  r.named_scale = probe_scales(t, where);
   if (const auto format = optional_text(t, "format", where)) r.format = format_from_name(*format);
   set_if(optional_texts(t, "channels", where), r.channel_names);
   if (const auto rate = optional_number(t, "sample_rate_hz", where)) r.sample_rate_hz = rate;

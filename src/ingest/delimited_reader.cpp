@@ -3,8 +3,10 @@
 #include <charconv>
 #include <cctype>
 #include <cmath>
+#include <iomanip>
 #include <sstream>
 
+#include "ingest/header_search.hpp"
 #include "ingest/line_reader.hpp"
 #include "ingest/number_text.hpp"
 #include "ingest/stamp_check.hpp"
@@ -18,25 +20,11 @@ using detail::LineReader;
 using detail::detect_delimiter;
 using detail::parse_number;
 using detail::split_names;
+using detail::split_unit;
 using detail::trim;
 
-bool is_blank_line(std::string_view line) { return trim(line).empty(); }
-
-// Comment and metadata lines, before the header or among the rows.
-bool is_comment_line(std::string_view line) {
-  line = trim(line);
-  return !line.empty() && (line.front() == '#' || line.front() == '%');
-}
-
-bool is_skipped(std::string_view line) { return is_blank_line(line) || is_comment_line(line); }
-
-// "vout [V]" or "vout (V)" -> name "vout", unit "V".
-std::pair<std::string, std::string> split_unit(const std::string& column) {
-  const auto open = column.find_last_of("[(");
-  const char close = open != std::string::npos && column[open] == '[' ? ']' : ')';
-  if (open == std::string::npos || open == 0 || column.back() != close) return {column, ""};
-  return {std::string(trim(column.substr(0, open))), std::string(trim(column.substr(open + 1, column.size() - open - 2)))};
-}
+// Blank lines and comments ('#' or '%' first), before the header or among the rows.
+bool is_skipped(std::string_view line) { return detail::is_skipped_line(line); }
 
 // Seconds per unit of a time column; throws for a unit that is not a time.
 double seconds_per(const std::string& unit, const std::string& path) {
@@ -45,16 +33,6 @@ double seconds_per(const std::string& unit, const std::string& path) {
   if (unit == "us" || unit == "\xC2\xB5s") return 1e-6;
   if (unit == "ns") return 1e-9;
   throw InputError(path + ": the time column's unit '" + unit + "' is not one of s, ms, us, ns");
-}
-
-// A number with a decimal comma ("1,25"), as semicolon-separated files from
-// many locales write it.
-std::optional<double> parse_decimal_comma(std::string_view cell) {
-  char buffer[64];
-  if (cell.size() >= sizeof buffer) return std::nullopt;
-  std::copy(cell.begin(), cell.end(), buffer);
-  std::replace(buffer, buffer + cell.size(), ',', '.');
-  return parse_number(std::string_view(buffer, cell.size()));
 }
 
 std::string lowercase(std::string text) {
@@ -66,7 +44,11 @@ std::optional<std::size_t> find_time_column(const std::vector<std::string>& name
                                             const std::string& path) {
   if (!wanted.empty()) {
     const auto it = std::find(names.begin(), names.end(), wanted);
-    if (it == names.end()) throw ConfigError(path + ": no column named '" + wanted + "' for the time");
+    if (it == names.end()) {
+      std::string message = path + ": no column named '" + wanted + "' for the time (--time-column, time_column); the columns:";
+      for (const auto& name : names) message += " '" + name + "'";
+      throw ConfigError(message);
+    }
     return static_cast<std::size_t>(it - names.begin());
   }
   for (std::size_t i = 0; i < names.size(); ++i) {
@@ -91,16 +73,30 @@ class DelimitedReader final : public SampleSource {
 
  private:
   void read_header();
+  void check_names();
+  void find_time();
+  bool next_line(std::string_view& line);
   void parse_row(std::string_view line, SampleBlock& block);
   std::size_t read_cell(std::string_view line, std::size_t start, std::string_view& cell,
                         std::optional<double>& value) const;
   [[noreturn]] void fail_cell(std::size_t column, std::string_view cell, const char* what) const;
   void finish();
+  // Which line was taken as the header, and how to choose another.
+  std::string header_hint() const {
+    return " (the header was taken from line " + std::to_string(header_line_) +
+           "; if that is not the header, give --skip-rows N to skip the N lines above it)";
+  }
   void report_jitter();
 
   std::string path_;
   DelimitedOptions options_;
   LineReader lines_;
+  std::vector<detail::NumberedLine> above_header_;  // metadata lines, for a hint at the sample rate
+  std::vector<detail::NumberedLine> pending_;       // rows read while finding the header
+  std::size_t next_pending_ = 0;
+  std::size_t line_number_ = 0;                     // of the row being parsed
+  bool header_guessed_ = false;                     // no header confirmed by the rows under it
+  std::size_t header_line_ = 0;
   detail::StampChecker stamps_;
   char delimiter_ = ',';
   bool decimal_comma_ = false;
@@ -116,31 +112,21 @@ class DelimitedReader final : public SampleSource {
 };
 
 void DelimitedReader::read_header() {
-  std::string_view header;
-  do {
-    if (!lines_.next(header)) throw InputError(path_ + ": the file is empty; a header line naming the columns is needed");
-  } while (is_skipped(header));
-  delimiter_ = options_.delimiter.value_or(detect_delimiter(header));
+  detail::FoundHeader found = detail::find_header(lines_, path_, options_.lines_before_header, options_.delimiter);
+  line_number_ = found.header.number;
+  header_line_ = found.header.number;
+  delimiter_ = found.delimiter;
   decimal_comma_ = delimiter_ == ';';
-  for (const std::string& column : split_names(header, delimiter_)) {
+  above_header_ = std::move(found.before);
+  pending_ = std::move(found.after);
+  header_guessed_ = found.searched;
+  for (const std::string& column : split_names(found.header.text, delimiter_)) {
     auto [name, unit] = split_unit(column);
     column_names_.push_back(std::move(name));
     column_units_.push_back(std::move(unit));
   }
-  for (std::size_t i = 0; i < column_names_.size(); ++i) {
-    const std::string& name = column_names_[i];
-    if (name.empty() || parse_number(name)) {
-      std::ostringstream message;
-      message << path_ << ": line " << lines_.line_number() << ", column " << i + 1
-              << ": the header must name every column, found '" << name << "'";
-      throw InputError(message.str());
-    }
-  }
-  time_column_ = find_time_column(column_names_, options_.time_column, path_);
-  if (!time_column_ && !options_.sample_rate_hz) {
-    throw ConfigError(path_ + ": no time column (t, time or time_s) and no sample rate given; state the sample rate");
-  }
-  if (time_column_) seconds_per_stamp_ = seconds_per(column_units_[*time_column_], path_);
+  check_names();
+  find_time();
   for (std::size_t i = 0; i < column_names_.size(); ++i) {
     if (i == time_column_) continue;
     channel_names_.push_back(column_names_[i]);
@@ -149,11 +135,60 @@ void DelimitedReader::read_header() {
   if (channel_names_.empty()) throw InputError(path_ + ": the header names no channel besides the time");
 }
 
+void DelimitedReader::check_names() {
+  for (std::size_t i = 0; i < column_names_.size(); ++i) {
+    const std::string& name = column_names_[i];
+    if (name.empty() || parse_number(name)) {
+      std::ostringstream message;
+      message << path_ << ": line " << line_number_ << ", column " << i + 1
+              << ": the header must name every column, found '" << name << "'";
+      if (header_guessed_) {
+        message << "; no line in the first " << detail::kHeaderSearchLines
+                << " has names over rows of numbers: add a header line naming the columns, or, if it lies below N "
+                   "lines of metadata, give --skip-rows N";
+      }
+      throw InputError(message.str());
+    }
+  }
+}
+
+void DelimitedReader::find_time() {
+  time_column_ = find_time_column(column_names_, options_.time_column, path_);
+  if (time_column_) seconds_per_stamp_ = seconds_per(column_units_[*time_column_], path_);
+  if (time_column_ || options_.sample_rate_hz) return;
+  std::ostringstream message;
+  message << path_ << ": no time column (t, time or time_s) among the columns";
+  for (const auto& name : column_names_) message << " '" << name << "'";
+  message << ", and no sample rate given: give --sample-rate HZ (sample_rate_hz under [input] in a settings file),"
+             " or name the time column with --time-column NAME";
+  if (const auto hint = detail::find_rate_hint(above_header_)) {
+    message << "; line " << hint->line_number << " ('" << hint->text << "') suggests --sample-rate "
+            << std::setprecision(10) << hint->sample_rate_hz;
+  }
+  message << header_hint();
+  throw ConfigError(message.str());
+}
+
+bool DelimitedReader::next_line(std::string_view& line) {
+  if (next_pending_ < pending_.size()) {
+    line_number_ = pending_[next_pending_].number;
+    line = pending_[next_pending_++].text;
+    return true;
+  }
+  if (!lines_.next(line)) return false;
+  line_number_ = lines_.line_number();
+  return true;
+}
+
 void DelimitedReader::fail_cell(std::size_t column, std::string_view cell, const char* what) const {
   std::ostringstream message;
-  message << path_ << ": line " << lines_.line_number() << ", column " << column + 1 << " ('"
+  message << path_ << ": line " << line_number_ << ", column " << column + 1 << " ('"
           << column_names_.at(std::min(column, column_names_.size() - 1)) << "'): " << what << " '" << trim(cell)
           << "'";
+  // Text where a number belongs, near the header: perhaps the wrong line was taken as the header.
+  if (std::string_view(what) == "not a number:" && line_number_ <= header_line_ + detail::kHeaderSearchLines) {
+    message << header_hint();
+  }
   throw InputError(message.str());
 }
 
@@ -174,7 +209,7 @@ std::size_t DelimitedReader::read_cell(std::string_view line, std::size_t start,
   }
   const auto cell_end = std::min(line.find(delimiter_, start), line.size());
   cell = line.substr(start, cell_end - start);
-  value = decimal_comma_ ? parse_decimal_comma(cell) : parse_number(cell);
+  value = detail::parse_cell(cell, decimal_comma_);
   return cell_end;
 }
 
@@ -184,8 +219,8 @@ void DelimitedReader::parse_row(std::string_view line, SampleBlock& block) {
   for (std::size_t column = 0; column < column_names_.size(); ++column) {
     if (start > line.size()) {
       std::ostringstream message;
-      message << path_ << ": line " << lines_.line_number() << ": " << column << " cells where the header names "
-              << column_names_.size();
+      message << path_ << ": line " << line_number_ << ": " << column << " cells where the header names "
+              << column_names_.size() << header_hint();
       throw InputError(message.str());
     }
     std::string_view cell;
@@ -195,15 +230,15 @@ void DelimitedReader::parse_row(std::string_view line, SampleBlock& block) {
     if (!std::isfinite(*value)) fail_cell(column, cell, "not a finite number:");
     if (column == time_column_) {
       stamps_.add(*value * seconds_per_stamp_, detail::printed_resolution(cell) * seconds_per_stamp_,
-                  lines_.line_number());
+                  line_number_);
     } else {
       block.channels[channel++].push_back(*value);
     }
   }
   if (start <= line.size()) {
     std::ostringstream message;
-    message << path_ << ": line " << lines_.line_number() << ": more cells than the " << column_names_.size()
-            << " columns the header names";
+    message << path_ << ": line " << line_number_ << ": more cells than the " << column_names_.size()
+            << " columns the header names" << header_hint();
     throw InputError(message.str());
   }
 }
@@ -217,7 +252,7 @@ bool DelimitedReader::next(SampleBlock& block) {
     samples.reserve(options_.block_size);
   }
   std::string_view line;
-  while (block.size() < options_.block_size && lines_.next(line)) {
+  while (block.size() < options_.block_size && next_line(line)) {
     if (is_skipped(line)) continue;
     parse_row(line, block);
     ++rows_;

@@ -1,6 +1,7 @@
 #include <hdf5.h>
 
 #include <optional>
+#include <sstream>
 
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
@@ -54,6 +55,68 @@ std::string last_component(const std::string& path) {
   return slash == std::string::npos ? path : path.substr(slash + 1);
 }
 
+struct DatasetFound {
+  std::string name;
+  std::vector<hsize_t> dims;
+};
+
+herr_t collect_dataset(hid_t group, const char* name, const H5L_info_t* info, void* data) {
+  if (info->type != H5L_TYPE_HARD) return 0;
+  Handle dataset(H5Dopen2(group, name, H5P_DEFAULT), H5Dclose);  // fails quietly for a group
+  if (!dataset.valid()) return 0;
+  std::string path(1, '/');
+  path.append(name);
+  static_cast<std::vector<DatasetFound>*>(data)->push_back({std::move(path), dimensions(dataset.get())});
+  return 0;
+}
+
+std::string shape_text(const std::vector<hsize_t>& dims) {
+  std::string text = std::to_string(dims.size()) + "-D";
+  for (std::size_t i = 0; i < dims.size(); ++i) text += (i == 0 ? ", " : " x ") + std::to_string(dims[i]);
+  return text;
+}
+
+std::string datasets_listed(hid_t file) {
+  std::vector<DatasetFound> found;
+  H5Lvisit(file, H5_INDEX_NAME, H5_ITER_INC, collect_dataset, &found);
+  std::string text;
+  for (const auto& d : found) text += " '" + d.name + "' (" + shape_text(d.dims) + ")";
+  return found.empty() ? " no dataset" : text;
+}
+
+// The datasets to read when the settings name none: the only 2-D dataset,
+// or exactly `needed` 1-D datasets of equal length. Throws ConfigError
+// listing what the file holds otherwise.
+Hdf5Layout chosen_layout(hid_t file, const std::string& path, Hdf5Layout layout) {
+  std::vector<DatasetFound> found;
+  H5Lvisit(file, H5_INDEX_NAME, H5_ITER_INC, collect_dataset, &found);
+  std::vector<std::string> matrices;
+  std::vector<std::string> columns;
+  bool equal_lengths = true;
+  std::vector<hsize_t> column_dims;
+  for (const auto& d : found) {
+    if (d.dims.size() == 2) matrices.push_back(d.name);
+    if (d.dims.size() != 1) continue;
+    if (!columns.empty() && d.dims != column_dims) equal_lengths = false;
+    column_dims = d.dims;
+    columns.push_back(d.name);
+  }
+  if (matrices.size() == 1) {
+    layout.dataset = matrices.front();
+    return layout;
+  }
+  if (matrices.empty() && equal_lengths && columns.size() == layout.channels_needed) {
+    layout.datasets = columns;
+    return layout;
+  }
+  std::ostringstream message;
+  message << path << ": cannot tell which datasets hold the recording (" << layout.channels_needed
+          << " channels needed); the file holds" << datasets_listed(file);
+  message << ". Name one 2-D dataset with dataset = \"/path\", or one 1-D dataset per channel with datasets = "
+             "[\"/a\", \"/b\", \"/c\"], under [input] in a settings file (--config FILE)";
+  throw ConfigError(message.str());
+}
+
 // One 2-D dataset (the smaller dimension is the channels) or one 1-D dataset
 // per channel, read block by block through hyperslabs.
 class Hdf5Reader final : public SampleSource {
@@ -63,10 +126,18 @@ class Hdf5Reader final : public SampleSource {
     if (H5Fis_hdf5(path.c_str()) <= 0) throw InputError(path + ": not a readable HDF5 file");
     file_ = Handle(H5Fopen(path.c_str(), H5F_ACC_RDONLY, H5P_DEFAULT), H5Fclose);
     if (!file_.valid()) throw InputError(path + ": cannot open as HDF5");
-    const auto& layout = options.hdf5;
-    if (layout.dataset.empty() == layout.datasets.empty()) {
-      throw ConfigError(path + ": name either one 2-D dataset (dataset) or one 1-D dataset per channel (datasets)");
+    if (!options.hdf5.dataset.empty() && !options.hdf5.datasets.empty()) {
+      throw ConfigError(path + ": name either one 2-D dataset (dataset) or one 1-D dataset per channel (datasets), not both");
     }
+    if (options.hdf5.dataset.empty() && options.hdf5.datasets.empty()) {
+      options_.hdf5 = chosen_layout(file_.get(), path, options.hdf5);
+      layout_ = "dataset";
+      if (!options_.hdf5.datasets.empty()) layout_ += "s";
+      for (const auto& name : options_.hdf5.datasets) layout_ += " '" + name + "'";
+      if (!options_.hdf5.dataset.empty()) layout_ += " '" + options_.hdf5.dataset + "'";
+      layout_ += " (the file's only candidate)";
+    }
+    const auto& layout = options_.hdf5;
     if (!layout.dataset.empty()) {
       open_matrix(layout.dataset);
     } else {
@@ -77,13 +148,13 @@ class Hdf5Reader final : public SampleSource {
 
   const std::vector<std::string>& channel_names() const override { return setup_.names; }
   const std::string& origin() const override { return path_; }
-  SourceSummary summary() const override { return {sample_rate_hz_, read_, {}}; }
+  SourceSummary summary() const override { return {sample_rate_hz_, read_, {}, layout_}; }
   bool next(SampleBlock& block) override;
 
  private:
   Handle open_dataset(const std::string& name) const {
     Handle d(H5Dopen2(file_.get(), name.c_str(), H5P_DEFAULT), H5Dclose);
-    if (!d.valid()) throw InputError(path_ + ": no dataset '" + name + "'");
+    if (!d.valid()) throw InputError(path_ + ": no dataset '" + name + "'; the file holds" + datasets_listed(file_.get()));
     return d;
   }
   void open_matrix(const std::string& name);
@@ -99,6 +170,7 @@ class Hdf5Reader final : public SampleSource {
   std::size_t length_ = 0;
   std::size_t read_ = 0;
   double sample_rate_hz_ = 0.0;
+  std::string layout_;  // the datasets read, when the settings named none
   ChannelSetup setup_;
   std::vector<double> buffer_;
 };
@@ -141,7 +213,8 @@ void Hdf5Reader::find_sample_rate() {
   if (!rate) rate = number_attribute(file_.get(), options_.hdf5.rate_attribute);
   if (!rate || !(*rate > 0.0)) {
     throw ConfigError(path_ + ": no sample rate: no attribute '" + options_.hdf5.rate_attribute +
-                      "' on the dataset or the file, and none given (sample_rate_hz)");
+                      "' on the dataset or the file; give --sample-rate HZ (or sample_rate_hz under [input] in a "
+                      "settings file), or name the attribute that holds it with rate_attribute under [input]");
   }
   sample_rate_hz_ = *rate;
 }

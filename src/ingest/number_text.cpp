@@ -76,6 +76,13 @@ char detect_delimiter(std::string_view header) {
   return best;
 }
 
+std::pair<std::string, std::string> split_unit(const std::string& column) {
+  const auto open = column.find_last_of("[(");
+  const char close = open != std::string::npos && column[open] == '[' ? ']' : ')';
+  if (open == std::string::npos || open == 0 || column.back() != close) return {column, ""};
+  return {std::string(trim(column.substr(0, open))), std::string(trim(column.substr(open + 1, column.size() - open - 2)))};
+}
+
 std::vector<std::string> split_names(std::string_view header, char delimiter) {
   std::vector<std::string> names;
   std::size_t start = 0;

@@ -4,6 +4,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 namespace loopaudit::detail {
@@ -25,6 +26,9 @@ std::string_view trim(std::string_view text);
 
 // The most frequent of ',', ';' and tab in a header line (',' if none).
 char detect_delimiter(std::string_view header);
+
+// "vout [V]" or "vout (V)" -> name "vout", unit "V"; no unit: "".
+std::pair<std::string, std::string> split_unit(const std::string& column);
 
 // Cells of a header line, trimmed.
 std::vector<std::string> split_names(std::string_view header, char delimiter);

@@ -58,12 +58,14 @@ class RawReader final : public SampleSource {
  public:
   RawReader(const std::string& path, const RecordingOptions& options) : path_(path), options_(options) {
     if (!options.sample_rate_hz) {
-      throw ConfigError(path + ": a raw binary recording needs its sample rate (sample_rate_hz)");
+      throw ConfigError(path + ": a raw binary recording needs its sample rate: give --sample-rate HZ "
+                               "(or sample_rate_hz under [input] in a settings file)");
     }
     const std::size_t channels = options.channel_names.empty() ? 3 : options.channel_names.size();
     setup_ = channel_setup(options, channels, path);
-    frame_bytes_ = channels * sample_type_bytes(options.raw.sample_type);
+    frame_bytes_ = channels * sample_type_bytes(type_);
     open_and_check();
+    describe_layout();
   }
 
   const std::vector<std::string>& channel_names() const override { return setup_.names; }
@@ -73,9 +75,11 @@ class RawReader final : public SampleSource {
 
  private:
   void open_and_check();
+  void describe_layout();
 
   std::string path_;
   RecordingOptions options_;
+  SampleType type_ = options_.raw.sample_type.value_or(SampleType::kInt16);
   ChannelSetup setup_;
   std::size_t frame_bytes_ = 0;
   std::size_t frames_total_ = 0;
@@ -108,6 +112,21 @@ void RawReader::open_and_check() {
   if (std::fseek(file_.get(), static_cast<long>(header), SEEK_SET) != 0) throw InputError(path_ + ": cannot skip the header");
 }
 
+// The layout used, echoed in the recording line of the report, and a note
+// when the sample type was not given.
+void RawReader::describe_layout() {
+  std::ostringstream text;
+  text << name_of(kSampleTypeNames, type_) << (options_.raw.sample_type ? "" : " (assumed)") << ", "
+       << (options_.raw.big_endian ? "big" : "little") << "-endian, " << setup_.names.size() << " channels interleaved";
+  if (options_.raw.header_bytes > 0) text << " after a " << options_.raw.header_bytes << "-byte header";
+  summary_.layout = text.str();
+  if (options_.raw.sample_type) return;
+  summary_.findings.push_back(make_note(
+      "ingest.sample-type-assumed",
+      "no sample type given: the file is read as int16; if it holds int32, float32 or float64, give --sample-type "
+      "NAME (or sample_type under [input] in a settings file)"));
+}
+
 bool RawReader::next(SampleBlock& block) {
   const std::size_t frames = std::min(options_.block_size, frames_total_ - frames_read_);
   if (frames == 0) {
@@ -120,14 +139,14 @@ bool RawReader::next(SampleBlock& block) {
     throw InputError(path_ + ": read failed after " + std::to_string(frames_read_) + " frames");
   }
   const std::size_t channels = setup_.names.size();
-  const std::size_t width = sample_type_bytes(options_.raw.sample_type);
+  const std::size_t width = sample_type_bytes(type_);
   const bool swap = options_.raw.big_endian != host_is_big_endian();
   block.first_sample = frames_read_;
   block.channels.resize(channels);
   for (std::size_t c = 0; c < channels; ++c) {
     auto& out = block.channels[c];
     out.resize(frames);
-    unpack_channel(options_.raw.sample_type, buffer_.data() + c * width, frame_bytes_, frames, swap, out.data());
+    unpack_channel(type_, buffer_.data() + c * width, frame_bytes_, frames, swap, out.data());
     setup_.calibrate(c, out);
   }
   frames_read_ += frames;

@@ -32,6 +32,68 @@ std::vector<double> expand(const std::vector<double>& values, std::size_t count,
   return values;
 }
 
+// Scale and offset applied over a reader's output: the per-channel scale by
+// name, for every format, and the positional scale and offset for text.
+class CalibratedSource final : public SampleSource {
+ public:
+  CalibratedSource(std::unique_ptr<SampleSource> inner, const RecordingOptions& options, bool positional)
+      : inner_(std::move(inner)) {
+    const auto& names = inner_->channel_names();
+    scale_ = positional ? expand(options.scale, names.size(), 1.0, "scale", inner_->origin())
+                        : std::vector<double>(names.size(), 1.0);
+    offset_ = positional ? expand(options.offset, names.size(), 0.0, "offset", inner_->origin())
+                         : std::vector<double>(names.size(), 0.0);
+    for (const auto& [name, factor] : options.named_scale) {
+      const auto it = std::find(names.begin(), names.end(), name);
+      if (it == names.end()) {
+        std::string message = inner_->origin() + ": a scale is given for channel '" + name + "' (--scale or probe_scale), which the file does not have (channels:";
+        for (const auto& n : names) message += " '" + n + "'";
+        throw ConfigError(message + ")");
+      }
+      const auto c = static_cast<std::size_t>(it - names.begin());
+      scale_[c] *= factor;
+      offset_[c] *= factor;
+    }
+  }
+
+  const std::vector<std::string>& channel_names() const override { return inner_->channel_names(); }
+  std::vector<std::string> channel_units() const override { return inner_->channel_units(); }
+  const std::string& origin() const override { return inner_->origin(); }
+  SourceSummary summary() const override { return inner_->summary(); }
+  bool next(SampleBlock& block) override {
+    if (!inner_->next(block)) return false;
+    for (std::size_t c = 0; c < block.channels.size(); ++c) {
+      if (scale_[c] == 1.0 && offset_[c] == 0.0) continue;
+      for (double& v : block.channels[c]) v = v * scale_[c] + offset_[c];
+    }
+    return true;
+  }
+
+ private:
+  std::unique_ptr<SampleSource> inner_;
+  std::vector<double> scale_;
+  std::vector<double> offset_;
+};
+
+std::unique_ptr<SampleSource> open_format(const std::string& path, const RecordingOptions& options) {
+  const RecordingFormat format = options.format == RecordingFormat::kAuto ? format_from_extension(path) : options.format;
+  switch (format) {
+    case RecordingFormat::kRaw: return detail::open_raw(path, options);
+    case RecordingFormat::kWav: return detail::open_wav(path, options);
+    case RecordingFormat::kHdf5: return detail::open_hdf5(path, options);
+    case RecordingFormat::kAuto:
+    case RecordingFormat::kText: {
+      DelimitedOptions text = options.text;
+      if (options.sample_rate_hz) text.sample_rate_hz = options.sample_rate_hz;
+      text.block_size = options.block_size;
+      auto source = open_delimited(path, text);
+      if (options.scale.empty() && options.offset.empty() && options.named_scale.empty()) return source;
+      return std::make_unique<CalibratedSource>(std::move(source), options, true);
+    }
+  }
+  return nullptr;
+}
+
 }  // namespace
 
 RecordingFormat format_from_name(const std::string& name) { return value_of(kFormatNames, name, {"format"}); }
@@ -91,24 +153,17 @@ void RecordingOptions::validate() const {
   for (const double v : offset) {
     if (!std::isfinite(v)) throw setting_out_of_range("offset", v, "finite numbers");
   }
+  for (const auto& [name, v] : named_scale) {
+    if (!std::isfinite(v) || v == 0.0) throw setting_out_of_range("scale of " + name, v, "a finite number other than 0");
+  }
 }
 
 std::unique_ptr<SampleSource> open_recording(const std::string& path, const RecordingOptions& options) {
   options.validate();
-  const RecordingFormat format = options.format == RecordingFormat::kAuto ? format_from_extension(path) : options.format;
-  switch (format) {
-    case RecordingFormat::kRaw: return detail::open_raw(path, options);
-    case RecordingFormat::kWav: return detail::open_wav(path, options);
-    case RecordingFormat::kHdf5: return detail::open_hdf5(path, options);
-    case RecordingFormat::kAuto:
-    case RecordingFormat::kText: {
-      DelimitedOptions text = options.text;
-      if (options.sample_rate_hz) text.sample_rate_hz = options.sample_rate_hz;
-      text.block_size = options.block_size;
-      return open_delimited(path, text);
-    }
-  }
-  return nullptr;
+  auto source = open_format(path, options);
+  const bool text = dynamic_cast<CalibratedSource*>(source.get()) != nullptr;
+  if (text || options.named_scale.empty()) return source;
+  return std::make_unique<CalibratedSource>(std::move(source), options, false);
 }
 
 }  // namespace loopaudit

@@ -1,5 +1,8 @@
 #include <sndfile.h>
 
+#include <cmath>
+#include <sstream>
+
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
 #include "loopaudit/error.hpp"
@@ -19,11 +22,17 @@ class WavReader final : public SampleSource {
     if (info.channels < 1 || info.samplerate < 1) throw InputError(path + ": the file states no channels or no sample rate");
     setup_ = channel_setup(options, static_cast<std::size_t>(info.channels), path);
     sample_rate_hz_ = options.sample_rate_hz.value_or(static_cast<double>(info.samplerate));
+    if (options.sample_rate_hz && std::abs(*options.sample_rate_hz / info.samplerate - 1.0) > 1e-3) {
+      std::ostringstream message;
+      message << "the stated sample rate " << *options.sample_rate_hz << " Hz is used; the file says " << info.samplerate
+              << " Hz. Every frequency scales by their ratio: leave out --sample-rate unless the file's rate is wrong";
+      findings_.push_back(make_warning("ingest.rate-disagrees", message.str()));
+    }
   }
 
   const std::vector<std::string>& channel_names() const override { return setup_.names; }
   const std::string& origin() const override { return path_; }
-  SourceSummary summary() const override { return {sample_rate_hz_, frames_read_, {}}; }
+  SourceSummary summary() const override { return {sample_rate_hz_, frames_read_, findings_}; }
 
   bool next(SampleBlock& block) override {
     const std::size_t channels = setup_.names.size();
@@ -56,6 +65,7 @@ class WavReader final : public SampleSource {
   ChannelSetup setup_;
   double sample_rate_hz_ = 0.0;
   std::size_t frames_read_ = 0;
+  Diagnostics findings_;
   std::vector<double> interleaved_;
 };
 

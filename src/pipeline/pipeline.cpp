@@ -14,14 +14,38 @@ namespace loopaudit {
 namespace {
 
 std::size_t channel_index(const SampleSource& source, const std::string& name, const std::string& role,
-                          const std::string& hint = "") {
+                          const std::string& option, const std::string& key, const std::string& hint = "") {
   const auto& names = source.channel_names();
   const auto it = std::find(names.begin(), names.end(), name);
   if (it != names.end()) return static_cast<std::size_t>(it - names.begin());
   std::ostringstream message;
   message << source.origin() << ": no channel named '" << name << "' for " << role << " (channels:";
   for (const auto& n : names) message << " '" << n << "'";
-  message << ")" << hint;
+  message << "); name the channel with " << option << " NAME (or " << key << " in a settings file)" << hint;
+  throw InputError(message.str());
+}
+
+// Every role whose channel the source lacks, in one message naming the options.
+const ChannelRoles& checked_roles(const SampleSource& source, const ChannelRoles& roles) {
+  const auto& names = source.channel_names();
+  const auto has = [&](const std::string& name) { return std::find(names.begin(), names.end(), name) != names.end(); };
+  const bool from_difference = roles.injection == kInjectionFromDifference;
+  std::vector<std::pair<std::string, std::string>> missing;  // option, name
+  if (!from_difference && !has(roles.injection)) missing.emplace_back("--z", roles.injection);
+  if (!has(roles.x)) missing.emplace_back("--x", roles.x);
+  if (!has(roles.y)) missing.emplace_back("--y", roles.y);
+  if (missing.size() < 2) return roles;  // one: channel_index says which
+  std::ostringstream message;
+  message << source.origin() << ": no channel";
+  for (std::size_t i = 0; i < missing.size(); ++i) {
+    message << (i == 0 ? " " : ", ") << "'" << missing[i].second << "' (" << missing[i].first << ")";
+  }
+  message << " among the channels";
+  for (const auto& n : names) message << " '" << n << "'";
+  message << "; say which is which with";
+  for (const auto& m : missing) message << " " << m.first << " NAME";
+  message << " (or z, x, y under [roles] in a settings file)";
+  if (!from_difference) message << "; --z " << kInjectionFromDifference << " computes the injection as x - y";
   throw InputError(message.str());
 }
 
@@ -29,12 +53,12 @@ std::size_t channel_index(const SampleSource& source, const std::string& name, c
 class RoleSelector {
  public:
   RoleSelector(const SampleSource& source, const ChannelRoles& roles)
-      : from_difference_(roles.injection == kInjectionFromDifference),
-        x_(channel_index(source, roles.x, "x")),
-        y_(channel_index(source, roles.y, "y")),
+      : from_difference_(checked_roles(source, roles).injection == kInjectionFromDifference),
+        x_(channel_index(source, roles.x, "x", "--x", "x under [roles]")),
+        y_(channel_index(source, roles.y, "y", "--y", "y under [roles]")),
         z_(from_difference_ ? 0
-                            : channel_index(source, roles.injection, "the injection z",
-                                            std::string("; to compute the injection as x - y, name it ") +
+                            : channel_index(source, roles.injection, "the injection z", "--z", "z under [roles]",
+                                            std::string("; to compute the injection as x - y, give --z ") +
                                                 kInjectionFromDifference)) {}
 
   RoleChannels select(const SampleBlock& block) {
@@ -155,7 +179,8 @@ AnalysisResult finish_result(SampleSource& source, const AnalysisOptions& option
     result.options.margins.band_hz = excited_hz;
     result.options.margins.band_source = "the band the injection excites";
   }
-  result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles};
+  result.record = RecordFacts{summary.sample_rate_hz, summary.sample_count, source.channel_names(), options.roles,
+                              summary.layout};
   result.findings = std::move(summary.findings);
   append(result.findings, findings);
   result.loop = to_loop(measured, options.convention, result.findings);
@@ -236,7 +261,9 @@ struct FirstPass {
 FirstPass first_pass(SampleSource& source, const AnalysisOptions& options, bool needs_whole) {
   FirstPass pass;
   const bool has_marker = !options.marker_channel.empty();
-  const std::size_t marker_index = has_marker ? channel_index(source, options.marker_channel, "the frequency marker") : 0;
+  const std::size_t marker_index =
+      has_marker ? channel_index(source, options.marker_channel, "the frequency marker", "--marker", "marker under [excitation]")
+                 : 0;
   bool decided = false;
   stream(
       source, options.roles, nullptr,
@@ -281,6 +308,7 @@ Inspection inspect_recording(SampleSource& source, const AnalysisOptions& option
   out.sample_rate_hz = summary.sample_rate_hz;
   out.sample_count = summary.sample_count;
   out.channel_names = source.channel_names();
+  out.layout = summary.layout;
   out.excitation = detector.finish(summary.sample_rate_hz);
   out.findings = std::move(summary.findings);
   append(out.findings, quality.findings());

@@ -136,7 +136,8 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
     lines.emplace_back("recording", std::to_string(rec.sample_count) + " samples at " +
                                         format_frequency(rec.sample_rate_hz) + " (" +
                                         format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) +
-                                        "); z = " + rec.roles.injection + ", x = " + rec.roles.x + ", y = " + rec.roles.y);
+                                        "); z = " + rec.roles.injection + ", x = " + rec.roles.x + ", y = " + rec.roles.y +
+                                        (rec.layout.empty() ? "" : "; read as " + rec.layout));
     if (r.excitation) {
       lines.emplace_back("excitation", r.excitation->describe(rec.sample_rate_hz));
     } else if (r.excitation_kind) {
@@ -232,6 +233,7 @@ void write_inspection(std::ostream& out, const Inspection& i) {
   out << "  recording   " << i.sample_count << " samples at " << format_frequency(i.sample_rate_hz) << " ("
       << format_time(static_cast<double>(i.sample_count) / i.sample_rate_hz) << "); channels";
   for (const auto& name : i.channel_names) out << " " << name;
+  if (!i.layout.empty()) out << "; read as " << i.layout;
   out << "\n  excitation  " << i.excitation.describe(i.sample_rate_hz) << "\n";
   if (i.excitation.kind == ExcitationKind::kStepped) {
     out << "  dwells     ";

@@ -10,7 +10,7 @@ extern "C" int LLVMFuzzerTestOneInput(const uint8_t* data, size_t size) {
   using namespace loopaudit;
   const std::string path = fuzzing::input_file(data, size, ".csv");
   try {
-    analyze_response(path, read_response_table(path), Convention::kDirect);
+    analyze_response(path, read_response_table(path).response, Convention::kDirect);
   } catch (const Error&) {
   }
   try {

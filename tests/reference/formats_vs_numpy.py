@@ -1,5 +1,7 @@
 """Recordings in every binary format, written by general-purpose libraries
-(numpy.tofile, scipy.io.wavfile, h5py) and read back by loopaudit exactly.
+(numpy.tofile, scipy.io.wavfile, h5py) and read back by loopaudit exactly;
+and a scope-style text export (metadata lines, decimal commas) with a probe
+factor, printed from numpy.
 
 The samples go through reference_dump printed with 17 significant digits, so
 "exactly" means bit for bit in double precision; integer PCM in WAV is read
@@ -126,6 +128,20 @@ class Formats(unittest.TestCase):
             '[input]\ndatasets = ["/columns/inj", "/columns/vx", "/columns/vy"]\n'))
         self.assertEqual(names, ["inj", "vx", "vy"])
         np.testing.assert_array_equal(data, (self.signal * 100).astype(np.int16).astype(np.float64))
+
+    def test_scope_export_with_decimal_commas_and_probe_scale(self):
+        # Metadata lines above the header, ';' and decimal commas, no time column;
+        # repr() prints each double exactly, so the samples read back bit for bit.
+        lines = ["Model;DSO 4104", "Sample Interval;2,0E-05", "", "CH1 [V];CH2 [V];CH3 [V]"]
+        lines += [";".join(repr(float(v)).replace(".", ",") for v in row) for row in self.signal]
+        with open(self.path("scope.csv"), "w") as f:
+            f.write("\n".join(lines) + "\n")
+        settings = self.settings('[input]\nsample_rate_hz = 50000\nscale = [1.0, 2.0, 1.0]\n'
+                                 'probe_scale = { CH3 = -10.0 }\n')
+        rate, names, data = dump(self.path("scope.csv"), settings)
+        self.assertEqual(rate, 50000.0)
+        self.assertEqual(names, ["CH1", "CH2", "CH3"])
+        np.testing.assert_array_equal(data, self.signal * np.array([1.0, 2.0, -10.0]))
 
 
 if __name__ == "__main__":

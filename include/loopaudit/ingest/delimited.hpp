@@ -1,6 +1,8 @@
 // Delimited text recordings (CSV, TSV, semicolon-separated).
 //
-// The first non-blank line names the columns. One column may hold the time in
+// A header line names the columns: the first line of names followed by
+// rows of numbers of the same width (metadata lines above it are skipped), or
+// the first line after `lines_before_header` lines. One column may hold the time in
 // seconds; the sample rate then comes from the whole span of that column and
 // every step is checked against it (see src/ingest/stamp_check.hpp). Without a
 // time column the sample rate must be stated. Every other column is a channel.
@@ -22,6 +24,9 @@ inline constexpr std::size_t kMaxBlockSize = 65536;
 struct DelimitedOptions {
   std::optional<char> delimiter;         // unset: the most frequent of , ; and tab in the header
   std::string time_column;               // empty: a column named t, time or time_s, if any
+  // Lines above the header (metadata an instrument writes). Unset: the
+  // header is the first line of names over rows of numbers of its width.
+  std::optional<std::size_t> lines_before_header;
   std::optional<double> sample_rate_hz;  // overrides the time column; required without one
   std::size_t block_size = kMaxBlockSize;  // samples per block handed out, 1 to kMaxBlockSize
 

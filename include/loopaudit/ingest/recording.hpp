@@ -10,6 +10,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "loopaudit/ingest/delimited.hpp"
@@ -40,7 +41,7 @@ std::size_t sample_type_bytes(SampleType type);
 
 // Interleaved binary samples after an optional header; value = raw * scale + offset.
 struct RawLayout {
-  SampleType sample_type = SampleType::kInt16;
+  std::optional<SampleType> sample_type;  // unset: int16, and the layout echoed says it was assumed
   bool big_endian = false;
   std::size_t header_bytes = 0;
 };
@@ -49,6 +50,9 @@ struct Hdf5Layout {
   std::string dataset;                // one 2-D dataset (samples x channels, or channels x samples)
   std::vector<std::string> datasets;  // or one 1-D dataset per channel
   std::string rate_attribute = "sample_rate_hz";  // looked up on the dataset(s), then on the file
+  // With neither named: the file's only 2-D dataset, or its 1-D datasets when
+  // they are exactly this many, of equal length (in the order of their paths).
+  std::size_t channels_needed = 3;
 };
 
 struct RecordingOptions {
@@ -59,6 +63,9 @@ struct RecordingOptions {
   std::optional<double> sample_rate_hz;  // required for raw; overrides what a file says
   std::vector<double> scale;             // per channel (one value: all channels); default 1
   std::vector<double> offset;            // per channel; default 0
+  // Per channel by name, multiplying the scale above (probe attenuation, an
+  // inverted probe); for every format, text included.
+  std::vector<std::pair<std::string, double>> named_scale;
   DelimitedOptions text;
   RawLayout raw;
   Hdf5Layout hdf5;

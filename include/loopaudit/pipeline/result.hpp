@@ -20,6 +20,7 @@ struct RecordFacts {
   std::size_t sample_count = 0;
   std::vector<std::string> channel_names;
   ChannelRoles roles;
+  std::string layout;  // SourceSummary::layout
 };
 
 struct AnalysisResult {
@@ -40,6 +41,7 @@ struct Inspection {
   double sample_rate_hz = 0.0;
   std::size_t sample_count = 0;
   std::vector<std::string> channel_names;
+  std::string layout;  // SourceSummary::layout
   ExcitationPlan excitation;
   Diagnostics findings;
 };

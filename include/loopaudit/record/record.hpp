@@ -28,6 +28,9 @@ struct SourceSummary {
   double sample_rate_hz = 0.0;
   std::size_t sample_count = 0;
   Diagnostics findings;
+  // How a file that does not describe itself was read, for the report
+  // ("int16, little-endian, 3 channels interleaved"); empty otherwise.
+  std::string layout;
 };
 
 class SampleSource {

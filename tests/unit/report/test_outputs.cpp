@@ -50,7 +50,7 @@ TEST_CASE("the response CSV reads back as the same lines", "[report]") {
   const Response r = small_response();
   testing::TempFile file("");
   write_atomically(file.path(), [&](std::ostream& out) { write_response_csv(out, r); });
-  const Response back = read_response_table(file.path());
+  const Response back = read_response_table(file.path()).response;
   REQUIRE(back.size() == r.size());
   for (std::size_t k = 0; k < r.size(); ++k) {
     CHECK(back.frequency_hz[k] == r.frequency_hz[k]);

@@ -1,0 +1,56 @@
+// Where the header of a delimited text file is. Scopes and DAQs often write
+// metadata lines (instrument, serial number, sample interval) above it,
+// without marking them as comments.
+#pragma once
+
+#include <cstddef>
+#include <optional>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include "ingest/line_reader.hpp"
+
+namespace loopaudit::detail {
+
+// The most lines read while looking for the header.
+inline constexpr std::size_t kHeaderSearchLines = 100;
+
+struct NumberedLine {
+  std::size_t number = 0;  // 1-based line number in the file
+  std::string text;
+};
+
+struct FoundHeader {
+  NumberedLine header;
+  char delimiter = ',';
+  std::vector<NumberedLine> before;  // lines above the header (metadata, comments, blanks)
+  std::vector<NumberedLine> after;   // rows read past the header while looking; to be parsed first
+  bool searched = false;             // true: looked for it and took the first line, finding no better
+};
+
+// Without `lines_before_header`: the header is the first line of names
+// (no cell empty or a number) followed by rows of numbers of the same width
+// (up to 3 checked), within the first kHeaderSearchLines lines; if there is
+// none, the first line that is not blank or a comment. With it: the first
+// such line after that many lines. Blank lines and lines starting with '#' or
+// '%' are never the header. Throws InputError for a file with no such line.
+FoundHeader find_header(LineReader& lines, const std::string& path, std::optional<std::size_t> lines_before_header,
+                        std::optional<char> delimiter);
+
+// Blank, or a comment ('#' or '%' first).
+bool is_skipped_line(std::string_view line);
+
+// A cell as a number, with a decimal comma when `decimal_comma`.
+std::optional<double> parse_cell(std::string_view cell, bool decimal_comma);
+
+// A line above the header that states the sampling ("Sample Interval,1e-06",
+// "Sampling rate: 250000", "XInc;2,0E-06"): the rate it gives, in Hz.
+struct RateHint {
+  std::size_t line_number = 0;
+  std::string text;
+  double sample_rate_hz = 0.0;
+};
+std::optional<RateHint> find_rate_hint(const std::vector<NumberedLine>& lines);
+
+}  // namespace loopaudit::detail
