@@ -262,7 +262,8 @@ void report_unresolved(const std::vector<Group>& groups, const LineTable& table,
                         .high_hz = group_band(groups[end - 1].members, table).high_hz};
     std::ostringstream message;
     message << count << " " << what << (count == 1 ? "" : "s") << " from " << format_frequency(*band.low_hz) << " to "
-            << format_frequency(*band.high_hz) << " are not listed: the lines there are too noisy to place them "
+            << format_frequency(*band.high_hz) << (count == 1 ? " is not listed: the lines there are too noisy to place it "
+                                                              : " are not listed: the lines there are too noisy to place them ")
             << "(relative uncertainty above " << options.max_line_sigma << ") or to show that the curve really "
             << "crosses. Raise the injection or average longer if a crossover may lie there";
     findings.push_back(make_warning("margins.unresolved-crossings", message.str(), band));
@@ -273,7 +274,8 @@ void report_unresolved(const std::vector<Group>& groups, const LineTable& table,
 void report_near_miss(const Group& g, const LineTable& table, const std::string& what, Diagnostics& findings) {
   std::ostringstream message;
   message << what << " near " << format_frequency(std::pow(10.0, g.log_f)) << " without crossing on balance ("
-          << g.members.size() << " noise crossings); the data cannot tell whether it crosses";
+          << g.members.size() << (g.members.size() == 1 ? " noise crossing" : " noise crossings")
+          << "); the data cannot tell whether it crosses";
   findings.push_back(make_warning("margins.near-crossing", message.str(), group_band(g.members, table)));
 }
 

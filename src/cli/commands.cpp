@@ -111,8 +111,8 @@ void run_analyze(const AnalyzeArgs& a, const std::string& command_line) {
   const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
   Progress progress(a.quiet);
   const AnalysisResult result = analyze(open, settings.analysis, progress.function());
-  write_outputs(result, a.outputs, a.recording, a.config_path, command_line, truth);
-  write_text_report(std::cout, result, truth);
+  const OutputRequest written = write_outputs(result, a.outputs, a.recording, a.config_path, command_line, truth);
+  write_text_report(std::cout, result, truth, "measured", {written.json_path});
 }
 
 }  // namespace
@@ -147,7 +147,7 @@ void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
   cmd->add_option("--y", a.y, "Channel before the injection point, returning from the loop [y]")->type_name("NAME");
   cmd->add_option("--time-column", a.time_column, "Text: column holding time in seconds [t, time or time_s]")
       ->type_name("NAME");
-  cmd->add_option("--sample-rate", a.sample_rate_hz, "Sample rate in Hz; overrides what the file says")
+  cmd->add_option("--sample-rate", a.sample_rate_hz, "Sample rate in Hz; overrides what the file says [from the file]")
       ->type_name("HZ");
   cmd->add_flag("--quiet", a.quiet, "No progress display");
 }
@@ -176,7 +176,7 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
   cmd->add_option("--period", a->period, "Periodic: the period in samples [found]")->type_name("N");
   cmd->add_option("--settle-cycles", a->settle_cycles, "Stepped: cycles dropped at each dwell's start [3]")
       ->type_name("N");
-  cmd->add_option("--schedule", a->schedule, "Stepped: dwells from a file with freq_hz, start_s, length_s")
+  cmd->add_option("--schedule", a->schedule, "Stepped: dwells from a file with freq_hz, start_s, length_s [found]")
       ->type_name("FILE");
   cmd->add_option("--marker", a->marker, "Stepped: dwells from a channel holding the generator's frequency")
       ->type_name("NAME");
@@ -209,16 +209,16 @@ void add_table(CLI::App& app, const std::string& command_line) {
   auto* cmd = app.add_subcommand("table", "Margins from a frequency-response table (freq_hz with re,im or mag_db,phase_deg)");
   cmd->add_option("table", args->table, "Frequency-response table")->required()->type_name("FILE");
   cmd->add_option("--convention", args->convention,
-                  "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T)")
-      ->capture_default_str();
+                  "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T) [direct]")
+      ->type_name("NAME");
   add_output_options(cmd, args->outputs);
   add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles);
   cmd->callback([args, command_line] {
     const Convention convention = convention_from_name(args->convention);
     const AnalysisResult result =
         analyze_response(args->table, read_response_table(args->table), convention, args->margins);
-    write_outputs(result, args->outputs, args->table, "", command_line);
-    write_text_report(std::cout, result);
+    const OutputRequest written = write_outputs(result, args->outputs, args->table, "", command_line);
+    write_text_report(std::cout, result, std::nullopt, "measured", {written.json_path});
   });
 }
 
@@ -231,10 +231,8 @@ void add_synth(CLI::App& app) {
   auto args = std::make_shared<Args>();
   auto* cmd = app.add_subcommand("synth", "Simulate a bench injection test from a scenario file (TOML)");
   cmd->add_option("scenario", args->scenario, "Scenario file")->required()->type_name("FILE");
-  cmd->add_option("--out-dir", args->out_dir, "Folder for NAME.csv and NAME.truth.json")
-      ->capture_default_str()
-      ->type_name("DIR");
-  cmd->add_option("--seed", args->seed, "Override the scenario's random seed")->type_name("N");
+  cmd->add_option("--out-dir", args->out_dir, "Folder for NAME.csv and NAME.truth.json [.]")->type_name("DIR");
+  cmd->add_option("--seed", args->seed, "Random seed of the simulation [the scenario's seed]")->type_name("N");
   cmd->callback([args] {
     Scenario scenario = load_scenario(args->scenario);
     if (args->seed) scenario.seed = *args->seed;
@@ -251,7 +249,7 @@ void add_synth(CLI::App& app) {
     truth_view.loop.convention = Convention::kDirect;
     truth_view.margins = synthesis.truth;
     truth_view.findings = synthesis.truth.findings;
-    write_text_report(std::cout, truth_view, std::nullopt, "exact");
+    write_text_report(std::cout, truth_view, std::nullopt, "exact", {stem + ".truth.json", false});
     std::cout << "\n  wrote " << stem << ".csv and " << stem << ".truth.json\n";
   });
 }
