@@ -158,5 +158,35 @@ class LongListTest(unittest.TestCase):
         self.assertIn(f"of {gains} gain crossovers shown; --json FILE writes them all", run("table", self.table))
 
 
+class WeakRecordingTest(unittest.TestCase):
+    """The servo demo with an injection of 0.3 rad/s instead of 5, for 4 s: many findings."""
+
+    def test_findings_are_shortened_and_speak_of_one_crossing_in_the_singular(self):
+        with tempfile.TemporaryDirectory() as tmp:
+            with open(os.path.join(DEMO, "servo_velocity.toml")) as f:
+                scenario = f.read()
+            scenario = re.sub(r"^rms = 5.0 .*$", "rms = 0.3", scenario, flags=re.M)
+            scenario = scenario.replace('name = "servo_velocity"', 'name = "weak"').replace("duration_s = 20", "duration_s = 4")
+            path = os.path.join(tmp, "weak.toml")
+            with open(path, "w") as f:
+                f.write(scenario)
+            run("synth", path, "--out-dir", tmp)
+            json_path = os.path.join(tmp, "weak.json")
+            text = run("analyze", os.path.join(tmp, "weak.csv"), "--json", json_path)
+            with open(json_path) as f:
+                findings = json.load(f)["diagnostics"]
+        lines = [line for line in text.split("\n  findings\n")[1].splitlines() if line.startswith("    ")]
+        self.assertGreater(len(findings), 10)
+        self.assertEqual(len(lines), 11)  # ten findings and the line that counts the rest
+        self.assertRegex(lines[-1], rf"^    \.\.\. {len(findings) - 10} more \(.+\); all are in {re.escape(json_path)} "
+                                    r"under \"diagnostics\"$")
+        # One crossing, one noise crossing: singular (the run holds both).
+        messages = [d["message"] for d in findings]
+        singular = [m for m in messages if re.search(r"\b1 (gain|phase) crossing |\(1 noise crossing", m)]
+        self.assertTrue(singular, messages)
+        for m in singular:
+            self.assertNotRegex(m, r"\b1 (gain|phase) crossing .* are not listed|\(1 noise crossings\)")
+
+
 if __name__ == "__main__":
     unittest.main()
