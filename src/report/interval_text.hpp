@@ -32,4 +32,10 @@ inline NumberStyle estimate_style(Quantity quantity, const Estimate& e, std::vec
   return interval_style(quantity, e.interval->low, e.interval->high, beside);
 }
 
+// Both ends in one style chosen from the interval (no value beside it).
+inline std::string interval_text(const Estimate& e, Quantity quantity) {
+  if (!e.interval) return "";
+  return format_interval(estimate_style(quantity, e), e.interval->low, e.interval->high);
+}
+
 }  // namespace loopaudit::detail
