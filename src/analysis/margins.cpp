@@ -262,8 +262,9 @@ void report_unresolved(const std::vector<Group>& groups, const LineTable& table,
                         .high_hz = group_band(groups[end - 1].members, table).high_hz};
     std::ostringstream message;
     message << count << " " << what << (count == 1 ? "" : "s") << " from " << format_frequency(*band.low_hz) << " to "
-            << format_frequency(*band.high_hz) << (count == 1 ? " is not listed: the lines there are too noisy to place it "
-                                                              : " are not listed: the lines there are too noisy to place them ")
+            << format_frequency(*band.high_hz)
+            << (count == 1 ? " is not listed: the lines there are too noisy to place it "
+                           : " are not listed: the lines there are too noisy to place them ")
             << "(relative uncertainty above " << options.max_line_sigma << ") or to show that the curve really "
             << "crosses. Raise the injection or average longer if a crossover may lie there";
     findings.push_back(make_warning("margins.unresolved-crossings", message.str(), band));

@@ -92,10 +92,14 @@ NumberStyle value_style(Quantity quantity, double value) {
                                    frequency ? std::span<const Prefix>(kFrequencyPrefixes) : kTimePrefixes);
       return {p.factor, std::string(p.name) + (frequency ? "Hz" : "s"), three_digit_decimals(value / p.factor), false};
     }
-    case Quantity::kAngle: return {1.0, "deg", 1, false};
-    case Quantity::kGain: return {1.0, "dB", 1, false};
-    case Quantity::kSignedGain: return {1.0, "dB", 1, true};
-    case Quantity::kRatio: return {1.0, "", 3, false};
+    case Quantity::kAngle:
+      return {1.0, "deg", 1, false};
+    case Quantity::kGain:
+      return {1.0, "dB", 1, false};
+    case Quantity::kSignedGain:
+      return {1.0, "dB", 1, true};
+    case Quantity::kRatio:
+      return {1.0, "", 3, false};
   }
   return {};
 }

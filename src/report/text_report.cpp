@@ -1,15 +1,15 @@
 #include "loopaudit/report/text_report.hpp"
 
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <initializer_list>
+#include <vector>
+
 #include "loopaudit/format.hpp"
 #include "loopaudit/loop/loop.hpp"
 #include "loopaudit/model/comparison.hpp"
 #include "report/interval_text.hpp"
-
-#include <algorithm>
-#include <initializer_list>
-#include <cmath>
-#include <cstdio>
-#include <vector>
 
 namespace loopaudit {
 namespace {
@@ -138,8 +138,7 @@ void write_capped(std::ostream& out, const std::vector<T>& items, const std::vec
   }
   if (hidden == 0) return;
   out << "    " << (items.size() - hidden) << " of " << items.size() << " " << what << " shown; "
-      << (lists.json_path.empty() ? std::string("--json FILE writes them all")
-                                  : "all are in " + lists.json_path)
+      << (lists.json_path.empty() ? std::string("--json FILE writes them all") : "all are in " + lists.json_path)
       << " under \"" << json_key << "\"\n";
 }
 
@@ -147,24 +146,25 @@ void write_gain_crossovers(std::ostream& out, const Margins& m, const FullLists&
   out << "  gain crossovers (|L| = 1)\n";
   if (m.gain_crossovers.empty()) out << "    none in band\n";
   const MarginSummary& s = m.summary;
-  std::vector<std::size_t> always = chosen_by_summary(m.gain_crossovers, &GainCrossover::frequency_hz, {s.gain_crossover_hz});
+  std::vector<std::size_t> always =
+      chosen_by_summary(m.gain_crossovers, &GainCrossover::frequency_hz, {s.gain_crossover_hz});
   for (std::size_t i : chosen_by_summary(m.gain_crossovers, &GainCrossover::delay_margin_s, {s.delay_margin_s})) {
     always.push_back(i);
   }
-  write_capped(out, m.gain_crossovers, shown_entries(m.gain_crossovers.size(), always), "gain crossovers",
-               "gain_crossovers", lists, [&](const GainCrossover& c) {
-                 const NumberStyle f = estimate_style(Quantity::kFrequency, c.frequency_hz);
-                 const NumberStyle pm = estimate_style(Quantity::kAngle, c.phase_margin_deg);
-                 const NumberStyle dm = estimate_style(Quantity::kTime, c.delay_margin_s);
-                 char line[200];
-                 std::snprintf(line, sizeof line, "    %-12s phase margin %11s   delay margin %s%s",
-                               f(c.frequency_hz.value).c_str(), pm(c.phase_margin_deg.value).c_str(),
-                               dm(c.delay_margin_s.value).c_str(),
-                               c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
-                 out << line << flags_text(c.trust_flags) << "\n";
-                 write_interval_line(out, m.confidence,
-                                     {range(f, c.frequency_hz), range(pm, c.phase_margin_deg), range(dm, c.delay_margin_s)});
-               });
+  write_capped(
+      out, m.gain_crossovers, shown_entries(m.gain_crossovers.size(), always), "gain crossovers", "gain_crossovers",
+      lists, [&](const GainCrossover& c) {
+        const NumberStyle f = estimate_style(Quantity::kFrequency, c.frequency_hz);
+        const NumberStyle pm = estimate_style(Quantity::kAngle, c.phase_margin_deg);
+        const NumberStyle dm = estimate_style(Quantity::kTime, c.delay_margin_s);
+        char line[200];
+        std::snprintf(line, sizeof line, "    %-12s phase margin %11s   delay margin %s%s",
+                      f(c.frequency_hz.value).c_str(), pm(c.phase_margin_deg.value).c_str(),
+                      dm(c.delay_margin_s.value).c_str(), c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
+        out << line << flags_text(c.trust_flags) << "\n";
+        write_interval_line(out, m.confidence,
+                            {range(f, c.frequency_hz), range(pm, c.phase_margin_deg), range(dm, c.delay_margin_s)});
+      });
 }
 
 void write_phase_crossovers(std::ostream& out, const Margins& m, const FullLists& lists) {
@@ -172,9 +172,8 @@ void write_phase_crossovers(std::ostream& out, const Margins& m, const FullLists
   if (m.phase_crossovers.empty()) out << "    none in band\n";
   const auto& list = m.phase_crossovers;
   const MarginSummary& s = m.summary;
-  const std::vector<std::size_t> always =
-      chosen_by_summary(list, &PhaseCrossover::gain_margin_db,
-                        {s.gain_margin_db, s.gain_increase_margin_db, s.gain_reduction_margin_db});
+  const std::vector<std::size_t> always = chosen_by_summary(
+      list, &PhaseCrossover::gain_margin_db, {s.gain_margin_db, s.gain_increase_margin_db, s.gain_reduction_margin_db});
   write_capped(out, list, shown_entries(list.size(), always), "phase crossovers", "phase_crossovers", lists,
                [&](const PhaseCrossover& c) {
                  const NumberStyle f = estimate_style(Quantity::kFrequency, c.frequency_hz);
@@ -194,8 +193,9 @@ void write_disk(std::ostream& out, const DiskMargin& d, double confidence) {
   const NumberStyle alpha = estimate_style(Quantity::kRatio, d.alpha);
   const NumberStyle gain = estimate_style(Quantity::kGain, d.gain_high_db);
   const NumberStyle phase = estimate_style(Quantity::kAngle, d.phase_deg);
-  const std::string gain_text =
-      std::isfinite(d.gain_high_db.value) ? "a gain change of up to +-" + gain(d.gain_high_db.value) : "any gain change";
+  const std::string gain_text = std::isfinite(d.gain_high_db.value)
+                                    ? "a gain change of up to +-" + gain(d.gain_high_db.value)
+                                    : "any gain change";
   out << "\n  disk margin        alpha " << alpha(d.alpha.value) << ": the loop tolerates " << gain_text
       << " together with a phase change of up to +-" << phase(d.phase_deg.value) << " (worst at "
       << format_frequency(d.frequency_hz) << (d.at_band_edge ? ", at the band edge" : "") << ")\n";
@@ -242,13 +242,17 @@ void write_findings(std::ostream& out, const Diagnostics& findings, const FullLi
       continue;
     }
     auto it = std::find_if(left_out.begin(), left_out.end(), [&](const auto& e) { return e.first == d.code; });
-    if (it == left_out.end()) left_out.emplace_back(d.code, 1);
-    else ++it->second;
+    if (it == left_out.end())
+      left_out.emplace_back(d.code, 1);
+    else
+      ++it->second;
   }
   if (left_out.empty()) return;
   out << "    ... " << (findings.size() - listed) << " more (";
-  for (std::size_t i = 0; i < left_out.size(); ++i) out << (i ? ", " : "") << left_out[i].second << " " << left_out[i].first;
-  out << "); " << (lists.json_path.empty() ? std::string("--json FILE writes them all") : "all are in " + lists.json_path)
+  for (std::size_t i = 0; i < left_out.size(); ++i)
+    out << (i ? ", " : "") << left_out[i].second << " " << left_out[i].first;
+  out << "); "
+      << (lists.json_path.empty() ? std::string("--json FILE writes them all") : "all are in " + lists.json_path)
       << " under \"diagnostics\"\n";
 }
 
@@ -258,10 +262,10 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
   std::vector<std::pair<std::string, std::string>> lines;
   if (r.record) {
     const auto& rec = *r.record;
-    lines.emplace_back("recording", std::to_string(rec.sample_count) + " samples at " +
-                                        format_frequency(rec.sample_rate_hz) + " (" +
-                                        format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) +
-                                        "); z = " + rec.roles.injection + ", x = " + rec.roles.x + ", y = " + rec.roles.y);
+    lines.emplace_back("recording",
+                       std::to_string(rec.sample_count) + " samples at " + format_frequency(rec.sample_rate_hz) + " (" +
+                           format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) +
+                           "); z = " + rec.roles.injection + ", x = " + rec.roles.x + ", y = " + rec.roles.y);
     if (r.excitation) {
       lines.emplace_back("excitation", r.excitation->describe(rec.sample_rate_hz));
     } else if (r.excitation_kind) {
@@ -283,20 +287,22 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
       break;
     }
     case ResponseMethodKind::kPeriodic:
-      lines.emplace_back("estimate", "spectra of whole periods averaged (" + averaged + " periods), Y/X at the excited lines");
+      lines.emplace_back("estimate",
+                         "spectra of whole periods averaged (" + averaged + " periods), Y/X at the excited lines");
       break;
     case ResponseMethodKind::kSteppedSine:
-      lines.emplace_back("estimate", "IEEE 1057 sine fits, one line per dwell (" + averaged + " dwells), Y/X of the phasors");
+      lines.emplace_back("estimate",
+                         "IEEE 1057 sine fits, one line per dwell (" + averaged + " dwells), Y/X of the phasors");
       break;
-    case ResponseMethodKind::kTable: break;
+    case ResponseMethodKind::kTable:
+      break;
   }
   const std::size_t count = r.margins.line_count;
-  lines.emplace_back("loop", std::string(convention_formula(r.loop.convention)) + " (" +
-                                 convention_name(r.loop.convention) + "), " +
-                                 (count == 1 ? "1 line at " + format_frequency(r.margins.band_low_hz)
-                                             : std::to_string(count) + " lines from " +
-                                                   format_frequency(r.margins.band_low_hz) + " to " +
-                                                   format_frequency(r.margins.band_high_hz)));
+  lines.emplace_back(
+      "loop", std::string(convention_formula(r.loop.convention)) + " (" + convention_name(r.loop.convention) + "), " +
+                  (count == 1 ? "1 line at " + format_frequency(r.margins.band_low_hz)
+                              : std::to_string(count) + " lines from " + format_frequency(r.margins.band_low_hz) +
+                                    " to " + format_frequency(r.margins.band_high_hz)));
   return lines;
 }
 
@@ -314,7 +320,7 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
   int interval_width = 28;  // wider when an interval needs it
   for (const Row& row : rows) interval_width = std::max(interval_width, static_cast<int>(row.interval.size()) + 2);
   const auto write_row = [&](const std::string& label, const std::string& value, const std::string& interval,
-                              const std::string& third) {
+                             const std::string& third) {
     std::snprintf(line, sizeof line, "  %-18s %-16s%-*s%s", label.c_str(), value.c_str(), interval_width,
                   interval.c_str(), third.c_str());
     std::string text = line;
@@ -343,7 +349,8 @@ void write_inspection(std::ostream& out, const Inspection& i) {
     out << "\n";
   }
   if (!i.findings.empty()) out << "\n  findings\n";
-  for (const auto& d : i.findings) out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
+  for (const auto& d : i.findings)
+    out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
 }
 
 }  // namespace loopaudit

@@ -64,8 +64,10 @@ TEST_CASE("long crossover lists show their first entries and say where the rest 
   CHECK_THAT(text, Catch::Contains("    31.0 kHz     phase margin    20.0 deg"));
   CHECK_THAT(text, Catch::Contains("    ... 22 more from 9 kHz to 30 kHz\n"));
   CHECK_THAT(text, Catch::Contains("    ... 9 more from 32 kHz to 40 kHz\n"));
-  CHECK_THAT(text, Catch::Contains("9 of 40 gain crossovers shown; all are in out/bench.json under \"gain_crossovers\""));
-  CHECK_THAT(text, Catch::Contains("8 of 300 phase crossovers shown; all are in out/bench.json under \"phase_crossovers\""));
+  CHECK_THAT(text,
+             Catch::Contains("9 of 40 gain crossovers shown; all are in out/bench.json under \"gain_crossovers\""));
+  CHECK_THAT(text,
+             Catch::Contains("8 of 300 phase crossovers shown; all are in out/bench.json under \"phase_crossovers\""));
   // Without a JSON file the option that writes one is named.
   CHECK_THAT(text_of(r), Catch::Contains("8 of 300 phase crossovers shown; --json FILE writes them all"));
 }
@@ -86,7 +88,9 @@ TEST_CASE("long findings lists show errors and warnings first and count the rest
   CHECK(count_of(text, "    warning [test.warning]") == 6);
   CHECK(count_of(text, "    note [test.note]") == kListedFindings - 6);
   CHECK_THAT(text, Catch::Contains("note [test.note] note 3\n"));
-  CHECK_THAT(text, Catch::Contains("    ... 17 more (16 test.note, 1 test.other); all are in out/bench.json under \"diagnostics\""));
+  CHECK_THAT(
+      text,
+      Catch::Contains("    ... 17 more (16 test.note, 1 test.other); all are in out/bench.json under \"diagnostics\""));
   // Where no file holds the findings, all of them are printed.
   const std::string whole = text_of(r, {"out/bench.truth.json", false});
   CHECK(count_of(whole, "    note [test.") == 21);
