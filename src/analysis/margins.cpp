@@ -199,7 +199,8 @@ bool beside_crossover(const Group& near_miss, const std::vector<Group>& groups) 
 void report_near_miss(const Group& g, const LineTable& table, const std::string& what, Diagnostics& findings) {
   std::ostringstream message;
   message << what << " near " << format_frequency(std::pow(10.0, g.log_f)) << " without crossing on balance ("
-          << g.members.size() << " noise crossings); the data cannot tell whether it crosses";
+          << g.members.size() << (g.members.size() == 1 ? " noise crossing" : " noise crossings")
+          << "); the data cannot tell whether it crosses";
   findings.push_back(make_warning("margins.near-crossing", message.str(), group_band(g.members, table)));
 }
 

@@ -157,8 +157,8 @@ void run_analyze(const AnalyzeArgs& a, const std::string& command_line) {
     Progress progress(a.quiet);  // cleared before anything else is written
     return analyze(open, settings.analysis, progress.function());
   }();
-  write_outputs(result, a.outputs, a.recording, a.config_path, command_line, truth);
-  write_text_report(to_stdout ? std::cerr : std::cout, result, truth);
+  const OutputRequest written = write_outputs(result, a.outputs, a.recording, a.config_path, command_line, truth);
+  write_text_report(to_stdout ? std::cerr : std::cout, result, truth, "measured", {written.json_path});
 }
 
 }  // namespace
@@ -216,7 +216,7 @@ void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
   cmd->add_option("--y", a.y, "Channel before the injection point, returning from the loop [y]")->type_name("NAME");
   cmd->add_option("--time-column", a.time_column, "Text: column holding time in seconds [t, time or time_s]")
       ->type_name("NAME");
-  cmd->add_option("--sample-rate", a.sample_rate_hz, "Sample rate in Hz; overrides what the file says")
+  cmd->add_option("--sample-rate", a.sample_rate_hz, "Sample rate in Hz; overrides what the file says [from the file]")
       ->type_name("HZ");
   cmd->add_option("--skip-rows", a.skip_rows, "Text: lines above the header to skip [found]")->type_name("N");
   cmd->add_option("--sample-type", a.sample_type, "Raw: int16, int32, float32 or float64 [int16, said so]")
@@ -252,7 +252,7 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
   cmd->add_option("--period", a->period, "Periodic: the period in samples [found]")->type_name("N");
   cmd->add_option("--settle-cycles", a->settle_cycles, "Stepped: cycles dropped at each dwell's start [3]")
       ->type_name("N");
-  cmd->add_option("--schedule", a->schedule, "Stepped: dwells from a file with freq_hz, start_s, length_s")
+  cmd->add_option("--schedule", a->schedule, "Stepped: dwells from a file with freq_hz, start_s, length_s [found]")
       ->type_name("FILE");
   cmd->add_option("--marker", a->marker, "Stepped: dwells from a channel holding the generator's frequency")
       ->type_name("NAME");
@@ -303,8 +303,8 @@ void add_table(CLI::App& app, const std::string& command_line) {
                                           "parts, or gain and phase)");
   cmd->add_option("table", args->table, "Frequency-response table")->required()->type_name("FILE");
   cmd->add_option("--convention", args->convention,
-                  "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T)")
-      ->capture_default_str();
+                   "What the table holds: direct (L itself), series-injection (Y/X) or closed-loop (T) [direct]")
+      ->type_name("NAME");
   add_table_columns(cmd, args->columns);
   add_output_options(cmd, args->outputs);
   add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles, args->band);
@@ -315,8 +315,8 @@ void add_table(CLI::App& app, const std::string& command_line) {
     const ResponseTable table = read_response_table(args->table, args->columns);
     AnalysisResult result = analyze_response(args->table, table.response, convention, args->margins);
     result.findings.insert(result.findings.begin(), table.findings.begin(), table.findings.end());
-    write_outputs(result, args->outputs, args->table, "", command_line);
-    write_text_report(to_stdout ? std::cerr : std::cout, result);
+    const OutputRequest written = write_outputs(result, args->outputs, args->table, "", command_line);
+    write_text_report(to_stdout ? std::cerr : std::cout, result, std::nullopt, "measured", {written.json_path});
   });
 }
 
@@ -329,10 +329,8 @@ void add_synth(CLI::App& app) {
   auto args = std::make_shared<Args>();
   auto* cmd = app.add_subcommand("synth", "Simulate a bench injection test from a scenario file (TOML)");
   cmd->add_option("scenario", args->scenario, "Scenario file")->required()->type_name("FILE");
-  cmd->add_option("--out-dir", args->out_dir, "Folder for NAME.csv and NAME.truth.json")
-      ->capture_default_str()
-      ->type_name("DIR");
-  cmd->add_option("--seed", args->seed, "Override the scenario's random seed")->type_name("N");
+  cmd->add_option("--out-dir", args->out_dir, "Folder for NAME.csv and NAME.truth.json [.]")->type_name("DIR");
+  cmd->add_option("--seed", args->seed, "Random seed of the simulation [the scenario's seed]")->type_name("N");
   cmd->callback([args] {
     Scenario scenario = load_scenario(args->scenario);
     if (args->seed) scenario.seed = *args->seed;
@@ -349,7 +347,7 @@ void add_synth(CLI::App& app) {
     truth_view.loop.convention = Convention::kDirect;
     truth_view.margins = synthesis.truth;
     truth_view.findings = synthesis.truth.findings;
-    write_text_report(std::cout, truth_view, std::nullopt, "exact");
+    write_text_report(std::cout, truth_view, std::nullopt, "exact", {stem + ".truth.json", false});
     std::cout << "\n  wrote " << stem << ".csv and " << stem << ".truth.json\n";
   });
 }

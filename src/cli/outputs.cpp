@@ -106,7 +106,7 @@ void add_output_options(CLI::App* cmd, OutputRequest& r) {
       ->type_name("DIR");
 }
 
-void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
+OutputRequest write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
                    const std::string& settings, const std::string& command_line,
                    const std::optional<MarginSummary>& truth) {
   const OutputRequest r = resolved(request, input);
@@ -114,7 +114,7 @@ void write_outputs(const AnalysisResult& result, const OutputRequest& request, c
   if (!r.csv_path.empty()) {
     write_output(r.csv_path, [&](std::ostream& out) { write_response_csv(out, result.loop.lines); });
   }
-  if (r.report_path.empty() && r.plots_dir.empty()) return;
+  if (r.report_path.empty() && r.plots_dir.empty()) return r;
   const std::vector<Plot> plots = draw_plots(result);
   if (!r.plots_dir.empty()) {
     make_folder(r.plots_dir);
@@ -125,6 +125,7 @@ void write_outputs(const AnalysisResult& result, const OutputRequest& request, c
                           settings.empty() ? "" : file_text(settings), command_line, truth};
     write_text_file(r.report_path, html_report(result, plots, context));
   }
+  return r;
 }
 
 }  // namespace loopaudit::cli

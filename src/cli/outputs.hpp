@@ -26,8 +26,8 @@ void add_output_options(CLI::App* command, OutputRequest& request);
 
 // `input` names the file analysed (for the stem and its date), `settings`
 // the run settings file or "", `command_line` the command that ran, for the
-// report's record of how it was made.
-void write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
+// report's record of how it was made. Returns where each output went.
+OutputRequest write_outputs(const AnalysisResult& result, const OutputRequest& request, const std::string& input,
                    const std::string& settings, const std::string& command_line,
                    const std::optional<MarginSummary>& truth = std::nullopt);
 

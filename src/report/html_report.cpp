@@ -125,14 +125,17 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
              fixed(100.0 * m.confidence, 0) + " % interval</th><th></th></tr>\n";
   for (const auto& c : m.gain_crossovers) {
     out << "<tr><td>gain crossover</td><td class=\"num\">" << hz(c.frequency_hz.value) << "<br><small>"
-        << interval_text(c.frequency_hz, hz) << "</small></td><td class=\"num\">PM " << deg(c.phase_margin_deg.value)
+        << interval_text(c.frequency_hz, Quantity::kFrequency) << "</small></td><td class=\"num\">PM "
+        << deg(c.phase_margin_deg.value)
         << "<br>delay " << seconds(c.delay_margin_s.value) << "</td><td class=\"num\">"
-        << interval_text(c.phase_margin_deg, deg) << "<br>" << interval_text(c.delay_margin_s, seconds) << "</td><td>"
+        << interval_text(c.phase_margin_deg, deg) << "<br>" << interval_text(c.delay_margin_s, Quantity::kTime)
+        << "</td><td>"
         << flags_html(c.trust_flags) << "</td></tr>\n";
   }
   for (const auto& c : m.phase_crossovers) {
     out << "<tr><td>phase crossover</td><td class=\"num\">" << hz(c.frequency_hz.value) << "<br><small>"
-        << interval_text(c.frequency_hz, hz) << "</small></td><td class=\"num\">GM " << db(c.gain_margin_db.value)
+        << interval_text(c.frequency_hz, Quantity::kFrequency) << "</small></td><td class=\"num\">GM "
+        << db(c.gain_margin_db.value)
         << "<br><small>limits gain " << direction_name(c.limits) << "</small></td><td class=\"num\">"
         << interval_text(c.gain_margin_db, db) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
   }
@@ -171,20 +174,30 @@ void write_truth(std::ostream& out, const AnalysisResult& r, const MarginSummary
   struct Shown {
     const char* label;
     const char* key;
-    std::string (*format)(double);
+    Quantity quantity;
   };
   static constexpr Shown kRows[] = {
-      {"gain crossover", "gain_crossover_hz", hz}, {"phase margin", "phase_margin_deg", deg},
-      {"delay margin", "delay_margin_s", seconds}, {"phase crossover", "phase_crossover_hz", hz},
-      {"gain margin", "gain_margin_db", db},       {"modulus margin", "modulus_margin", ratio},
+      {"gain crossover", "gain_crossover_hz", Quantity::kFrequency},
+      {"phase margin", "phase_margin_deg", Quantity::kAngle},
+      {"delay margin", "delay_margin_s", Quantity::kTime},
+      {"phase crossover", "phase_crossover_hz", Quantity::kFrequency},
+      {"gain margin", "gain_margin_db", Quantity::kSignedGain},
+      {"modulus margin", "modulus_margin", Quantity::kRatio},
   };
   const auto compared = compare_summary(r.margins.summary, t);
   for (const Shown& shown : kRows) {
     const QuantityComparison& c = comparison_of(compared, shown.key);
+    // One style for the value, the interval and the truth, with the digits
+    // that show whether the truth is inside (interval_style).
+    std::vector<double> beside;
+    if (c.reference) beside.push_back(*c.reference);
+    const NumberStyle style = c.measured ? detail::estimate_style(shown.quantity, *c.measured, beside)
+                                         : value_style(shown.quantity, c.reference.value_or(0.0));
+    const auto& ci = c.measured ? c.measured->interval : std::nullopt;
+    const std::string range = ci ? format_interval(style, ci->low, ci->high) : "";
     out << "<tr><td>" << shown.label << "</td><td class=\"num\">"
-        << (c.measured ? shown.format(c.measured->value) : "none in band") << "</td><td class=\"num\">"
-        << (c.measured ? interval_text(*c.measured, shown.format) : "") << "</td><td class=\"num\">"
-        << (c.reference ? shown.format(*c.reference) : "none in band") << "</td><td>"
+        << (c.measured ? style(c.measured->value) : "none in band") << "</td><td class=\"num\">" << range
+        << "</td><td class=\"num\">" << (c.reference ? style(*c.reference) : "none in band") << "</td><td>"
         << (c.inside ? (*c.inside ? "yes" : "no") : "") << "</td></tr>\n";
   }
   out << "</table>\n";

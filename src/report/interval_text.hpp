@@ -1,10 +1,14 @@
-// An interval as text, each end in the caller's own format: "44.0 to 48.2";
-// "" when there is none. Shared by the terminal table and the HTML report.
+// An interval as text: "44.0 to 48.2"; "" when there is none. Either each end
+// in the caller's own format, or both ends of a Quantity in one unit with the
+// digits that tell them (and the values beside them) apart (interval_style in
+// format.hpp). Shared by the terminal table and the HTML report.
 #pragma once
 
 #include <optional>
 #include <string>
+#include <vector>
 
+#include "loopaudit/format.hpp"
 #include "loopaudit/record/margins.hpp"
 
 namespace loopaudit::detail {
@@ -18,6 +22,20 @@ std::string interval_text(const std::optional<Interval>& i, Format format) {
 template <typename Format>
 std::string interval_text(const Estimate& e, Format format) {
   return interval_text(e.interval, format);
+}
+
+// The style an estimate and the values printed beside it (a truth) share:
+// from its interval when it has one, else the quantity's usual look.
+inline NumberStyle estimate_style(Quantity quantity, const Estimate& e, std::vector<double> beside = {}) {
+  if (!e.interval) return value_style(quantity, e.value);
+  beside.push_back(e.value);
+  return interval_style(quantity, e.interval->low, e.interval->high, beside);
+}
+
+// Both ends in one style chosen from the interval (no value beside it).
+inline std::string interval_text(const Estimate& e, Quantity quantity) {
+  if (!e.interval) return "";
+  return format_interval(estimate_style(quantity, e), e.interval->low, e.interval->high);
 }
 
 }  // namespace loopaudit::detail

@@ -1,14 +1,15 @@
 #include "loopaudit/report/text_report.hpp"
 
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <initializer_list>
+#include <vector>
+
 #include "loopaudit/format.hpp"
 #include "loopaudit/loop/loop.hpp"
 #include "loopaudit/model/comparison.hpp"
 #include "report/interval_text.hpp"
-
-#include <algorithm>
-#include <cmath>
-#include <cstdio>
-#include <vector>
 
 namespace loopaudit {
 namespace {
@@ -19,6 +20,13 @@ std::string printf_string(const char* format, double value, const char* unit = "
   return buffer;
 }
 
+using detail::estimate_style;
+
+// The text of an estimate's interval in `style`, "" when it has none.
+std::string range(const NumberStyle& style, const Estimate& e) {
+  return e.interval ? format_interval(style, e.interval->low, e.interval->high) : std::string();
+}
+
 struct Row {
   std::string label;
   std::string measured;
@@ -26,51 +34,35 @@ struct Row {
   std::string interval;  // "" when there is none
 };
 
-using detail::interval_text;
-
-std::string deg(double v) { return printf_string("%.1f deg", v); }
-std::string signed_db(double v) { return printf_string("%+.1f dB", v); }
-std::string plain_db(double v) { return std::isfinite(v) ? printf_string("%.1f dB", v) : std::string("unbounded"); }
-std::string ratio(double v) { return printf_string("%.3f", v); }
-std::string hz(double v) { return format_frequency(v); }
-std::string seconds(double v) { return format_time(v); }
-
-// The intervals of one crossing, under its values.
-void write_interval_line(std::ostream& out, double confidence, const std::vector<std::string>& ranges) {
-  if (std::all_of(ranges.begin(), ranges.end(), [](const std::string& r) { return r.empty(); })) return;
-  out << "      " << printf_string("%.0f %%:", 100.0 * confidence);
-  for (const auto& r : ranges) out << "  " << (r.empty() ? std::string("-") : r);
-  out << "\n";
-}
-
 // The summary rows in the order the table shows them, by summary key.
 struct SummaryRow {
   const char* label;
   const char* key;
-  std::string (*format)(double);
-  std::string (*interval_format)(double);
+  Quantity quantity;
 };
-std::string frequency(double v) { return format_frequency(v); }
-std::string deg_value(double v) { return printf_string("%.1f deg", v); }
-std::string sensitivity_db(double v) { return printf_string("%.1f dB", v); }
 constexpr SummaryRow kSummaryRows[] = {
-    {"gain crossover", "gain_crossover_hz", frequency, frequency},
-    {"phase margin", "phase_margin_deg", deg_value, deg_value},
-    {"delay margin", "delay_margin_s", seconds, seconds},
-    {"phase crossover", "phase_crossover_hz", frequency, frequency},
-    {"gain margin", "gain_margin_db", signed_db, signed_db},
-    {"modulus margin", "modulus_margin", ratio, ratio},
-    {"peak sensitivity", "peak_sensitivity_db", sensitivity_db, plain_db},  // an interval end may be unbounded
+    {"gain crossover", "gain_crossover_hz", Quantity::kFrequency},
+    {"phase margin", "phase_margin_deg", Quantity::kAngle},
+    {"delay margin", "delay_margin_s", Quantity::kTime},
+    {"phase crossover", "phase_crossover_hz", Quantity::kFrequency},
+    {"gain margin", "gain_margin_db", Quantity::kSignedGain},
+    {"modulus margin", "modulus_margin", Quantity::kRatio},
+    {"peak sensitivity", "peak_sensitivity_db", Quantity::kGain},  // an interval end may be unbounded
 };
 
+// Each row's value, interval and truth in one style, so that the truth can be
+// placed against the interval by eye.
 std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
   const auto compared = compare_summary(m, t);
   std::vector<Row> rows;
   for (const SummaryRow& r : kSummaryRows) {
     const QuantityComparison& c = comparison_of(compared, r.key);
-    rows.push_back({r.label, c.measured ? r.format(c.measured->value) : "none in band",
-                    c.reference ? r.format(*c.reference) : "none in band",
-                    c.measured ? interval_text(*c.measured, r.interval_format) : ""});
+    std::vector<double> beside;
+    if (c.reference) beside.push_back(*c.reference);
+    const NumberStyle style = c.measured ? estimate_style(r.quantity, *c.measured, beside)
+                                         : value_style(r.quantity, c.reference.value_or(0.0));
+    rows.push_back({r.label, c.measured ? style(c.measured->value) : "none in band",
+                    c.reference ? style(*c.reference) : "none in band", c.measured ? range(style, *c.measured) : ""});
   }
   return rows;
 }
@@ -92,29 +84,130 @@ std::string flags_text(const std::vector<std::string>& flags) {
   return text;
 }
 
-void write_crossings(std::ostream& out, const Margins& m) {
+// The intervals of one crossing, under its values.
+void write_interval_line(std::ostream& out, double confidence, const std::vector<std::string>& ranges) {
+  if (std::all_of(ranges.begin(), ranges.end(), [](const std::string& r) { return r.empty(); })) return;
+  out << "      " << printf_string("%.0f %%:", 100.0 * confidence);
+  for (const auto& r : ranges) out << "  " << (r.empty() ? std::string("-") : r);
+  out << "\n";
+}
+
+// Which entries of a list of `count` the terminal shows: the first
+// kListedCrossovers and the ones named in `always` (those the summary takes).
+std::vector<bool> shown_entries(std::size_t count, const std::vector<std::size_t>& always) {
+  std::vector<bool> shown(count, false);
+  for (std::size_t i = 0; i < count && i < kListedCrossovers; ++i) shown[i] = true;
+  for (std::size_t i : always) {
+    if (i < count) shown[i] = true;
+  }
+  return shown;
+}
+
+// The indices of the entries whose `field` is the summary's `chosen` value:
+// the crossovers the summary takes, which the terminal always shows.
+template <typename T>
+std::vector<std::size_t> chosen_by_summary(const std::vector<T>& items, Estimate T::*field,
+                                           std::initializer_list<std::optional<Estimate>> chosen) {
+  std::vector<std::size_t> found;
+  for (const auto& c : chosen) {
+    if (!c) continue;
+    for (std::size_t i = 0; i < items.size(); ++i) {
+      if ((items[i].*field).value == c->value) found.push_back(i);
+    }
+  }
+  return found;
+}
+
+// Writes the shown entries of a list by `write_entry`, a line for each run
+// of entries left out, and where the whole list is.
+template <typename T, typename WriteEntry>
+void write_capped(std::ostream& out, const std::vector<T>& items, const std::vector<bool>& shown, const char* what,
+                  const char* json_key, const FullLists& lists, WriteEntry write_entry) {
+  std::size_t hidden = 0;
+  for (std::size_t i = 0; i < items.size();) {
+    if (shown[i]) {
+      write_entry(items[i++]);
+      continue;
+    }
+    std::size_t end = i;
+    while (end < items.size() && !shown[end]) ++end;
+    out << "    ... " << (end - i) << " more from " << format_frequency(items[i].frequency_hz.value) << " to "
+        << format_frequency(items[end - 1].frequency_hz.value) << "\n";
+    hidden += end - i;
+    i = end;
+  }
+  if (hidden == 0) return;
+  out << "    " << (items.size() - hidden) << " of " << items.size() << " " << what << " shown; "
+      << (lists.json_path.empty() ? std::string("--json FILE writes them all") : "all are in " + lists.json_path)
+      << " under \"" << json_key << "\"\n";
+}
+
+void write_gain_crossovers(std::ostream& out, const Margins& m, const FullLists& lists) {
   out << "  gain crossovers (|L| = 1)\n";
   if (m.gain_crossovers.empty()) out << "    none in band\n";
-  for (const auto& c : m.gain_crossovers) {
-    char line[160];
-    std::snprintf(line, sizeof line, "    %-12s phase margin %7.1f deg   delay margin %s%s",
-                  format_frequency(c.frequency_hz.value).c_str(), c.phase_margin_deg.value,
-                  format_time(c.delay_margin_s.value).c_str(),
-                  c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
-    out << line << flags_text(c.trust_flags) << "\n";
-    write_interval_line(out, m.confidence, {interval_text(c.frequency_hz, hz), interval_text(c.phase_margin_deg, deg),
-                                            interval_text(c.delay_margin_s, seconds)});
+  const MarginSummary& s = m.summary;
+  std::vector<std::size_t> always =
+      chosen_by_summary(m.gain_crossovers, &GainCrossover::frequency_hz, {s.gain_crossover_hz});
+  for (std::size_t i : chosen_by_summary(m.gain_crossovers, &GainCrossover::delay_margin_s, {s.delay_margin_s})) {
+    always.push_back(i);
   }
+  write_capped(
+      out, m.gain_crossovers, shown_entries(m.gain_crossovers.size(), always), "gain crossovers", "gain_crossovers",
+      lists, [&](const GainCrossover& c) {
+        const NumberStyle f = estimate_style(Quantity::kFrequency, c.frequency_hz);
+        const NumberStyle pm = estimate_style(Quantity::kAngle, c.phase_margin_deg);
+        const NumberStyle dm = estimate_style(Quantity::kTime, c.delay_margin_s);
+        char line[200];
+        std::snprintf(line, sizeof line, "    %-12s phase margin %11s   delay margin %s%s",
+                      f(c.frequency_hz.value).c_str(), pm(c.phase_margin_deg.value).c_str(),
+                      dm(c.delay_margin_s.value).c_str(), c.merged_crossings > 1 ? "   (merged noise crossings)" : "");
+        out << line << flags_text(c.trust_flags) << "\n";
+        write_interval_line(out, m.confidence,
+                            {range(f, c.frequency_hz), range(pm, c.phase_margin_deg), range(dm, c.delay_margin_s)});
+      });
+}
+
+void write_phase_crossovers(std::ostream& out, const Margins& m, const FullLists& lists) {
   out << "  phase crossovers (angle L = -180 deg)\n";
   if (m.phase_crossovers.empty()) out << "    none in band\n";
-  for (const auto& c : m.phase_crossovers) {
-    char line[160];
-    std::snprintf(line, sizeof line, "    %-12s gain margin  %+7.1f dB    limits gain %s",
-                  format_frequency(c.frequency_hz.value).c_str(), c.gain_margin_db.value, direction_name(c.limits));
-    out << line << flags_text(c.trust_flags) << "\n";
-    write_interval_line(out, m.confidence, {interval_text(c.frequency_hz, hz), interval_text(c.gain_margin_db, signed_db)});
-  }
-  out << "\n";
+  const auto& list = m.phase_crossovers;
+  const MarginSummary& s = m.summary;
+  const std::vector<std::size_t> always = chosen_by_summary(
+      list, &PhaseCrossover::gain_margin_db, {s.gain_margin_db, s.gain_increase_margin_db, s.gain_reduction_margin_db});
+  write_capped(out, list, shown_entries(list.size(), always), "phase crossovers", "phase_crossovers", lists,
+               [&](const PhaseCrossover& c) {
+                 const NumberStyle f = estimate_style(Quantity::kFrequency, c.frequency_hz);
+                 const NumberStyle gm = estimate_style(Quantity::kSignedGain, c.gain_margin_db);
+                 char line[200];
+                 std::snprintf(line, sizeof line, "    %-12s gain margin  %10s    limits gain %s",
+                               f(c.frequency_hz.value).c_str(), gm(c.gain_margin_db.value).c_str(),
+                               direction_name(c.limits));
+                 out << line << flags_text(c.trust_flags) << "\n";
+                 write_interval_line(out, m.confidence, {range(f, c.frequency_hz), range(gm, c.gain_margin_db)});
+               });
+}
+
+// The balanced disk margin: the gain change (symmetric in dB) and the phase
+// change the loop tolerates together.
+void write_disk(std::ostream& out, const DiskMargin& d, double confidence) {
+  const NumberStyle alpha = estimate_style(Quantity::kRatio, d.alpha);
+  const NumberStyle gain = estimate_style(Quantity::kGain, d.gain_high_db);
+  const NumberStyle phase = estimate_style(Quantity::kAngle, d.phase_deg);
+  const std::string gain_text = std::isfinite(d.gain_high_db.value)
+                                    ? "a gain change of up to +-" + gain(d.gain_high_db.value)
+                                    : "any gain change";
+  out << "\n  disk margin        alpha " << alpha(d.alpha.value) << ": the loop tolerates " << gain_text
+      << " together with a phase change of up to +-" << phase(d.phase_deg.value) << " (worst at "
+      << format_frequency(d.frequency_hz) << (d.at_band_edge ? ", at the band edge" : "") << ")\n";
+  if (!d.alpha.interval) return;
+  const auto symmetric = [](const NumberStyle& style, const Estimate& e) {
+    if (!e.interval) return std::string("-");
+    const auto end = [&](double v) { return std::isfinite(v) ? "+-" + style(v) : style(v); };
+    return end(e.interval->low) + " to " + end(e.interval->high);
+  };
+  out << printf_string("                     %.0f %%: ", 100.0 * confidence) << "alpha " << range(alpha, d.alpha)
+      << ", gain change " << symmetric(gain, d.gain_high_db) << ", phase change " << symmetric(phase, d.phase_deg)
+      << "\n";
 }
 
 void write_stability(std::ostream& out, const StabilityAssessment& s) {
@@ -127,17 +220,53 @@ void write_stability(std::ostream& out, const StabilityAssessment& s) {
   }
 }
 
+// The findings, at most kListedFindings when the file holds them all: errors
+// first, then warnings, then notes, each in their order, and a line counting
+// the rest by code.
+void write_findings(std::ostream& out, const Diagnostics& findings, const FullLists& lists) {
+  if (findings.empty()) return;
+  out << "\n  findings\n";
+  const bool cap = lists.findings && findings.size() > kListedFindings;
+  std::vector<bool> shown(findings.size(), !cap);
+  std::size_t listed = cap ? 0 : findings.size();
+  for (Severity level : {Severity::kError, Severity::kWarning, Severity::kNote}) {
+    for (std::size_t i = 0; i < findings.size() && listed < kListedFindings; ++i) {
+      if (!shown[i] && findings[i].severity == level) shown[i] = true, ++listed;
+    }
+  }
+  std::vector<std::pair<std::string, std::size_t>> left_out;  // code, count, in order of first appearance
+  for (std::size_t i = 0; i < findings.size(); ++i) {
+    const Diagnostic& d = findings[i];
+    if (shown[i]) {
+      out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
+      continue;
+    }
+    auto it = std::find_if(left_out.begin(), left_out.end(), [&](const auto& e) { return e.first == d.code; });
+    if (it == left_out.end())
+      left_out.emplace_back(d.code, 1);
+    else
+      ++it->second;
+  }
+  if (left_out.empty()) return;
+  out << "    ... " << (findings.size() - listed) << " more (";
+  for (std::size_t i = 0; i < left_out.size(); ++i)
+    out << (i ? ", " : "") << left_out[i].second << " " << left_out[i].first;
+  out << "); "
+      << (lists.json_path.empty() ? std::string("--json FILE writes them all") : "all are in " + lists.json_path)
+      << " under \"diagnostics\"\n";
+}
+
 }  // namespace
 
 std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisResult& r) {
   std::vector<std::pair<std::string, std::string>> lines;
   if (r.record) {
     const auto& rec = *r.record;
-    lines.emplace_back("recording", std::to_string(rec.sample_count) + " samples at " +
-                                        format_frequency(rec.sample_rate_hz) + " (" +
-                                        format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) +
-                                        "); z = " + rec.roles.injection + ", x = " + rec.roles.x + ", y = " + rec.roles.y +
-                                        (rec.layout.empty() ? "" : "; read as " + rec.layout));
+    lines.emplace_back("recording",
+                       std::to_string(rec.sample_count) + " samples at " + format_frequency(rec.sample_rate_hz) + " (" +
+                           format_time(static_cast<double>(rec.sample_count) / rec.sample_rate_hz) +
+                           "); z = " + rec.roles.injection + ", x = " + rec.roles.x + ", y = " + rec.roles.y +
+                            (rec.layout.empty() ? "" : "; read as " + rec.layout));
     if (r.excitation) {
       lines.emplace_back("excitation", r.excitation->describe(rec.sample_rate_hz));
     } else if (r.excitation_kind) {
@@ -159,20 +288,22 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
       break;
     }
     case ResponseMethodKind::kPeriodic:
-      lines.emplace_back("estimate", "spectra of whole periods averaged (" + averaged + " periods), Y/X at the excited lines");
+      lines.emplace_back("estimate",
+                         "spectra of whole periods averaged (" + averaged + " periods), Y/X at the excited lines");
       break;
     case ResponseMethodKind::kSteppedSine:
-      lines.emplace_back("estimate", "IEEE 1057 sine fits, one line per dwell (" + averaged + " dwells), Y/X of the phasors");
+      lines.emplace_back("estimate",
+                         "IEEE 1057 sine fits, one line per dwell (" + averaged + " dwells), Y/X of the phasors");
       break;
-    case ResponseMethodKind::kTable: break;
+    case ResponseMethodKind::kTable:
+      break;
   }
   const std::size_t count = r.margins.line_count;
-  lines.emplace_back("loop", std::string(convention_formula(r.loop.convention)) + " (" +
-                                 convention_name(r.loop.convention) + "), " +
-                                 (count == 1 ? "1 line at " + format_frequency(r.margins.band_low_hz)
-                                             : std::to_string(count) + " lines from " +
-                                                   format_frequency(r.margins.band_low_hz) + " to " +
-                                                   format_frequency(r.margins.band_high_hz)));
+  lines.emplace_back(
+      "loop", std::string(convention_formula(r.loop.convention)) + " (" + convention_name(r.loop.convention) + "), " +
+                  (count == 1 ? "1 line at " + format_frequency(r.margins.band_low_hz)
+                              : std::to_string(count) + " lines from " + format_frequency(r.margins.band_low_hz) +
+                                    " to " + format_frequency(r.margins.band_high_hz)));
   return lines;
 }
 
@@ -183,49 +314,40 @@ void write_possible(std::ostream& out, const MarginSummary& summary) {
     const std::string key = p.key;
     const bool phase = key == "phase_margin_deg";
     const std::string what = phase ? "phase margin" : key == "gain_reduction_margin_db" ? "gain reduction" : "gain increase";
-    const std::string range = phase ? deg_value(p.range.low) + " to " + deg_value(p.range.high)
-                                    : signed_db(p.range.low) + " to " + signed_db(p.range.high);
+    const std::string range = phase ? format_fixed(p.range.low, 1) + " deg to " + format_fixed(p.range.high, 1) + " deg"
+                                    : format_signed(p.range.low, 1) + " dB to " + format_signed(p.range.high, 1) + " dB";
     out << "  may also lie       a " << what << (phase ? "" : " margin") << " of " << range << " from " << format_frequency(p.low_hz) << " to "
         << format_frequency(p.high_hz) << ", where " << (phase ? "gain" : "phase") << " crossings are unresolved\n";
   }
 }
 
 void write_text_report(std::ostream& out, const AnalysisResult& result, const std::optional<MarginSummary>& truth,
-                       const std::string& value_heading) {
+                       const std::string& value_heading, const FullLists& lists) {
   write_method(out, result);
-  write_crossings(out, result.margins);
+  write_gain_crossovers(out, result.margins, lists);
+  write_phase_crossovers(out, result.margins, lists);
+  out << "\n";
   const auto rows = summary_rows(result.margins.summary, truth.value_or(MarginSummary{}));
   char line[200];
   const bool intervals = std::any_of(rows.begin(), rows.end(), [](const Row& r) { return !r.interval.empty(); });
   const std::string interval_heading =
       intervals ? printf_string("%.0f %% interval", 100.0 * result.margins.confidence) : std::string();
-  std::snprintf(line, sizeof line, "  %-18s %-16s%-28s%s\n", "summary", value_heading.c_str(),
-                interval_heading.c_str(), truth ? "truth" : "");
-  out << line;
-  for (const Row& row : rows) {
-    std::snprintf(line, sizeof line, "  %-18s %-16s%-28s%s\n", row.label.c_str(), row.measured.c_str(),
-                  row.interval.c_str(), truth ? row.truth.c_str() : "");
-    out << line;
-  }
+  int interval_width = 28;  // wider when an interval needs it
+  for (const Row& row : rows) interval_width = std::max(interval_width, static_cast<int>(row.interval.size()) + 2);
+  const auto write_row = [&](const std::string& label, const std::string& value, const std::string& interval,
+                             const std::string& third) {
+    std::snprintf(line, sizeof line, "  %-18s %-16s%-*s%s", label.c_str(), value.c_str(), interval_width,
+                  interval.c_str(), third.c_str());
+    std::string text = line;
+    text.erase(text.find_last_not_of(' ') + 1);
+    out << text << "\n";
+  };
+  write_row("summary", value_heading, interval_heading, truth ? "truth" : "");
+  for (const Row& row : rows) write_row(row.label, row.measured, row.interval, truth ? row.truth : "");
   write_possible(out, result.margins.summary);
-  if (const auto& d = result.margins.disk) {
-    out << "\n  disk margin        alpha " << printf_string("%.3f", d->alpha.value) << ": the loop tolerates gain "
-        << (std::isfinite(d->gain_low_db) ? printf_string("%+.1f dB", d->gain_low_db) : std::string("down to 0"))
-        << " to " << (std::isfinite(d->gain_high_db.value) ? printf_string("%+.1f dB", d->gain_high_db.value)
-                                                  : std::string("unbounded"))
-        << " together with phase +-" << printf_string("%.1f deg", d->phase_deg.value) << " (worst at "
-        << format_frequency(d->frequency_hz) << (d->at_band_edge ? ", at the band edge" : "") << ")\n";
-    if (d->alpha.interval) {
-      out << printf_string("                     %.0f %%: ", 100.0 * result.margins.confidence) << "alpha "
-          << interval_text(d->alpha, ratio) << ", gain +-" << interval_text(d->gain_high_db, plain_db) << ", phase +-"
-          << interval_text(d->phase_deg, deg) << "\n";
-    }
-  }
+  if (result.margins.disk) write_disk(out, *result.margins.disk, result.margins.confidence);
   write_stability(out, result.margins.stability);
-  if (!result.findings.empty()) out << "\n  findings\n";
-  for (const auto& d : result.findings) {
-    out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
-  }
+  write_findings(out, result.findings, lists);
 }
 
 void write_inspection(std::ostream& out, const Inspection& i) {
@@ -244,7 +366,8 @@ void write_inspection(std::ostream& out, const Inspection& i) {
     out << "\n";
   }
   if (!i.findings.empty()) out << "\n  findings\n";
-  for (const auto& d : i.findings) out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
+  for (const auto& d : i.findings)
+    out << "    " << severity_name(d.severity) << " [" << d.code << "] " << d.message << "\n";
 }
 
 }  // namespace loopaudit
