@@ -4,6 +4,8 @@
 #include <cmath>
 #include <cstdio>
 #include <map>
+#include <set>
+#include <utility>
 
 namespace loopaudit::svg {
 namespace {
@@ -117,8 +119,8 @@ std::string escape(const std::string& text) {
   return out;
 }
 
-Canvas::Canvas(double width, double height, std::string title)
-    : width_(width), height_(height), title_(std::move(title)) {}
+Canvas::Canvas(double width, double height, std::string title, std::string id_prefix)
+    : width_(width), height_(height), title_(std::move(title)), id_prefix_(std::move(id_prefix)) {}
 
 void Canvas::line(Point a, Point b, const Stroke& stroke) {
   if (!finite(a) || !finite(b)) return;
@@ -148,6 +150,17 @@ void Canvas::path(const std::vector<Point>& points, const Stroke& stroke) {
     ++run;
   }
   flush();
+}
+
+void Canvas::dots(const std::vector<Point>& points, const Stroke& stroke) {
+  std::set<std::pair<long, long>> taken;
+  std::string d;
+  for (const Point& p : points) {
+    if (!finite(p) || !taken.insert({std::lround(p.x), std::lround(p.y)}).second) continue;
+    d += 'M' + number(p.x) + ',' + number(p.y) + "h0";
+  }
+  if (d.empty()) return;
+  body_ << "<path fill=\"none\" stroke-linecap=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
 }
 
 void Canvas::polygon(const std::vector<Point>& points, const std::string& fill, double opacity) {
@@ -185,7 +198,7 @@ void Canvas::text(Point at, const std::string& content, const Text& style) {
 }
 
 void Canvas::begin_clip(double x, double y, double width, double height) {
-  const std::string id = "clip" + std::to_string(++clips_);
+  const std::string id = escape(id_prefix_) + "-clip" + std::to_string(++clips_);
   body_ << "<clipPath id=\"" << id << "\"><rect x=\"" << number(x) << "\" y=\"" << number(y) << "\" width=\""
         << number(width) << "\" height=\"" << number(height) << "\"/></clipPath>\n<g clip-path=\"url(#" << id
         << ")\">\n";
