@@ -99,7 +99,7 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
     const Point at = p.at(at_hz, peak.value);
     canvas.line({at.x, at.y - 12.0}, {at.x, p.bottom()}, kMarkerLine);
     canvas.polygon({{at.x, at.y - 3.0}, {at.x - 5.5, at.y - 12.5}, {at.x + 5.5, at.y - 12.5}}, kMarker, 1.0);
-    side_label(canvas, p, at.x + 4.0, at.y - 4.0,
+    side_label(canvas, p, at.x, at.y - 4.0,
                "peak " + fixed(peak.value, 1) + " dB" + interval_suffix(peak.interval, one_decimal) + " at " +
                    format_frequency(at_hz) +
                    (m->at_band_edge ? " (band edge)" : ""));

@@ -252,10 +252,11 @@ Text marker_text(const std::string& anchor) {
   return t;
 }
 
-// A label beside a vertical marker line, on the side with room.
+// A label beside a vertical marker line, on the side with room, clear of a
+// mark up to 6 px either side of the line.
 void side_label(Canvas& canvas, const Panel& p, double x, double y, const std::string& content) {
-  const bool room_right = x + 8.0 + 7.0 * static_cast<double>(content.size()) < p.right();
-  canvas.text({room_right ? x + 6.0 : x - 6.0, y}, content, marker_text(room_right ? "start" : "end"));
+  const bool room_right = x + 11.0 + 7.0 * static_cast<double>(content.size()) < p.right();
+  canvas.text({room_right ? x + 9.0 : x - 9.0, y}, content, marker_text(room_right ? "start" : "end"));
 }
 
 }  // namespace plotting
