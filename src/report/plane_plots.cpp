@@ -35,7 +35,8 @@ std::vector<Point> in_view(const Panel& p, const std::vector<Point>& points) {
 // Runs of reliable lines in the complex plane, broken at non-finite points.
 std::vector<Point> trusted_runs(const std::vector<Point>& points, const std::vector<bool>& reliable) {
   std::vector<Point> out;
-  for (const auto& [first, last] : reliable_runs(reliable, [](std::size_t, std::size_t) { return true; })) {
+  const auto bridges = [](std::size_t a, std::size_t b) { return b - a - 1 <= kMostBridgedLines; };
+  for (const auto& [first, last] : reliable_runs(reliable, bridges)) {
     for (std::size_t k = first; k <= last; ++k) {
       if (reliable[k]) out.push_back(points[k]);
     }

@@ -76,8 +76,9 @@ struct Drawable {
 std::vector<bool> reliable_lines(const std::vector<double>& sigma, double most_sigma);
 Drawable drawable(const Response& r, double most_trusted_sigma);
 // Runs of reliable lines, as [first, last] index pairs: adjacent reliable
-// lines always join; a run goes on across at most two noisy lines when
+// lines always join; a run goes on across noisy lines when
 // `bridges(last reliable, next reliable)` allows.
+inline constexpr std::size_t kMostBridgedLines = 2;  // across this many noisy lines at most, unless unseen
 std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
     const std::vector<bool>& reliable, const std::function<bool(std::size_t, std::size_t)>& bridges);
 std::vector<double> unwrapped_phase_deg(const Drawable& d);

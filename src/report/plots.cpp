@@ -56,7 +56,7 @@ std::string interval_suffix(const std::optional<Interval>& i, std::string (*form
 namespace {
 constexpr std::size_t kSigmaMedianHalfWidth = 2;  // the line and two on each side
 constexpr double kMostBridgedPixels = 6.0;
-constexpr std::size_t kMostBridgedLines = 2;
+constexpr double kUnseenPixels = 1.5;
 constexpr std::size_t kMostDottedLines = 80;
 }  // namespace
 
@@ -162,7 +162,7 @@ std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
   std::optional<std::size_t> last;
   for (std::size_t k = 0; k < reliable.size(); ++k) {
     if (!reliable[k]) continue;
-    if (last && (*last + 1 == k || (k - *last - 1 <= kMostBridgedLines && bridges(*last, k)))) {
+    if (last && (*last + 1 == k || bridges(*last, k))) {
       runs.back().second = k;
     } else {
       runs.push_back({k, k});
@@ -173,18 +173,23 @@ std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
 }
 
 namespace {
-// Against frequency, a run also stops where the noisy lines it would cross
-// leave a gap wider than kMostBridgedPixels.
+// Against frequency, a run goes on across the noisy lines reliable_runs
+// allows only while they span at most kMostBridgedPixels, and across any
+// number of them that span at most kUnseenPixels (a gap no eye would see).
 std::vector<std::pair<std::size_t, std::size_t>> frequency_runs(const Panel& p, const std::vector<double>& f,
                                                                 const std::vector<bool>& reliable) {
-  return reliable_runs(reliable, [&](std::size_t a, std::size_t b) { return p.x(f[b]) - p.x(f[a]) <= kMostBridgedPixels; });
+  return reliable_runs(reliable, [&](std::size_t a, std::size_t b) {
+    const double gap = p.x(f[b]) - p.x(f[a]);
+    return gap <= kUnseenPixels || (b - a - 1 <= kMostBridgedLines && gap <= kMostBridgedPixels);
+  });
 }
 }  // namespace
 
-// The interval band of a curve over the reliable lines, one polygon a run.
+// The interval band of a curve over the reliable lines, one area a run.
 void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
                const std::vector<double>& half_width, const std::vector<bool>& reliable) {
   const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
+  std::vector<Point> bands;
   for (const auto& [first, last] : frequency_runs(p, f, reliable)) {
     std::vector<Point> upper, lower;
     for (std::size_t k = first; k <= last; ++k) {
@@ -193,11 +198,13 @@ void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, con
       lower.push_back(p.at(f[k], std::clamp(values[k] - half_width[k], far_low, far_high)));
     }
     if (upper.size() < 2) continue;
-    std::vector<Point> band = svg::thin(upper);
+    const auto high_side = svg::thin(upper);
     const auto low_side = svg::thin(lower);
-    band.insert(band.end(), low_side.rbegin(), low_side.rend());
-    canvas.polygon(band, kCurve, 0.2);
+    bands.insert(bands.end(), high_side.begin(), high_side.end());
+    bands.insert(bands.end(), low_side.rbegin(), low_side.rend());
+    bands.push_back({NAN, NAN});
   }
+  canvas.areas(bands, kCurve, 0.2);
 }
 
 // The curve: the reliable lines solid (through a noisy line or two, broken

@@ -129,13 +129,11 @@ void Canvas::line(Point a, Point b, const Stroke& stroke) {
 }
 
 void Canvas::path(const std::vector<Point>& points, const Stroke& stroke) {
-  std::string d;
+  std::string d, run_d;
   std::size_t run = 0;
   const auto flush = [&] {
-    if (run >= 2) {
-      body_ << "<path fill=\"none\" stroke-linejoin=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
-    }
-    d.clear();
+    if (run >= 2) d += run_d;
+    run_d.clear();
     run = 0;
   };
   for (const Point& p : points) {
@@ -143,13 +141,15 @@ void Canvas::path(const std::vector<Point>& points, const Stroke& stroke) {
       flush();
       continue;
     }
-    d += run == 0 ? 'M' : 'L';
-    d += number(p.x);
-    d += ',';
-    d += number(p.y);
+    run_d += run == 0 ? 'M' : 'L';
+    run_d += number(p.x);
+    run_d += ',';
+    run_d += number(p.y);
     ++run;
   }
   flush();
+  if (d.empty()) return;
+  body_ << "<path fill=\"none\" stroke-linejoin=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
 }
 
 void Canvas::dots(const std::vector<Point>& points, const Stroke& stroke) {
@@ -172,6 +172,23 @@ void Canvas::polygon(const std::vector<Point>& points, const std::string& fill, 
   if (list.empty()) return;
   body_ << "<polygon fill=\"" << fill << "\" fill-opacity=\"" << opacity << "\" stroke=\"none\" points=\"" << list
         << "\"/>\n";
+}
+
+void Canvas::areas(const std::vector<Point>& outlines, const std::string& fill, double opacity) {
+  std::string d;
+  bool open = false;
+  for (const Point& p : outlines) {
+    if (!finite(p)) {
+      if (open) d += 'Z';
+      open = false;
+      continue;
+    }
+    d += (open ? 'L' : 'M') + number(p.x) + ',' + number(p.y);
+    open = true;
+  }
+  if (open) d += 'Z';
+  if (d.empty()) return;
+  body_ << "<path fill=\"" << fill << "\" fill-opacity=\"" << opacity << "\" stroke=\"none\" d=\"" << d << "\"/>\n";
 }
 
 void Canvas::circle(Point centre, double radius, const Stroke& stroke, const std::string& fill) {
