@@ -143,8 +143,10 @@ void bode_notes(const Drawable& d, const BodeView& view, Plot& plot) {
     }
   }
   if (std::find(d.reliable.begin(), d.reliable.end(), false) != d.reliable.end()) {
-    plot.notes.push_back("Faint parts of the curve are lines too noisy to trust (relative standard deviation above " +
-                         fixed(kMostTrustedSigma, 1) + "); they do not set the axes.");
+    plot.notes.push_back("Faint dots are lines too noisy to trust: relative standard deviation above " +
+                         fixed(d.most_trusted_sigma, 2) +
+                         " (the most a crossing is placed among), on the line or on most of the five around it. They "
+                         "do not set the axes and the curve is not drawn through them.");
   }
   if (view.marked && view.marks.gain_crossovers.empty()) {
     plot.notes.push_back("No gain crossover in the band: no phase margin to mark.");
@@ -161,7 +163,7 @@ Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view)
   const std::vector<CrossoverMark> marks =
       view.marked && !d.f.empty() ? crossover_marks(view.marks) : std::vector<CrossoverMark>{};
   const BodeLayout layout = bode_layout(marks);
-  Canvas canvas(kWidth, layout.height, view.title);
+  Canvas canvas(kWidth, layout.height, view.title, plot.name);
   canvas.text({kLeft, 24.0}, view.title, {14.0, "start", kInk, true});
   BodePanes panes = bode_panes(frequency_scale(d.f));
   if (d.f.empty()) {

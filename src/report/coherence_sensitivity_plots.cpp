@@ -22,7 +22,7 @@ constexpr double kCoherenceThreshold = 0.5;  // as the low-coherence finding use
 
 Plot coherence(const Drawable& d) {
   Plot plot{"coherence", "Coherence of each line, with the threshold below which lines are reported as uncertain", "", {}};
-  Canvas canvas(kWidth, 330.0, "Coherence against frequency");
+  Canvas canvas(kWidth, 330.0, "Coherence against frequency", plot.name);
   canvas.text({kLeft, 24.0}, "Coherence of the measurement", {14.0, "start", kInk, true});
   const svg::Scale fx = frequency_scale(d.f);
   Panel p{kLeft, 44.0, kPlotWidth, 220.0, fx, {0.0, 1.0, 264.0, 44.0}};
@@ -47,7 +47,7 @@ Plot coherence(const Drawable& d) {
 Plot dwell_snr(const Drawable& d) {
   Plot plot{"coherence", "Signal-to-noise ratio of each dwell's sine fit (the worse of x and y), with the 0 dB level "
                          "that corresponds to coherence 0.5", "", {}};
-  Canvas canvas(kWidth, 330.0, "Signal-to-noise ratio of each dwell against frequency");
+  Canvas canvas(kWidth, 330.0, "Signal-to-noise ratio of each dwell against frequency", plot.name);
   canvas.text({kLeft, 24.0}, "Signal-to-noise ratio of each dwell", {14.0, "start", kInk, true});
   const svg::Scale fx = frequency_scale(d.f);
   const std::vector<double>& snr_db = d.snr_db;
@@ -66,7 +66,7 @@ Plot dwell_snr(const Drawable& d) {
 
 Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
   Plot plot{"sensitivity", "Sensitivity |S| = |1/(1 + L)| with its peak, the inverse of the modulus margin", "", {}};
-  Canvas canvas(kWidth, 330.0, "Sensitivity magnitude against frequency");
+  Canvas canvas(kWidth, 330.0, "Sensitivity magnitude against frequency", plot.name);
   canvas.text({kLeft, 24.0}, "Sensitivity |S| = |1 / (1 + L)|", {14.0, "start", kInk, true});
   const svg::Scale fx = frequency_scale(d.f);
   Panel p{kLeft, 44.0, kPlotWidth, 220.0, fx, {}};
@@ -99,7 +99,7 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
     const Point at = p.at(at_hz, peak.value);
     canvas.line({at.x, at.y - 12.0}, {at.x, p.bottom()}, kMarkerLine);
     canvas.polygon({{at.x, at.y - 3.0}, {at.x - 5.5, at.y - 12.5}, {at.x + 5.5, at.y - 12.5}}, kMarker, 1.0);
-    side_label(canvas, p, at.x + 4.0, at.y - 4.0,
+    side_label(canvas, p, at.x, at.y - 4.0,
                "peak " + fixed(peak.value, 1) + " dB" + interval_suffix(peak.interval, one_decimal) + " at " +
                    format_frequency(at_hz) +
                    (m->at_band_edge ? " (band edge)" : ""));

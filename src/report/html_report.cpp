@@ -2,7 +2,10 @@
 
 #include <cmath>
 #include <cstdio>
+#include <optional>
 #include <sstream>
+#include <string>
+#include <vector>
 
 #include "loopaudit/format.hpp"
 #include "loopaudit/model/comparison.hpp"
@@ -60,10 +63,15 @@ std::string hz(double v) { return format_frequency(v); }
 std::string seconds(double v) { return format_time(v); }
 std::string ratio(double v) { return fixed(v, 3); }
 
-void tile(std::ostream& out, const std::string& what, const std::string& value, const std::string& range_text,
-          const std::string& extra_class = "") {
+// A tile: what, its value, and under it a line each for its interval and any detail ("" lines are left out).
+void tile(std::ostream& out, const std::string& what, const std::string& value,
+          const std::vector<std::string>& details, const std::string& extra_class = "") {
   out << "<div class=\"tile " << extra_class << "\"><div class=\"what\">" << escape(what) << "</div><div class=\"value\">"
-      << escape(value) << "</div><div class=\"range\">" << escape(range_text) << "</div></div>\n";
+      << escape(value) << "</div>";
+  for (const auto& line : details) {
+    if (!line.empty()) out << "<div class=\"range\">" << escape(line) << "</div>";
+  }
+  out << "</div>\n";
 }
 
 void write_glance(std::ostream& out, const AnalysisResult& r) {
@@ -72,8 +80,8 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
   const std::string level = fixed(100.0 * r.margins.confidence, 0) + " %: ";
   out << "<section><div class=\"glance\">\n";
   tile(out, "stability (Nyquist, over the band)", verdict_name(st.verdict),
-       st.closed_loop_rhp_poles ? std::to_string(*st.closed_loop_rhp_poles) + " closed-loop RHP poles counted"
-                                : "see the reason below",
+       {st.closed_loop_rhp_poles ? std::to_string(*st.closed_loop_rhp_poles) + " closed-loop RHP poles counted"
+                                 : "see the reason below"},
        verdict_name(st.verdict));
   const auto value = [](const std::optional<Estimate>& e, std::string (*format)(double), const char* none) {
     return e ? format(e->value) : std::string(none);
@@ -81,14 +89,18 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
   const auto range = [&](const std::optional<Estimate>& e, std::string (*format)(double)) {
     return e && e->interval ? level + interval_text(*e, format) : std::string();
   };
-  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, deg, "none in band"), range(s.phase_margin_deg, deg));
-  tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"), range(s.gain_margin_db, db));
-  tile(out, "gain crossover", value(s.gain_crossover_hz, hz, "none in band"), range(s.gain_crossover_hz, hz));
+  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, deg, "none in band"), {range(s.phase_margin_deg, deg)});
+  tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"), {range(s.gain_margin_db, db)});
+  tile(out, "gain crossover", value(s.gain_crossover_hz, hz, "none in band"), {range(s.gain_crossover_hz, hz)});
+  const auto& mm = s.modulus_margin;
   tile(out, "peak sensitivity", value(s.peak_sensitivity_db, plain_db, "none"),
-       s.modulus_margin ? "modulus margin " + ratio(s.modulus_margin->value) : "");
+       {range(s.peak_sensitivity_db, plain_db),
+        mm ? "modulus margin " + ratio(mm->value) : ""});
   const auto& d = r.margins.disk;
+  const std::optional<Estimate> alpha = d ? std::optional(d->alpha) : std::nullopt;
   tile(out, "disk margin (balanced)", d ? "α " + ratio(d->alpha.value) : "none",
-       d ? "gain ±" + plain_db(d->gain_high_db.value) + ", phase ±" + deg(d->phase_deg.value) : "");
+       {alpha && alpha->interval ? level + "α " + interval_text(*alpha, ratio) : "",
+        d ? "gain ±" + plain_db(d->gain_high_db.value) + ", phase ±" + deg(d->phase_deg.value) : ""});
   out << "</div></section>\n";
 }
 

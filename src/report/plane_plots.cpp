@@ -32,16 +32,33 @@ std::vector<Point> in_view(const Panel& p, const std::vector<Point>& points) {
   return out;
 }
 
-// L in the complex plane: every line faint, the reliable ones solid.
+// Runs of reliable lines in the complex plane, broken at non-finite points.
+std::vector<Point> trusted_runs(const std::vector<Point>& points, const std::vector<bool>& reliable) {
+  std::vector<Point> out;
+  const auto bridges = [](std::size_t a, std::size_t b) { return b - a - 1 <= kMostBridgedLines; };
+  for (const auto& [first, last] : reliable_runs(reliable, bridges)) {
+    for (std::size_t k = first; k <= last; ++k) {
+      if (reliable[k]) out.push_back(points[k]);
+    }
+    out.push_back({NAN, NAN});
+  }
+  return out;
+}
+
+// L in the complex plane: the reliable lines solid, each noisy one a faint dot.
 void draw_plane_curve(Canvas& canvas, const Panel& p, const std::vector<Point>& points,
                       const std::vector<bool>& reliable) {
-  std::vector<Point> trusted;
+  std::vector<Point> noisy;
   for (std::size_t k = 0; k < points.size(); ++k) {
-    if (reliable[k]) trusted.push_back(points[k]);
+    const Point& q = points[k];
+    if (!reliable[k] && q.x > p.left - 2.0 && q.x < p.right() + 2.0 && q.y > p.top - 2.0 && q.y < p.bottom() + 2.0) {
+      noisy.push_back(q);
+    }
   }
-  if (trusted.size() < points.size()) canvas.path(svg::thin_path(in_view(p, points), 1.5), {kCurve, 1.0, "", 0.35});
-  canvas.path(svg::thin_path(in_view(p, trusted)), kCurveStroke);
+  canvas.dots(noisy, kNoiseDots);
+  canvas.path(svg::thin_path(in_view(p, trusted_runs(points, reliable))), kCurveStroke);
 }
+
 struct ComplexView {
   double re_low, re_high, im_low, im_high;
 };
@@ -103,7 +120,7 @@ void critical_point(Canvas& canvas, Point critical, double arm, double label_dx,
 
 Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
   Plot plot{"nyquist-near", "L in the complex plane around the critical point -1", "", {}};
-  Canvas canvas(560.0, 560.0, "Loop gain L in the complex plane, near -1");
+  Canvas canvas(560.0, 560.0, "Loop gain L in the complex plane, near -1", plot.name);
   canvas.text({kLeft, 24.0}, "L in the complex plane, near -1", {14.0, "start", kInk, true});
   const Panel p = square_panel({-2.5, 1.0, -1.75, 1.75}, 44.0, 440.0);
   const auto ticks = [](double low, double high) { return svg::linear_ticks(low, high, 7, tick_number); };
@@ -140,11 +157,14 @@ Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
 
 Plot nyquist_whole(const Drawable& d) {
   Plot plot{"nyquist-whole", "L over the whole band, radius drawn as log10(1 + |L|) so that every decade shows", "", {}};
-  Canvas canvas(560.0, 560.0, "Loop gain L in the complex plane, whole band");
+  Canvas canvas(560.0, 560.0, "Loop gain L in the complex plane, whole band", plot.name);
   canvas.text({kLeft, 24.0}, "L over the whole band (radius compressed)", {14.0, "start", kInk, true});
   const auto squash = [](std::complex<double> v) { return std::polar(std::log10(1.0 + std::abs(v)), std::arg(v)); };
   double reach = std::log10(2.0) * 1.3;
-  for (const auto& v : d.value) reach = std::max(reach, std::abs(squash(v)) * 1.05);
+  const bool any_reliable = std::find(d.reliable.begin(), d.reliable.end(), true) != d.reliable.end();
+  for (std::size_t k = 0; k < d.value.size(); ++k) {
+    if (d.reliable[k] || !any_reliable) reach = std::max(reach, std::abs(squash(d.value[k])) * 1.05);
+  }
   const Panel p = square_panel({-reach, reach, -reach, reach}, 44.0, 440.0);
   canvas.rect(p.left, p.top, p.width, p.height, {kInk, 1.0}, "none");
   canvas.begin_clip(p.left, p.top, p.width, p.height);
@@ -164,7 +184,7 @@ Plot nyquist_whole(const Drawable& d) {
     points.push_back(p.at(s.real(), s.imag()));
     mirror.push_back(p.at(s.real(), -s.imag()));
   }
-  canvas.path(svg::thin_path(in_view(p, mirror), 1.5), {kCurve, 1.0, "3 3", 0.5});
+  canvas.path(svg::thin_path(in_view(p, trusted_runs(mirror, d.reliable)), 1.5), {kCurve, 1.0, "3 3", 0.5});
   draw_plane_curve(canvas, p, points, d.reliable);
   canvas.end_clip();
   decade_marks(canvas, p, d, points);

@@ -7,6 +7,7 @@
 
 #include <complex>
 #include <cstddef>
+#include <functional>
 #include <optional>
 #include <string>
 #include <utility>
@@ -26,13 +27,13 @@ extern const char* const kModulus;
 extern const char* const kInk;
 extern const char* const kPaper;
 extern const svg::Stroke kCurveStroke;
+extern const svg::Stroke kNoiseDots;
 extern const svg::Stroke kReferenceStroke;
 extern const svg::Stroke kMarkerLine;
 extern const double kLeft;
 extern const double kPlotWidth;
 extern const double kWidth;
 extern const double kMostDecibels;
-extern const double kMostTrustedSigma;
 
 // ---- numbers as the plots write them
 std::string fixed(double v, int digits);
@@ -64,11 +65,22 @@ struct Drawable {
   std::vector<double> sigma;      // relative; 0 when unknown
   std::vector<double> coherence;  // may be empty
   std::vector<double> snr_db;     // a stepped sine's; may be empty
-  std::vector<bool> reliable;     // relative sigma at most kMostTrustedSigma (or unknown)
+  std::vector<bool> reliable;     // see reliable_lines
+  double most_trusted_sigma = 0.0;
   std::size_t left_out = 0;
 };
 
-Drawable drawable(const Response& r);
+// Reliable: the line's relative sigma and the median of its own and its
+// four nearest neighbours' are at most `most_sigma` (an unknown sigma, 0,
+// counts as reliable). Only reliable lines set axes, bands and solid curves.
+std::vector<bool> reliable_lines(const std::vector<double>& sigma, double most_sigma);
+Drawable drawable(const Response& r, double most_trusted_sigma);
+// Runs of reliable lines, as [first, last] index pairs: adjacent reliable
+// lines always join; a run goes on across noisy lines when
+// `bridges(last reliable, next reliable)` allows.
+inline constexpr std::size_t kMostBridgedLines = 2;  // across this many noisy lines at most, unless unseen
+std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
+    const std::vector<bool>& reliable, const std::function<bool(std::size_t, std::size_t)>& bridges);
 std::vector<double> unwrapped_phase_deg(const Drawable& d);
 void place_phase_branch(std::vector<double>& phase, const Drawable& d, const Margins& margins);
 std::pair<double, double> value_range(const std::vector<double>& values, const std::vector<bool>& reliable);

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <complex>
+#include <functional>
 #include <optional>
 
 #include "loopaudit/format.hpp"
@@ -31,15 +32,13 @@ const char* const kModulus = "#6d3fb5";
 const char* const kInk = "#222831";
 const char* const kPaper = "#ffffff";  // the background: hollow marks, and the id on a filled tag
 const Stroke kCurveStroke{kCurve, 1.6};
+const Stroke kNoiseDots{kCurve, 1.8, "", 0.3};  // a line too noisy to trust: a faint dot, no line to it
 const Stroke kReferenceStroke{kReference, 1.0, "6 4"};
 const Stroke kMarkerLine{kMarker, 1.2, "2 3"};
 const double kLeft = 78.0;
 const double kPlotWidth = 640.0;
 const double kWidth = 760.0;
 const double kMostDecibels = 160.0;  // span of a magnitude axis; lower lines are clipped and said so
-// Lines whose relative sigma (nepers, rad) exceeds this are drawn faint and
-// do not set the axes: their phase is noise, as the Nyquist count treats them.
-const double kMostTrustedSigma = StabilityOptions{}.max_relative_sigma;
 
 std::string fixed(double v, int digits) { return format_fixed(v, digits); }
 std::string signed_db(double v) { return format_signed(v, 1) + " dB"; }
@@ -54,8 +53,33 @@ std::string interval_suffix(const std::optional<Interval>& i, std::string (*form
 }
 
 
-Drawable drawable(const Response& r) {
+namespace {
+constexpr std::size_t kSigmaMedianHalfWidth = 2;  // the line and two on each side
+constexpr double kMostBridgedPixels = 6.0;
+constexpr double kUnseenPixels = 1.5;
+constexpr std::size_t kMostDottedLines = 80;
+}  // namespace
+
+// A line is reliable when its relative sigma, and the median sigma of the
+// five lines around it, are at most `most_sigma`: where the coherence is low
+// the sigma estimate is itself noisy, and a line that looks quiet among noisy
+// neighbours is luck, not signal.
+std::vector<bool> reliable_lines(const std::vector<double>& sigma, double most_sigma) {
+  std::vector<bool> out;
+  for (std::size_t k = 0; k < sigma.size(); ++k) {
+    const std::size_t first = k > kSigmaMedianHalfWidth ? k - kSigmaMedianHalfWidth : 0;
+    const std::size_t end = std::min(sigma.size(), k + kSigmaMedianHalfWidth + 1);
+    std::vector<double> around(sigma.begin() + static_cast<std::ptrdiff_t>(first),
+                               sigma.begin() + static_cast<std::ptrdiff_t>(end));
+    std::nth_element(around.begin(), around.begin() + static_cast<std::ptrdiff_t>(around.size() / 2), around.end());
+    out.push_back(!(sigma[k] > most_sigma) && !(around[around.size() / 2] > most_sigma));
+  }
+  return out;
+}
+
+Drawable drawable(const Response& r, double most_trusted_sigma) {
   Drawable d;
+  d.most_trusted_sigma = most_trusted_sigma;
   for (std::size_t k = 0; k < r.size(); ++k) {
     const auto v = r.value[k];
     if (!(r.frequency_hz[k] > 0.0) || !std::isfinite(r.frequency_hz[k]) || !std::isfinite(v.real()) ||
@@ -67,28 +91,32 @@ Drawable drawable(const Response& r) {
     d.value.push_back(v);
     const double s = k < r.relative_sigma.size() ? r.relative_sigma[k] : 0.0;
     d.sigma.push_back(std::isfinite(s) ? s : 0.0);
-    d.reliable.push_back(!(d.sigma.back() > kMostTrustedSigma));
     if (k < r.coherence.size()) d.coherence.push_back(r.coherence[k]);
     if (k < r.snr_db.size()) d.snr_db.push_back(r.snr_db[k]);
   }
+  d.reliable = reliable_lines(d.sigma, most_trusted_sigma);
   if (d.coherence.size() != d.f.size()) d.coherence.clear();
   return d;
 }
 
 // Phase unwrapped along the reliable lines; a noisy line takes the branch
-// nearest the last reliable one, so that noise cannot shift what follows.
+// nearest the last reliable one (the first, for noisy lines before it), so
+// that noise can neither shift what follows nor sit a turn away.
 std::vector<double> unwrapped_phase_deg(const Drawable& d) {
   std::vector<double> out;
-  double reference = 0.0;
-  bool anchored = false;
+  std::optional<double> reference;
+  std::size_t before = 0;  // noisy lines before the first reliable one
   for (std::size_t k = 0; k < d.value.size(); ++k) {
     const double angle = deg_from_rad(std::arg(d.value[k]));
-    const double unwrapped = anchored ? reference + wrap_deg(angle - reference) : angle;
-    out.push_back(unwrapped);
-    if (d.reliable[k]) {
-      reference = unwrapped;
-      anchored = true;
+    out.push_back(reference ? *reference + wrap_deg(angle - *reference) : angle);
+    if (!d.reliable[k]) {
+      if (!reference) ++before;
+      continue;
     }
+    if (!reference) {
+      for (std::size_t i = 0; i < before; ++i) out[i] = angle + wrap_deg(out[i] - angle);
+    }
+    reference = out[k];
   }
   return out;
 }
@@ -114,9 +142,9 @@ void place_phase_branch(std::vector<double>& phase, const Drawable& d, const Mar
   for (double& p : phase) p += shift;
 }
 
-// The range of the reliable values (all of them when fewer than two are),
-// without the outermost half per cent of each end when there are hundreds:
-// a few wild lines must not squash the rest.
+// The range of the reliable values. With fewer than two reliable lines, of
+// all of them, without the outermost half per cent of each end when there
+// are hundreds: a few wild lines must not squash the rest.
 std::pair<double, double> value_range(const std::vector<double>& values, const std::vector<bool>& reliable) {
   const bool use_all = std::count(reliable.begin(), reliable.end(), true) < 2;
   std::vector<double> kept;
@@ -124,23 +152,17 @@ std::pair<double, double> value_range(const std::vector<double>& values, const s
     if (use_all || reliable[k]) kept.push_back(values[k]);
   }
   std::sort(kept.begin(), kept.end());
-  const std::size_t trim = kept.size() >= 200 ? kept.size() / 200 : 0;
+  const std::size_t trim = use_all && kept.size() >= 200 ? kept.size() / 200 : 0;
   return {kept[trim], kept[kept.size() - 1 - trim]};
 }
 
-// Runs of reliable lines, as [first, last] index pairs: adjacent reliable
-// lines always join; a run goes on across noisy lines while the gap they
-// leave spans at most kMostBridgedPixels.
-namespace {
-constexpr double kMostBridgedPixels = 6.0;
-constexpr std::size_t kMostDottedLines = 80;
-std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(const Panel& p, const std::vector<double>& f,
-                                                               const std::vector<bool>& reliable) {
+std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
+    const std::vector<bool>& reliable, const std::function<bool(std::size_t, std::size_t)>& bridges) {
   std::vector<std::pair<std::size_t, std::size_t>> runs;
   std::optional<std::size_t> last;
-  for (std::size_t k = 0; k < f.size(); ++k) {
+  for (std::size_t k = 0; k < reliable.size(); ++k) {
     if (!reliable[k]) continue;
-    if (last && (*last + 1 == k || p.x(f[k]) - p.x(f[*last]) <= kMostBridgedPixels)) {
+    if (last && (*last + 1 == k || bridges(*last, k))) {
       runs.back().second = k;
     } else {
       runs.push_back({k, k});
@@ -150,13 +172,25 @@ std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(const Panel& p, c
   return runs;
 }
 
+namespace {
+// Against frequency, a run goes on across the noisy lines reliable_runs
+// allows only while they span at most kMostBridgedPixels, and across any
+// number of them that span at most kUnseenPixels (a gap no eye would see).
+std::vector<std::pair<std::size_t, std::size_t>> frequency_runs(const Panel& p, const std::vector<double>& f,
+                                                                const std::vector<bool>& reliable) {
+  return reliable_runs(reliable, [&](std::size_t a, std::size_t b) {
+    const double gap = p.x(f[b]) - p.x(f[a]);
+    return gap <= kUnseenPixels || (b - a - 1 <= kMostBridgedLines && gap <= kMostBridgedPixels);
+  });
+}
 }  // namespace
 
-// The interval band of a curve over the reliable lines, one polygon a run.
+// The interval band of a curve over the reliable lines, one area a run.
 void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
                const std::vector<double>& half_width, const std::vector<bool>& reliable) {
   const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
-  for (const auto& [first, last] : reliable_runs(p, f, reliable)) {
+  std::vector<Point> bands;
+  for (const auto& [first, last] : frequency_runs(p, f, reliable)) {
     std::vector<Point> upper, lower;
     for (std::size_t k = first; k <= last; ++k) {
       if (!reliable[k] || !(half_width[k] > 0.0)) continue;
@@ -164,35 +198,38 @@ void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, con
       lower.push_back(p.at(f[k], std::clamp(values[k] - half_width[k], far_low, far_high)));
     }
     if (upper.size() < 2) continue;
-    std::vector<Point> band = svg::thin(upper);
+    const auto high_side = svg::thin(upper);
     const auto low_side = svg::thin(lower);
-    band.insert(band.end(), low_side.rbegin(), low_side.rend());
-    canvas.polygon(band, kCurve, 0.2);
+    bands.insert(bands.end(), high_side.begin(), high_side.end());
+    bands.insert(bands.end(), low_side.rbegin(), low_side.rend());
+    bands.push_back({NAN, NAN});
   }
+  canvas.areas(bands, kCurve, 0.2);
 }
 
-// The curve: every line faint, and the reliable ones solid over it (through
-// isolated noisy lines, broken where a noisy stretch is wide).
+// The curve: the reliable lines solid (through a noisy line or two, broken
+// where a noisy stretch is longer or wide), each noisy line a faint dot.
 void draw_curve(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
                 const std::vector<bool>& reliable) {
   const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
   const auto at = [&](std::size_t k) { return p.at(f[k], std::clamp(values[k], far_low, far_high)); };
-  std::vector<Point> all, trusted;
-  for (std::size_t k = 0; k < f.size(); ++k) all.push_back(at(k));
-  for (const auto& [first, last] : reliable_runs(p, f, reliable)) {
+  std::vector<Point> trusted, noisy;
+  for (const auto& [first, last] : frequency_runs(p, f, reliable)) {
     for (std::size_t k = first; k <= last; ++k) {
       if (reliable[k]) trusted.push_back(at(k));
     }
     trusted.push_back({NAN, NAN});
   }
-  canvas.begin_clip(p.left, p.top, p.width, p.height);
-  if (std::find(reliable.begin(), reliable.end(), false) != reliable.end()) {
-    canvas.path(svg::thin(all), {kCurve, 1.0, "", 0.35});
+  const bool few = f.size() <= kMostDottedLines;
+  for (std::size_t k = 0; k < f.size() && !few; ++k) {
+    if (!reliable[k]) noisy.push_back(at(k));
   }
+  canvas.begin_clip(p.left, p.top, p.width, p.height);
+  canvas.dots(noisy, kNoiseDots);
   canvas.path(svg::thin(trusted), kCurveStroke);
-  // Few lines (a stepped sine): a dot on each, so that the measured points show.
-  if (f.size() <= kMostDottedLines) {
-    for (std::size_t k = 0; k < f.size(); ++k) canvas.circle(at(k), 2.2, {kCurve, 1.0}, reliable[k] ? kCurve : "#ffffff");
+  // Few lines (a stepped sine): a dot on each, so that the measured points show; hollow and faint when noisy.
+  for (std::size_t k = 0; k < f.size() && few; ++k) {
+    canvas.circle(at(k), 2.2, {kCurve, 1.0, "", reliable[k] ? 1.0 : 0.5}, reliable[k] ? kCurve : kPaper);
   }
   canvas.end_clip();
 }
@@ -222,17 +259,20 @@ Text marker_text(const std::string& anchor) {
   return t;
 }
 
-// A label beside a vertical marker line, on the side with room.
+// A label beside a vertical marker line, on the side with room, clear of a
+// mark up to 6 px either side of the line.
 void side_label(Canvas& canvas, const Panel& p, double x, double y, const std::string& content) {
-  const bool room_right = x + 8.0 + 7.0 * static_cast<double>(content.size()) < p.right();
-  canvas.text({room_right ? x + 6.0 : x - 6.0, y}, content, marker_text(room_right ? "start" : "end"));
+  const bool room_right = x + 11.0 + 7.0 * static_cast<double>(content.size()) < p.right();
+  canvas.text({room_right ? x + 9.0 : x - 9.0, y}, content, marker_text(room_right ? "start" : "end"));
 }
 
 }  // namespace plotting
 
 std::vector<Plot> draw_plots(const AnalysisResult& result) {
   using namespace plotting;
-  const Drawable d = drawable(result.loop.lines);
+  // Lines the analysis would not place a crossing among are, for the plots, too noisy to trust.
+  const double most_sigma = result.options.margins.max_line_sigma;
+  const Drawable d = drawable(result.loop.lines, most_sigma);
   const bool stepped = d.snr_db.size() == d.f.size() && !d.snr_db.empty();
   const BodeView loop_view{"bode", "Bode plot of L: magnitude and phase against frequency, margins marked",
                            std::string("Loop gain ") + convention_formula(result.loop.convention) + ": magnitude and phase",
@@ -244,7 +284,7 @@ std::vector<Plot> draw_plots(const AnalysisResult& result) {
     const Margins none;
     const bool series = result.loop.convention == Convention::kSeriesInjection;
     const std::string ratio = series ? "Y/X" : "T";
-    plots.push_back(bode(result, drawable(measured_ratio(result.loop)),
+    plots.push_back(bode(result, drawable(measured_ratio(result.loop), most_sigma),
                          {"bode-measured",
                           "The ratio as measured, " + ratio + ", before the loop convention (" +
                               convention_formula(result.loop.convention) + ") is applied; margins are read on L only",

@@ -4,6 +4,8 @@
 #include <cmath>
 #include <cstdio>
 #include <map>
+#include <set>
+#include <utility>
 
 namespace loopaudit::svg {
 namespace {
@@ -117,8 +119,8 @@ std::string escape(const std::string& text) {
   return out;
 }
 
-Canvas::Canvas(double width, double height, std::string title)
-    : width_(width), height_(height), title_(std::move(title)) {}
+Canvas::Canvas(double width, double height, std::string title, std::string id_prefix)
+    : width_(width), height_(height), title_(std::move(title)), id_prefix_(std::move(id_prefix)) {}
 
 void Canvas::line(Point a, Point b, const Stroke& stroke) {
   if (!finite(a) || !finite(b)) return;
@@ -127,13 +129,11 @@ void Canvas::line(Point a, Point b, const Stroke& stroke) {
 }
 
 void Canvas::path(const std::vector<Point>& points, const Stroke& stroke) {
-  std::string d;
+  std::string d, run_d;
   std::size_t run = 0;
   const auto flush = [&] {
-    if (run >= 2) {
-      body_ << "<path fill=\"none\" stroke-linejoin=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
-    }
-    d.clear();
+    if (run >= 2) d += run_d;
+    run_d.clear();
     run = 0;
   };
   for (const Point& p : points) {
@@ -141,13 +141,26 @@ void Canvas::path(const std::vector<Point>& points, const Stroke& stroke) {
       flush();
       continue;
     }
-    d += run == 0 ? 'M' : 'L';
-    d += number(p.x);
-    d += ',';
-    d += number(p.y);
+    run_d += run == 0 ? 'M' : 'L';
+    run_d += number(p.x);
+    run_d += ',';
+    run_d += number(p.y);
     ++run;
   }
   flush();
+  if (d.empty()) return;
+  body_ << "<path fill=\"none\" stroke-linejoin=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
+}
+
+void Canvas::dots(const std::vector<Point>& points, const Stroke& stroke) {
+  std::set<std::pair<long, long>> taken;
+  std::string d;
+  for (const Point& p : points) {
+    if (!finite(p) || !taken.insert({std::lround(p.x), std::lround(p.y)}).second) continue;
+    d += 'M' + number(p.x) + ',' + number(p.y) + "h0";
+  }
+  if (d.empty()) return;
+  body_ << "<path fill=\"none\" stroke-linecap=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
 }
 
 void Canvas::polygon(const std::vector<Point>& points, const std::string& fill, double opacity) {
@@ -159,6 +172,23 @@ void Canvas::polygon(const std::vector<Point>& points, const std::string& fill, 
   if (list.empty()) return;
   body_ << "<polygon fill=\"" << fill << "\" fill-opacity=\"" << opacity << "\" stroke=\"none\" points=\"" << list
         << "\"/>\n";
+}
+
+void Canvas::areas(const std::vector<Point>& outlines, const std::string& fill, double opacity) {
+  std::string d;
+  bool open = false;
+  for (const Point& p : outlines) {
+    if (!finite(p)) {
+      if (open) d += 'Z';
+      open = false;
+      continue;
+    }
+    d += (open ? 'L' : 'M') + number(p.x) + ',' + number(p.y);
+    open = true;
+  }
+  if (open) d += 'Z';
+  if (d.empty()) return;
+  body_ << "<path fill=\"" << fill << "\" fill-opacity=\"" << opacity << "\" stroke=\"none\" d=\"" << d << "\"/>\n";
 }
 
 void Canvas::circle(Point centre, double radius, const Stroke& stroke, const std::string& fill) {
@@ -185,7 +215,7 @@ void Canvas::text(Point at, const std::string& content, const Text& style) {
 }
 
 void Canvas::begin_clip(double x, double y, double width, double height) {
-  const std::string id = "clip" + std::to_string(++clips_);
+  const std::string id = escape(id_prefix_) + "-clip" + std::to_string(++clips_);
   body_ << "<clipPath id=\"" << id << "\"><rect x=\"" << number(x) << "\" y=\"" << number(y) << "\" width=\""
         << number(width) << "\" height=\"" << number(height) << "\"/></clipPath>\n<g clip-path=\"url(#" << id
         << ")\">\n";

@@ -59,14 +59,23 @@ struct Text {
 
 std::string escape(const std::string& text);
 
+// Every id the canvas writes (clip paths) begins with `id_prefix` and a
+// hyphen: SVGs set inline in one page share one id space, so each of them
+// needs a prefix of its own (the plots use their file stem).
 class Canvas {
  public:
-  Canvas(double width, double height, std::string title);
+  Canvas(double width, double height, std::string title, std::string id_prefix);
 
   void line(Point a, Point b, const Stroke& stroke);
-  // Breaks the path at non-finite points; draws no segment of fewer than two.
+  // One path element, broken at non-finite points into runs; a run of fewer than two points is left out.
   void path(const std::vector<Point>& points, const Stroke& stroke);
+  // A round dot of diameter `stroke.width` at each finite point, at most one
+  // a pixel (one path: overlapping dots do not darken each other).
+  void dots(const std::vector<Point>& points, const Stroke& stroke);
   void polygon(const std::vector<Point>& points, const std::string& fill, double opacity);
+  // Filled areas, one path element: the points of each, broken at non-finite
+  // points (the areas should wind the same way, so that overlaps stay filled).
+  void areas(const std::vector<Point>& outlines, const std::string& fill, double opacity);
   void circle(Point centre, double radius, const Stroke& stroke, const std::string& fill = "none");
   void rect(double x, double y, double width, double height, const Stroke& stroke, const std::string& fill);
   void text(Point at, const std::string& content, const Text& style);
@@ -79,6 +88,7 @@ class Canvas {
   double width_;
   double height_;
   std::string title_;
+  std::string id_prefix_;
   std::ostringstream body_;
   int clips_ = 0;
 };

@@ -17,8 +17,12 @@
 #include "report/sha256.hpp"
 #include "report/svg.hpp"
 #include "report/tag_placement.hpp"
+#include "report/svg_reading.hpp"
 
 using namespace loopaudit;
+using svg_reading::Element;
+using svg_reading::elements;
+using svg_reading::texts_of;
 
 namespace {
 
@@ -36,46 +40,6 @@ std::size_t count(const std::string& text, const std::string& what) {
   std::size_t n = 0;
   for (auto at = text.find(what); at != std::string::npos; at = text.find(what, at + 1)) ++n;
   return n;
-}
-
-// ---- reading back what an SVG draws (the elements svg::Canvas writes)
-struct Element {
-  std::map<std::string, std::string> attributes;
-  std::string content;  // of a text, unescaped
-  double number(const std::string& name) const { return std::stod(attributes.at(name)); }
-  std::string get(const std::string& name) const {
-    const auto at = attributes.find(name);
-    return at == attributes.end() ? "" : at->second;
-  }
-};
-
-std::string unescape(std::string text) {
-  for (const auto& [from, to] : std::vector<std::pair<std::string, std::string>>{
-           {"&lt;", "<"}, {"&gt;", ">"}, {"&quot;", "\""}, {"&#39;", "'"}, {"&amp;", "&"}}) {
-    for (auto at = text.find(from); at != std::string::npos; at = text.find(from, at + to.size())) {
-      text.replace(at, from.size(), to);
-    }
-  }
-  return text;
-}
-
-std::vector<Element> elements(const std::string& svg, const std::string& tag) {
-  std::vector<Element> out;
-  const std::string open = "<" + tag + " ";
-  for (auto at = svg.find(open); at != std::string::npos; at = svg.find(open, at + 1)) {
-    const auto end = svg.find('>', at);
-    Element e;
-    const std::string head = svg.substr(at + open.size(), end - at - open.size());
-    for (std::size_t k = 0; (k = head.find("=\"", k)) != std::string::npos;) {
-      const auto name_start = head.rfind(' ', k) == std::string::npos ? 0 : head.rfind(' ', k) + 1;
-      const auto value_end = head.find('"', k + 2);
-      e.attributes[head.substr(name_start, k - name_start)] = head.substr(k + 2, value_end - k - 2);
-      k = value_end + 1;
-    }
-    if (tag == "text") e.content = unescape(svg.substr(end + 1, svg.find("</text>", end) - end - 1));
-    out.push_back(e);
-  }
-  return out;
 }
 
 // A text's box, from its size and length: DejaVu Sans averages under 0.62
@@ -136,15 +100,6 @@ struct TickAxis {
   double value_a, px_a, value_b, px_b;
   double operator()(double v) const { return px_a + (v - value_a) / (value_b - value_a) * (px_b - px_a); }
 };
-
-// The labelled texts of `content` (all of them, in drawing order).
-std::vector<Element> texts_of(const std::string& svg, const std::string& content) {
-  std::vector<Element> out;
-  for (const auto& t : elements(svg, "text")) {
-    if (t.content == content) out.push_back(t);
-  }
-  return out;
-}
 
 // Three gain crossovers and two phase crossovers: the three-crossover loop of
 // REFERENCES section 5 (known::table()[7]) behind a lag of our own,
