@@ -17,6 +17,18 @@ Location group_band(const std::vector<Crossing>& group, const LineTable& table) 
 
 bool unresolved(Verdict v) { return v == Verdict::kUnresolved || v == Verdict::kTooWide; }
 
+bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_margin_width, double band_decades) {
+  constexpr double kMaxFrequencyDecades = 1.0;
+  if (const auto& f = frequency_hz.interval) {
+    const double decades = std::log10(f->high / f->low);
+    if (!(decades <= std::min(kMaxFrequencyDecades, band_decades))) return true;
+  }
+  if (const auto& m = margin.interval) {
+    if (!(m->high - m->low <= max_margin_width)) return true;
+  }
+  return false;
+}
+
 namespace {
 
 std::vector<Crossing> place_crossings(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,

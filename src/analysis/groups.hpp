@@ -44,6 +44,15 @@ struct Group {
 double bracket_sigma(const std::vector<double>& sigmas, const Bracket& bracket);
 Location group_band(const std::vector<Crossing>& group, const LineTable& table);
 
+// Intervals that say nothing: a frequency interval wider than a decade or
+// than the band (band_decades wide), a margin interval wider than
+// `max_margin_width` (kMaxPhaseIntervalDeg: any phase at all;
+// kMaxGainIntervalDb: a factor of 100 in gain). Such a crossing is neither
+// listed nor summarised.
+inline constexpr double kMaxPhaseIntervalDeg = 180.0;
+inline constexpr double kMaxGainIntervalDb = 40.0;
+bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_margin_width, double band_decades);
+
 // The crossings of `brackets`, grouped, each group with its verdict.
 std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
                                    const MarginOptions& options);

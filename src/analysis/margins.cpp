@@ -114,24 +114,6 @@ std::optional<Interval> frequency_interval(double log_f, double log_f_sigma, dou
 }
 
 
-// Intervals that say nothing: a frequency interval wider than a decade or
-// than the whole band, a margin interval wider than `max_margin_width` (180
-// deg of phase: any phase at all; 40 dB of gain: a factor of 100). Such a
-// crossing is neither listed nor summarised.
-bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_margin_width, const LineTable& table) {
-  constexpr double kMaxFrequencyDecades = 1.0;
-  const double band_decades = table.log_f.back() - table.log_f.front();
-  if (const auto& f = frequency_hz.interval) {
-    const double decades = std::log10(f->high / f->low);
-    if (!(decades <= std::min(kMaxFrequencyDecades, band_decades))) return true;
-  }
-  if (const auto& m = margin.interval) {
-    if (!(m->high - m->low <= max_margin_width)) return true;
-  }
-  return false;
-}
-constexpr double kMaxPhaseIntervalDeg = 180.0;
-constexpr double kMaxGainIntervalDb = 40.0;
 
 
 // The other curve's range over lines first..last: |L| in dB for phase
@@ -230,7 +212,7 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
     c.delay_margin_s = {delay_margin_s, interval(delay_margin_s, delay_sigma, z)};
     c.merged_crossings = g.members.size();
     c.trust_flags = trust_flags(table, g.members, options);
-    if (too_wide(c.frequency_hz, c.phase_margin_deg, kMaxPhaseIntervalDeg, table)) {
+    if (detail::too_wide(c.frequency_hz, c.phase_margin_deg, detail::kMaxPhaseIntervalDeg, table.log_f.back() - table.log_f.front())) {
       g.verdict = Verdict::kTooWide;
       continue;
     }
@@ -260,7 +242,7 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
     c.limits = detail::direction_of(-gain_db);
     c.merged_crossings = g.members.size();
     c.trust_flags = trust_flags(table, g.members, options);
-    if (too_wide(c.frequency_hz, c.gain_margin_db, kMaxGainIntervalDb, table)) {
+    if (detail::too_wide(c.frequency_hz, c.gain_margin_db, detail::kMaxGainIntervalDb, table.log_f.back() - table.log_f.front())) {
       g.verdict = Verdict::kTooWide;
       continue;
     }
