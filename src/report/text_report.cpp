@@ -118,6 +118,14 @@ std::vector<std::size_t> chosen_by_summary(const std::vector<T>& items, Estimate
   return found;
 }
 
+// Where the whole of a shortened list can be read.
+std::string where_listed(const FullLists& lists) {
+  if (lists.json_path.empty()) return "--json FILE writes them all";
+  if (lists.json_path == "-") return "all are in the JSON on standard output";
+  return "all are in " + lists.json_path;
+}
+
+
 // Writes the shown entries of a list by `write_entry`, a line for each run
 // of entries left out, and where the whole list is.
 template <typename T, typename WriteEntry>
@@ -138,7 +146,7 @@ void write_capped(std::ostream& out, const std::vector<T>& items, const std::vec
   }
   if (hidden == 0) return;
   out << "    " << (items.size() - hidden) << " of " << items.size() << " " << what << " shown; "
-      << (lists.json_path.empty() ? std::string("--json FILE writes them all") : "all are in " + lists.json_path)
+      << where_listed(lists)
       << " under \"" << json_key << "\"\n";
 }
 
@@ -252,7 +260,7 @@ void write_findings(std::ostream& out, const Diagnostics& findings, const FullLi
   for (std::size_t i = 0; i < left_out.size(); ++i)
     out << (i ? ", " : "") << left_out[i].second << " " << left_out[i].first;
   out << "); "
-      << (lists.json_path.empty() ? std::string("--json FILE writes them all") : "all are in " + lists.json_path)
+      << where_listed(lists)
       << " under \"diagnostics\"\n";
 }
 
@@ -298,12 +306,22 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
     case ResponseMethodKind::kTable:
       break;
   }
-  const std::size_t count = r.margins.line_count;
-  lines.emplace_back(
-      "loop", std::string(convention_formula(r.loop.convention)) + " (" + convention_name(r.loop.convention) + "), " +
-                  (count == 1 ? "1 line at " + format_frequency(r.margins.band_low_hz)
-                              : std::to_string(count) + " lines from " + format_frequency(r.margins.band_low_hz) +
-                                    " to " + format_frequency(r.margins.band_high_hz)));
+  // All lines of L, and the band the margins were read from when it is narrower.
+  const Response& all = r.loop.lines;
+  const std::size_t count = all.size() ? all.size() : r.margins.line_count;
+  const double low_hz = all.size() ? all.frequency_hz.front() : r.margins.band_low_hz;
+  const double high_hz = all.size() ? all.frequency_hz.back() : r.margins.band_high_hz;
+  lines.emplace_back("loop", std::string(convention_formula(r.loop.convention)) + " (" +
+                                 convention_name(r.loop.convention) + "), " +
+                                 (count == 1 ? "1 line at " + format_frequency(low_hz)
+                                             : std::to_string(count) + " lines from " + format_frequency(low_hz) +
+                                                   " to " + format_frequency(high_hz)));
+  if (all.size() && r.margins.line_count < all.size()) {
+    lines.emplace_back("margins", "from the " + std::to_string(r.margins.line_count) + " lines from " +
+                                      format_frequency(r.margins.band_low_hz) + " to " +
+                                      format_frequency(r.margins.band_high_hz) + " (" +
+                                      r.options.margins.band_source + ")");
+  }
   return lines;
 }
 
