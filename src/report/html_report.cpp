@@ -183,21 +183,8 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
 void write_truth(std::ostream& out, const AnalysisResult& r, const MarginSummary& t) {
   out << "<h2>Compared with the simulation's truth</h2>\n<table>\n<tr><th>quantity</th><th>measured</th><th>"
       << fixed(100.0 * r.margins.confidence, 0) << " % interval</th><th>truth</th><th>inside</th></tr>\n";
-  struct Shown {
-    const char* label;
-    const char* key;
-    Quantity quantity;
-  };
-  static constexpr Shown kRows[] = {
-      {"gain crossover", "gain_crossover_hz", Quantity::kFrequency},
-      {"phase margin", "phase_margin_deg", Quantity::kAngle},
-      {"delay margin", "delay_margin_s", Quantity::kTime},
-      {"phase crossover", "phase_crossover_hz", Quantity::kFrequency},
-      {"gain margin", "gain_margin_db", Quantity::kSignedGain},
-      {"modulus margin", "modulus_margin", Quantity::kRatio},
-  };
   const auto compared = compare_summary(r.margins.summary, t);
-  for (const Shown& shown : kRows) {
+  for (const detail::SummaryRow& shown : detail::kSummaryRows) {
     const QuantityComparison& c = comparison_of(compared, shown.key);
     // One style for the value, the interval and the truth, with the digits
     // that show whether the truth is inside (interval_style).

@@ -38,4 +38,21 @@ inline std::string interval_text(const Estimate& e, Quantity quantity) {
   return format_interval(estimate_style(quantity, e), e.interval->low, e.interval->high);
 }
 
+// The summary quantities the terminal table and the report's truth table
+// show, in their order, by summary key, with how each is written.
+struct SummaryRow {
+  const char* label;
+  const char* key;
+  Quantity quantity;
+};
+inline constexpr SummaryRow kSummaryRows[] = {
+    {"gain crossover", "gain_crossover_hz", Quantity::kFrequency},
+    {"phase margin", "phase_margin_deg", Quantity::kAngle},
+    {"delay margin", "delay_margin_s", Quantity::kTime},
+    {"phase crossover", "phase_crossover_hz", Quantity::kFrequency},
+    {"gain margin", "gain_margin_db", Quantity::kSignedGain},
+    {"modulus margin", "modulus_margin", Quantity::kRatio},
+    {"peak sensitivity", "peak_sensitivity_db", Quantity::kGain},  // an interval end may be unbounded
+};
+
 }  // namespace loopaudit::detail

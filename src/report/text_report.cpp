@@ -21,6 +21,8 @@ std::string printf_string(const char* format, double value, const char* unit = "
 }
 
 using detail::estimate_style;
+using detail::kSummaryRows;
+using detail::SummaryRow;
 
 // The text of an estimate's interval in `style`, "" when it has none.
 std::string range(const NumberStyle& style, const Estimate& e) {
@@ -34,21 +36,6 @@ struct Row {
   std::string interval;  // "" when there is none
 };
 
-// The summary rows in the order the table shows them, by summary key.
-struct SummaryRow {
-  const char* label;
-  const char* key;
-  Quantity quantity;
-};
-constexpr SummaryRow kSummaryRows[] = {
-    {"gain crossover", "gain_crossover_hz", Quantity::kFrequency},
-    {"phase margin", "phase_margin_deg", Quantity::kAngle},
-    {"delay margin", "delay_margin_s", Quantity::kTime},
-    {"phase crossover", "phase_crossover_hz", Quantity::kFrequency},
-    {"gain margin", "gain_margin_db", Quantity::kSignedGain},
-    {"modulus margin", "modulus_margin", Quantity::kRatio},
-    {"peak sensitivity", "peak_sensitivity_db", Quantity::kGain},  // an interval end may be unbounded
-};
 
 // Each row's value, interval and truth in one style, so that the truth can be
 // placed against the interval by eye.

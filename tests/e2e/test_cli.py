@@ -4,39 +4,25 @@ Environment: LOOPAUDIT (the binary) and LOOPAUDIT_DEMO (data/demo), set by
 CTest. Recordings are made with `loopaudit synth`; each check names its source.
 """
 import csv
-import json
 import math
 import os
 import shutil
-import subprocess
 import tempfile
 import unittest
 
 import numpy as np
 
-BINARY = os.environ.get("LOOPAUDIT", "loopaudit")
-DEMO = os.environ.get("LOOPAUDIT_DEMO", "../../data/demo")
+from cli_common import DEMO, INPUT, NO_RESULT, OUTPUT, SETTINGS, USAGE, load, run
+
 # Check values with their sources (format: data/reference/README.md).
 REFERENCE = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "..", "data", "reference")
 
-# Exit codes documented in README.md.
-USAGE, INPUT, SETTINGS, NO_RESULT, OUTPUT = 2, 3, 4, 5, 6
 # Tolerances from the per-line standard deviations the tool reports: a bound
 # of this many standard deviations is exceeded by chance with probability
 # below 1e-4 for Gaussian errors (and the scenarios' seeds are fixed).
 SIGMAS = 4.0
 
 
-def run(*args, check=True):
-    result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300)
-    if check and result.returncode != 0:
-        raise AssertionError(f"loopaudit {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
-    return result
-
-
-def load(path):
-    with open(path) as f:
-        return json.load(f)
 
 
 def reference_row(name, key):

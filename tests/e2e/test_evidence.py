@@ -6,19 +6,16 @@ probe. Every recording is made here with `loopaudit synth` from a scenario
 this file writes (invented values); the truth is the simulated loop's exact
 margins (its truth file).
 """
-import json
 import math
 import os
 import shutil
-import subprocess
 import tempfile
 import unittest
 
 import numpy as np
 
-BINARY = os.environ.get("LOOPAUDIT", "loopaudit")
-DEMO = os.environ.get("LOOPAUDIT_DEMO", "../../data/demo")
-NO_RESULT, USAGE = 5, 2  # exit codes documented in README.md
+from cli_common import DEMO, NO_RESULT, USAGE, codes, load, run
+
 
 # A loop whose phase dips below -180 deg between about 300 Hz and 1.16 kHz
 # while |L| is well above 1 (a gain drop of 24.8 dB there destabilises it),
@@ -62,20 +59,7 @@ EXCITATIONS = ("noise", "multisine", "prbs", "stepped", "chirp")
 MAX_PHASE_WIDTH_DEG, MAX_GAIN_WIDTH_DB, MAX_DECADES = 180.0, 40.0, 1.0
 
 
-def run(*args, check=True):
-    result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300)
-    if check and result.returncode != 0:
-        raise AssertionError(f"loopaudit {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
-    return result
 
-
-def load(path):
-    with open(path) as f:
-        return json.load(f)
-
-
-def codes(result):
-    return [d["code"] for d in result["diagnostics"]]
 
 
 def inside(value, interval, slack=0.0):

@@ -12,34 +12,19 @@ Environment: LOOPAUDIT (the binary) and LOOPAUDIT_DEMO (data/demo), set by CTest
 import json
 import os
 import shutil
-import subprocess
 import tempfile
 import unittest
 
 import numpy as np
 
-BINARY = os.environ.get("LOOPAUDIT", "loopaudit")
-DEMO = os.environ.get("LOOPAUDIT_DEMO", "../../data/demo")
+from cli_common import DEMO, INPUT, SETTINGS, USAGE, codes, load, run
+
 
 # Exit codes documented in README.md.
-USAGE, INPUT, SETTINGS = 2, 3, 4
 RATE = 8000  # servo_velocity.toml records at 8 kHz
 
 
-def run(*args, check=True, cwd=None):
-    result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300, cwd=cwd)
-    if check and result.returncode != 0:
-        raise AssertionError(f"loopaudit {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
-    return result
 
-
-def load(path):
-    with open(path) as f:
-        return json.load(f)
-
-
-def codes(results):
-    return [d["code"] for d in results["diagnostics"]]
 
 
 class Files(unittest.TestCase):

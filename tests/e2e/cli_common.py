@@ -1,0 +1,32 @@
+"""What the end-to-end tests share: the binary, the demo folder, the exit
+codes documented in README.md, and running the CLI.
+
+Environment: LOOPAUDIT (the binary) and LOOPAUDIT_DEMO (data/demo), set by CTest.
+"""
+import json
+import os
+import subprocess
+
+BINARY = os.environ.get("LOOPAUDIT", "loopaudit")
+DEMO = os.environ.get("LOOPAUDIT_DEMO", "../../data/demo")
+
+# Exit codes documented in README.md.
+USAGE, INPUT, SETTINGS, NO_RESULT, OUTPUT = 2, 3, 4, 5, 6
+
+
+def run(*args, check=True, cwd=None):
+    """Runs loopaudit with args; raises with its stderr when check and it fails."""
+    result = subprocess.run([BINARY, *map(str, args)], capture_output=True, text=True, timeout=300, cwd=cwd)
+    if check and result.returncode != 0:
+        raise AssertionError(f"loopaudit {' '.join(map(str, args))} failed ({result.returncode}):\n{result.stderr}")
+    return result
+
+
+def load(path):
+    with open(path) as f:
+        return json.load(f)
+
+
+def codes(result):
+    """The diagnostic codes of a JSON result."""
+    return [d["code"] for d in result["diagnostics"]]
