@@ -89,8 +89,28 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
   const auto range = [&](const std::optional<Estimate>& e, std::string (*format)(double)) {
     return e && e->interval ? level + interval_text(*e, format) : std::string();
   };
-  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, deg, "none in band"), {range(s.phase_margin_deg, deg)});
-  tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"), {range(s.gain_margin_db, db)});
+  // What an unresolved stretch may hide, under the tile it qualifies.
+  const auto possible = [&](bool phase) {
+    std::vector<std::string> lines;
+    for (const PossibleMargin& p : s.possible) {
+      const std::string key = p.key;
+      if ((key == "phase_margin_deg") != phase) continue;
+      const char* what = phase ? "a phase margin" : key == "gain_reduction_margin_db" ? "a gain reduction margin"
+                                                                                     : "a gain increase margin";
+      lines.push_back(std::string("may also lie: ") + what + " of " + (phase ? deg(p.range.low) : db(p.range.low)) +
+                      " to " + (phase ? deg(p.range.high) : db(p.range.high)) + " at " + hz(p.low_hz) + " to " +
+                      hz(p.high_hz) + " (unresolved)");
+    }
+    return lines;
+  };
+  const auto with = [](std::vector<std::string> first, const std::vector<std::string>& more) {
+    first.insert(first.end(), more.begin(), more.end());
+    return first;
+  };
+  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, deg, "none in band"),
+       with({range(s.phase_margin_deg, deg)}, possible(true)));
+  tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"),
+       with({range(s.gain_margin_db, db)}, possible(false)));
   tile(out, "gain crossover", value(s.gain_crossover_hz, hz, "none in band"), {range(s.gain_crossover_hz, hz)});
   const auto& mm = s.modulus_margin;
   tile(out, "peak sensitivity", value(s.peak_sensitivity_db, plain_db, "none"),
