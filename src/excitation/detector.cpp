@@ -1,11 +1,15 @@
 #include <algorithm>
 #include <cmath>
+#include <deque>
+#include <limits>
+#include <numbers>
 #include <numeric>
 #include <sstream>
 
 #include "loopaudit/excitation/excitation.hpp"
 #include "loopaudit/format.hpp"
 #include "loopaudit/fft/window.hpp"
+#include "excitation/dwell_finder.hpp"
 #include "fft/fft_plan.hpp"
 
 namespace loopaudit {
@@ -18,14 +22,25 @@ constexpr double kTonalShare = 0.5;
 constexpr double kTonalFrames = 0.6;
 // Frames quieter than this share of the median frame are gaps, not signal.
 constexpr double kActiveShare = 0.1;
-// Zero-crossing periods within this fraction of a dwell's mean belong to it;
-// one period outside (noise on the injection) is passed over, two in a row
-// start a new dwell.
-constexpr double kSamePeriod = 0.05;
-constexpr std::size_t kMinDwellCycles = 4;
-// Within a dwell of a stepped sine the period holds steady; a chirp's local
-// plateaus drift by about kSamePeriod from end to end.
-constexpr double kMaxDwellDrift = 0.01;
+// An upward zero crossing counts once the injection has gone below minus
+// this share of its RMS over the latest kHysteresisFrames frames since the
+// one before (hysteresis). Eight frames hold a cycle of any tone above 1/8192
+// of the sample rate (122 Hz at 1 MS/s): one frame of a slower tone, near its
+// zero crossing, would set the level far too low. Half
+// the RMS is 0.35 of a sine's amplitude: noise at a tenth of the RMS reaches
+// it once in 3 million samples, where at a quarter of the RMS (2.5 sigma) it
+// added crossings near the zero crossings of a slow tone, whose slope there is
+// small. A tone may drop 2.8 times in level from one frame to the next.
+constexpr double kHysteresis = 0.5;
+constexpr std::size_t kHysteresisFrames = 8;
+constexpr double kSineCrossingPeriod = 16.0;
+// Within a dwell of a stepped sine the period holds steady, and it steps at
+// the dwell's edges: the crossings either side of an edge lie on two lines.
+// A chirp is cut into pieces by the same rules, but its crossings curve
+// through the cuts, on a parabola. Stepped when more than this share of the
+// edges bend (edges between pieces that do not meet are not judged: a
+// chirp's pieces meet).
+constexpr double kMinBends = 0.5;
 // Periodic: the normalised autocorrelation at the period reaches this.
 constexpr double kPeriodicMatch = 0.9;
 constexpr std::size_t kMinPeriod = 16;
@@ -37,21 +52,32 @@ struct Frame {
   double tonality = 0.0;
 };
 
-struct Plateau {
-  double start = 0.0;  // sample position of its first upward crossing
-  double end = 0.0;
-  double period_sum = 0.0;
-  double index_period_sum = 0.0;  // sum of i p_i: with period_sum, the trend of the period
-  std::size_t cycles = 0;
-  double mean_period() const { return period_sum / static_cast<double>(cycles); }
-  // How much the period changes from the plateau's first cycle to its last,
-  // relative to its mean (least-squares line): 0 for a steady tone.
-  double drift() const {
-    if (cycles < 3) return 0.0;
-    const double n = static_cast<double>(cycles);
-    const double mean_index = (n - 1.0) / 2.0;
-    const double slope = (index_period_sum - mean_index * period_sum) / (n * (n * n - 1.0) / 12.0);
-    return slope * (n - 1.0) / mean_period();
+// Where between two samples `before` < 0 <= `after` a sine of `period`
+// samples crosses zero, as a fraction of the sample interval. The straight
+// line between the samples is off by up to 0.045 samples at 4 samples a
+// period, 0.0065 at 10 and 0.0025 at 16: errors on a period of 2 %, 0.13 %
+// and 0.03 %, against steps of 0.2 % and more that the dwell finder looks
+// for. Below kSineCrossingPeriod samples the crossing is found on the sine
+// through the two samples, from before = A sin(t) and after = A sin(t + w):
+// exact for a pure tone of that period, off by 0.001 samples at 4 a period
+// when the period is 1 % off (the current dwell's mean period is given; at a
+// step it is the old dwell's).
+// The sine and cosine of the phase step are kept while the period stays
+// within 0.1 % (an error of 0.0001 samples at 4 a period).
+struct CrossingFinder {
+  double period = 0.0;
+  double sin_w = 0.0, cos_w = 1.0;
+
+  double fraction(double before, double after, double typical_period) {
+    const double linear = before / (before - after);
+    if (!(typical_period > 2.0 && typical_period < kSineCrossingPeriod)) return linear;
+    if (std::abs(typical_period - period) > 1e-3 * period) {
+      period = typical_period;
+      sin_w = std::sin(2.0 * std::numbers::pi / period);
+      cos_w = std::cos(2.0 * std::numbers::pi / period);
+    }
+    const double t = std::atan2(before * sin_w, after - before * cos_w);
+    return std::clamp(-t * period / (2.0 * std::numbers::pi), 0.0, 1.0);
   }
 };
 
@@ -78,13 +104,15 @@ struct ExcitationDetector::Impl {
   std::size_t samples = 0;
   // Zero-crossing follower.
   double threshold = 0.0;
+  std::deque<double> level;  // energy of the latest kHysteresisFrames frames
+  double level_sum = 0.0;
   bool armed = false;
   double previous = 0.0;
   double last_crossing = -1.0;
-  Plateau current;
-  bool outlier = false;  // the last period did not fit the current plateau
-  double outlier_from = 0.0;
-  std::vector<Plateau> plateaus;
+  double last_period = 0.0;
+  CrossingFinder crossings;
+  detail::DwellFinder dwells;
+  detail::FoundDwells found;  // set by finish()
 
   void analyse_frame() {
     const double mean = std::accumulate(frame_buffer.begin(), frame_buffer.end(), 0.0) / kFrameSamples;
@@ -92,9 +120,15 @@ struct ExcitationDetector::Impl {
     double energy = 0.0;
     for (std::size_t i = 0; i < kFrameSamples; ++i) {
       in[i] = (frame_buffer[i] - mean) * window[i];
-      energy += (frame_buffer[i] - mean) * (frame_buffer[i] - mean);
+      energy += frame_buffer[i] * frame_buffer[i];
     }
-    threshold = 0.25 * std::sqrt(energy / kFrameSamples);  // hysteresis for the next frame's crossings
+    level.push_back(energy);
+    level_sum += energy;
+    if (level.size() > kHysteresisFrames) {
+      level_sum -= level.front();
+      level.pop_front();
+    }
+    threshold = kHysteresis * std::sqrt(std::max(level_sum, 0.0) / static_cast<double>(level.size() * kFrameSamples));
     fft.execute();
     const auto out = fft.output();
     std::vector<double> power(out.size());
@@ -110,39 +144,19 @@ struct ExcitationDetector::Impl {
     frame_buffer.clear();
   }
 
-  void close_plateau() {
-    if (current.cycles >= kMinDwellCycles) plateaus.push_back(current);
-    current = Plateau{};
-  }
-
-  void add_period(double from, double to) {
-    const double period = to - from;
-    if (current.cycles > 0 && std::abs(period - current.mean_period()) > kSamePeriod * current.mean_period()) {
-      if (!outlier) {
-        outlier = true;
-        outlier_from = from;
-        return;
-      }
-      close_plateau();
-      current.start = outlier_from;
-    }
-    outlier = false;
-    if (current.cycles == 0 && current.start == 0.0) current.start = from;
-    current.index_period_sum += static_cast<double>(current.cycles) * period;
-    current.period_sum += period;
-    ++current.cycles;
-    current.end = to;
-  }
-
   // Upward zero crossings with hysteresis, interpolated between samples;
-  // consecutive periods that agree make a plateau (a dwell candidate).
+  // the periods between them go to the dwell finder.
   void follow(double v) {
     const double position = static_cast<double>(samples);
     if (threshold > 0.0 && v < -threshold) armed = true;
     if (armed && previous < 0.0 && v >= 0.0) {
       armed = false;
-      const double crossing = position - 1.0 + previous / (previous - v);
-      if (last_crossing >= 0.0) add_period(last_crossing, crossing);
+      const double typical = dwells.period() > 0.0 ? dwells.period() : last_period;
+      const double crossing = position - 1.0 + crossings.fraction(previous, v, typical);
+      if (last_crossing >= 0.0) {
+        dwells.add_period(last_crossing, crossing);
+        last_period = crossing - last_crossing;
+      }
       last_crossing = crossing;
     }
     previous = v;
@@ -217,18 +231,14 @@ std::optional<std::pair<std::size_t, double>> ExcitationDetector::Impl::find_per
 }
 
 void ExcitationDetector::Impl::classify_tone(ExcitationPlan& plan, double fs) const {
-  std::vector<double> drifts;
+  const auto& plateaus = found.plateaus;
   double covered = 0.0;
-  for (const Plateau& p : plateaus) {
-    covered += p.end - p.start;
-    drifts.push_back(std::abs(p.drift()));
-  }
-  std::nth_element(drifts.begin(), drifts.begin() + drifts.size() / 2, drifts.end());
-  const bool stepped = plateaus.size() >= 2 && covered > 0.5 * static_cast<double>(samples) &&
-                       drifts[drifts.size() / 2] < kMaxDwellDrift;
+  for (const detail::Plateau& p : plateaus) covered += p.end - p.start;
+  const bool bends = found.edges == 0 || static_cast<double>(found.bends) > kMinBends * static_cast<double>(found.edges);
+  const bool stepped = plateaus.size() >= 2 && covered > 0.5 * static_cast<double>(samples) && bends;
   if (stepped) {
     plan.kind = ExcitationKind::kStepped;
-    for (const Plateau& p : plateaus) {
+    for (const detail::Plateau& p : plateaus) {
       plan.dwells.push_back({static_cast<std::size_t>(std::ceil(p.start)), static_cast<std::size_t>(std::floor(p.end)),
                              fs / p.mean_period()});
     }
@@ -261,7 +271,7 @@ void ExcitationDetector::push(std::span<const double> injection) {
 ExcitationPlan ExcitationDetector::finish(double sample_rate_hz) {
   Impl& s = *impl_;
   ExcitationPlan plan;
-  s.close_plateau();
+  s.found = s.dwells.finish();
   if (s.frames.empty()) return plan;  // too short to say: treated as broadband
   double active = 0.0;
   plan.tonal_fraction = s.tonal_fraction(active);
