@@ -206,7 +206,11 @@ std::unique_ptr<ResponseEstimator> make_estimator(ExcitationKind kind, const Exc
       return make_periodic_estimator({period, options.skip_periods, options.response.injection_floor_db});
     }
     case ExcitationKind::kStepped:
-      if (plan.dwells.empty()) throw NumericalError(origin + ": no dwells of a stepped sine found in the injection");
+      if (plan.dwells.empty()) {
+        throw NumericalError(origin + ": no dwells of a stepped sine found in the injection (no stretch holds one "
+                                      "steady tone); give the dwells with --schedule FILE or --marker CHANNEL, or "
+                                      "let the excitation be found (--excitation auto)");
+      }
       return make_stepped_estimator({plan.dwells, sample_rate_hz, options.settle_cycles, options.settle_s});
   }
   throw ConfigError("unknown excitation kind");
