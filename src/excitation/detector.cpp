@@ -236,14 +236,12 @@ void ExcitationDetector::Impl::classify_tone(ExcitationPlan& plan, double fs) co
   for (const detail::Plateau& p : plateaus) covered += p.end - p.start;
   const bool bends = found.edges == 0 || static_cast<double>(found.bends) > kMinBends * static_cast<double>(found.edges);
   const bool stepped = plateaus.size() >= 2 && covered > 0.5 * static_cast<double>(samples) && bends;
-  // The plateaus go into the plan either way, so that --excitation stepped
-  // can analyse a record the detector took for a chirp.
-  for (const detail::Plateau& p : plateaus) {
-    plan.dwells.push_back({static_cast<std::size_t>(std::ceil(p.start)), static_cast<std::size_t>(std::floor(p.end)),
-                           fs / p.mean_period()});
-  }
   if (stepped) {
     plan.kind = ExcitationKind::kStepped;
+    for (const detail::Plateau& p : plateaus) {
+      plan.dwells.push_back({static_cast<std::size_t>(std::ceil(p.start)), static_cast<std::size_t>(std::floor(p.end)),
+                             fs / p.mean_period()});
+    }
     const auto [lo, hi] = std::minmax_element(plan.dwells.begin(), plan.dwells.end(),
                                               [](const Dwell& a, const Dwell& b) { return a.frequency_hz < b.frequency_hz; });
     plan.low_hz = lo->frequency_hz;

@@ -207,8 +207,8 @@ std::unique_ptr<ResponseEstimator> make_estimator(ExcitationKind kind, const Exc
     }
     case ExcitationKind::kStepped:
       if (plan.dwells.empty()) {
-        throw NumericalError(origin + ": no dwells of a stepped sine found in the injection (no stretch holds one "
-                                      "steady tone); give the dwells with --schedule FILE or --marker CHANNEL, or "
+        throw NumericalError(origin + ": no dwells of a stepped sine found in the injection (the detector found no run "
+                                      "of steady tones: a chirp, or tones too short or noisy); give the dwells with --schedule FILE or --marker CHANNEL, or "
                                       "let the excitation be found (--excitation auto)");
       }
       return make_stepped_estimator({plan.dwells, sample_rate_hz, options.settle_cycles, options.settle_s});

@@ -35,7 +35,7 @@ Json method_json(const AnalysisResult& result) {
                                {"low_hz", result.excitation->low_hz},
                                {"high_hz", result.excitation->high_hz},
                                {"period_samples", result.excitation->period_samples},
-                               {"dwells", result.excitation->kind == ExcitationKind::kStepped ? result.excitation->dwells.size() : 0},
+                               {"dwells", result.excitation->dwells.size()},
                                {"snr_db", optional_number(result.excitation->snr_db)}};
   }
   out["estimator"] = estimator_name(o.response.estimator);

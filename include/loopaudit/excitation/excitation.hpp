@@ -40,7 +40,7 @@ struct ExcitationPlan {
   double high_hz = 0.0;
   std::size_t period_samples = 0;  // periodic: the period
   double period_match = 0.0;       // periodic: normalised autocorrelation at the period
-  std::vector<Dwell> dwells;       // stepped; for a chirp the plateaus it held, if any
+  std::vector<Dwell> dwells;       // stepped
   double tonal_fraction = 0.0;     // share of frames that hold one tone
   // The injection's power over what does not belong to it: for a tone, the
   // power near the peak over the rest (median over tonal frames); for a
