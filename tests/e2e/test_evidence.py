@@ -270,6 +270,18 @@ class InvertedProbe(unittest.TestCase):
         self.assertIn("sign check", result["stability"]["reason"])
         self.assertTrue(any("doubts" in a for a in result["stability"]["assumptions"]))
 
+    def test_a_table_read_with_the_wrong_convention_is_flagged(self):
+        # The servo's L has two integrators at the bottom of the band: read as
+        # Y/X (series injection) it becomes -L, with a phase near 0 deg there.
+        lines = os.path.join(self.folder, "servo.lines.csv")
+        run("analyze", self.good, "--csv", lines, "--quiet")
+        wrong = os.path.join(self.folder, "wrong.json")
+        run("table", lines, "--convention", "series-injection", "--json", wrong)
+        self.assertIn("loop.sign-suspect", codes(load(wrong)))
+        right = os.path.join(self.folder, "right.json")
+        run("table", lines, "--json", right)
+        self.assertNotIn("loop.sign-suspect", codes(load(right)))
+
     def test_right_probe_is_not_flagged(self):
         result = self.analyze(self.good)
         self.assertNotIn("loop.sign-suspect", codes(result))

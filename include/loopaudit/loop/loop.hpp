@@ -21,8 +21,10 @@ const char* convention_name(Convention convention);
 const char* convention_formula(Convention convention);  // e.g. "L = -Y/X"
 
 // Converts and checks plausibility: a warning (code loop.sign-suspect) when
-// the lowest reliable lines of high gain have a median phase in (+30, +150)
-// deg, which a negative-feedback loop does not show and an inverted sign does.
+// the lowest reliable lines of high gain have a phase about 180 deg from what
+// the slope of |L| there predicts for a minimum-phase loop (Bode's
+// gain-phase relation), as an inverted sign gives and a negative-feedback
+// loop does not.
 LoopResponse to_loop(const Response& measured, Convention convention, Diagnostics& findings);
 
 // The inverse of to_loop: the ratio as measured (Y/X, or T), for showing it

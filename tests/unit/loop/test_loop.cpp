@@ -58,3 +58,43 @@ TEST_CASE("convention names", "[loop]") {
   CHECK(convention_from_name("closed-loop") == Convention::kClosedLoop);
   CHECK_THROWS_AS(convention_from_name("open"), ConfigError);
 }
+
+TEST_CASE("the sign check holds the phase against the slope for zero one and two integrators", "[loop]") {
+  // Bode's gain-phase relation for minimum-phase loops: n integrators fall
+  // 20 n dB a decade with -90 n deg (closed form). Inverted, each loop sits
+  // 180 deg away: a type-0 loop near 180 deg, a type-2 loop near 0 deg,
+  // which a fixed window of suspicious phases cannot tell from a normal one.
+  for (int n = 0; n <= 2; ++n) {
+    std::vector<std::complex<double>> values;
+    Response r;
+    for (int k = 0; k < 60; ++k) {
+      const double f = 10.0 * std::pow(10.0, k / 20.0);
+      const std::complex<double> jw(0.0, f / 1e3);
+      // A gain of 1000 at 1 kHz for n = 1 and 2; a type-0 loop of gain 100 rolling off at 10 kHz.
+      const std::complex<double> l = n == 0 ? 100.0 / (1.0 + jw / 10.0) : 1000.0 / std::pow(jw, n);
+      r.frequency_hz.push_back(f);
+      r.value.push_back(l);
+      r.relative_sigma.push_back(0.01);
+    }
+    INFO("integrators " << n);
+    Diagnostics normal, inverted;
+    to_loop(r, Convention::kDirect, normal);
+    to_loop(r, Convention::kSeriesInjection, inverted);
+    CHECK_FALSE(has_code(normal, "loop.sign-suspect"));
+    CHECK(has_code(inverted, "loop.sign-suspect"));
+  }
+}
+
+TEST_CASE("noisy lines at the low end do not vote on the sign", "[loop]") {
+  // An inverted integrator under lines too noisy to use (relative sigma 0.6)
+  // says nothing; only where the lines are reliable does the check speak.
+  Response r;
+  for (int k = 1; k <= 40; ++k) {
+    r.frequency_hz.push_back(10.0 * k);
+    r.value.push_back(std::complex<double>(0.0, 100.0 / k));  // -L of an integrator: +90 deg
+    r.relative_sigma.push_back(0.6);
+  }
+  Diagnostics findings;
+  to_loop(r, Convention::kDirect, findings);
+  CHECK_FALSE(has_code(findings, "loop.sign-suspect"));
+}
