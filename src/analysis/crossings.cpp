@@ -248,14 +248,28 @@ MarginSummary summarize(const Margins& margins) {
 
 void add_absence_findings(const LineTable& table, Margins& margins) {
   const Location band{.low_hz = margins.band_low_hz, .high_hz = margins.band_high_hz};
+  const auto unresolved = [&](CrossingLevel level) {
+    return std::any_of(margins.unresolved.begin(), margins.unresolved.end(),
+                       [&](const UnresolvedStretch& u) { return u.level == level; });
+  };
   if (margins.gain_crossovers.empty()) {
     const auto [low, high] = std::minmax_element(table.gain_db.begin(), table.gain_db.end());
     std::ostringstream message;
-    message << "no gain crossover in the band: |L| stays " << (*low > 0.0 ? "above" : "below") << " 0 dB (from "
-            << std::round(*low * 10.0) / 10.0 << " to " << std::round(*high * 10.0) / 10.0 << " dB)";
+    message << "no gain crossover listed in the band: ";
+    if (unresolved(CrossingLevel::kGain)) {
+      message << "|L| meets 0 dB only where its crossings could not be resolved (margins.unresolved-crossings)";
+    } else {
+      message << "|L| stays " << (*low > 0.0 ? "above" : "below") << " 0 dB (from " << std::round(*low * 10.0) / 10.0
+              << " to " << std::round(*high * 10.0) / 10.0 << " dB)";
+    }
     margins.findings.push_back(make_note("margins.no-gain-crossover", message.str(), band));
   }
-  if (margins.phase_crossovers.empty()) {
+  if (margins.phase_crossovers.empty() && unresolved(CrossingLevel::kPhase)) {
+    margins.findings.push_back(make_note("margins.no-phase-crossover",
+                                         "no phase crossover listed in the band: the phase meets -180 deg only where "
+                                         "its crossings could not be resolved (margins.unresolved-crossings)",
+                                         band));
+  } else if (margins.phase_crossovers.empty()) {
     margins.findings.push_back(
         make_note("margins.no-phase-crossover", "no phase crossover in the band: the phase never reaches -180 deg", band));
   }

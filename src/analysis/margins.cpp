@@ -351,6 +351,12 @@ Margins find_margins(const Response& all_lines, const MarginOptions& options) {
   margins.modulus = detail::modulus_point(table, options);
   margins.disk = detail::disk_point(table, options);
   margins.stability = assess_stability(loop, {.open_loop_rhp_poles = options.open_loop_rhp_poles, .sign_doubted = options.sign_doubted});
+  if (margins.stability.verdict == StabilityVerdict::kUnstable) {
+    margins.findings.push_back(make_warning(
+        "margins.closed-loop-unstable",
+        "the closed loop is unstable by the Nyquist count: the margins, the modulus margin and the disk margin "
+        "measure the distance to a boundary the loop has already crossed and do not say that it is robust"));
+  }
   margins.summary = detail::summarize(margins);
   report_possible(margins.summary, margins.findings);
   detail::add_absence_findings(table, margins);

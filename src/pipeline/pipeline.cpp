@@ -59,7 +59,23 @@ class RoleSelector {
         z_(from_difference_ ? 0
                             : channel_index(source, roles.injection, "the injection z", "--z", "z under [roles]",
                                             std::string("; to compute the injection as x - y, give --z ") +
-                                                kInjectionFromDifference)) {}
+                                                kInjectionFromDifference)) {
+    check_distinct(source);
+  }
+
+  // One channel in two roles makes no measurement: z = x turns the reference
+  // method into the biased two-channel estimate, x = y gives L = -1.
+  void check_distinct(const SampleSource& source) const {
+    const auto clash = [&](std::size_t a, std::size_t b, const char* first, const char* second) {
+      if (a != b) return;
+      throw ConfigError(source.origin() + ": " + first + " and " + second + " are the same channel '" +
+                        source.channel_names()[a] + "'; give each role its own channel (--z, --x, --y)");
+    };
+    clash(x_, y_, "x", "y");
+    if (from_difference_) return;
+    clash(z_, x_, "the injection z", "x");
+    clash(z_, y_, "the injection z", "y");
+  }
 
   RoleChannels select(const SampleBlock& block) {
     const auto& x = block.channels[x_];
@@ -150,17 +166,11 @@ void refuse_weak(const Response& measured, const AnalysisOptions& options, std::
           << options.min_effective_averages << " are needed for the lines' uncertainty, and so the margins and "
           << "their intervals, to mean anything. ";
   if (m.kind == ResponseMethodKind::kWelch) {
-    // The largest power-of-two segment that gives about 16 averages at the
-    // overlap in use (each segment advances by step samples).
     const WelchOptions& w = options.welch;
-    std::size_t segment = w.segment_length;
-    const auto averages_at = [&](std::size_t length) {
-      const double step = std::max(1.0, static_cast<double>(length) * (1.0 - w.overlap));
-      return (static_cast<double>(sample_count) - static_cast<double>(length)) / step + 1.0;
-    };
-    while (segment > 64 && averages_at(segment) < 16.0) segment /= 2;
-    message << "Use shorter segments (--segment " << segment << " gives about " << std::lround(averages_at(segment))
-            << ") or a longer record";
+    const std::size_t segment = suggested_segment(sample_count, w.overlap, w.segment_length / 2);
+    const auto averages_at = [&](std::size_t length) { return segments_of(sample_count, w.overlap, length); };
+    message << "Use shorter segments (--segment " << segment << " gives " << std::lround(averages_at(segment))
+            << " segments) or a longer record";
   } else {
     message << "Record more periods, or skip fewer (skip_periods in the settings file)";
   }

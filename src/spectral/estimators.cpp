@@ -18,7 +18,9 @@ class WelchEstimator final : public ResponseEstimator {
     if (welch_.segments_done() == 0) {
       std::ostringstream message;
       message << end.origin << ": the record has " << end.sample_count << " samples, fewer than one segment of "
-              << welch_options_.segment_length << "; choose a shorter segment length";
+              << welch_options_.segment_length << "; use a shorter segment (--segment "
+              << suggested_segment(end.sample_count, welch_options_.overlap, welch_options_.segment_length / 2)
+              << ") or a longer record";
       throw InputError(message.str());
     }
     const CrossSpectra spectra = welch_.finish(end.sample_rate_hz);

@@ -2,6 +2,7 @@
 
 #include <Eigen/Core>
 #include <algorithm>
+#include <iomanip>
 #include <cmath>
 #include <numeric>
 #include <sstream>
@@ -59,6 +60,18 @@ double effective_averages(const std::vector<double>& window, std::size_t step, s
   return k / inflation;
 }
 
+double segments_of(std::size_t samples, double overlap, std::size_t length) {
+  if (samples < length) return 0.0;
+  const double step = std::max(1.0, std::floor(static_cast<double>(length) * (1.0 - overlap)));
+  return std::floor(static_cast<double>(samples - length) / step) + 1.0;
+}
+
+std::size_t suggested_segment(std::size_t samples, double overlap, std::size_t longest, double segments) {
+  std::size_t length = 64;
+  while (length * 2 <= longest && segments_of(samples, overlap, length * 2) >= segments) length *= 2;
+  return length;
+}
+
 Diagnostics spectral_findings(const CrossSpectra& spectra, const std::vector<std::string>& names) {
   // Below 12 the intervals of crossings run about 1.2 times too narrow
   // (measured: AnalysisOptions::min_effective_averages).
@@ -68,9 +81,13 @@ Diagnostics spectral_findings(const CrossSpectra& spectra, const std::vector<std
   Diagnostics out;
   if (spectra.effective_averages < kMinAverages) {
     std::ostringstream message;
-    message << "only " << spectra.effective_averages << " effective averages (" << spectra.segments
-            << " segments): the lines' uncertainty, and so every interval, may be underestimated; a shorter "
-               "segment (--segment) or a longer record helps";
+    const std::size_t samples = (spectra.segments - 1) * spectra.step + spectra.segment_length;
+    const double overlap = 1.0 - static_cast<double>(spectra.step) / static_cast<double>(spectra.segment_length);
+    const std::size_t shorter = suggested_segment(samples, overlap, spectra.segment_length / 2);
+    message << "only " << std::fixed << std::setprecision(1) << spectra.effective_averages << " effective averages ("
+            << spectra.segments << (spectra.segments == 1 ? " segment" : " segments")
+            << "): the lines' uncertainty, and so every interval, may be underestimated; shorter segments (--segment "
+            << shorter << " gives about " << std::lround(segments_of(samples, overlap, shorter)) << " segments) or a longer record help";
     out.push_back(make_warning("spectral.few-averages", message.str()));
   }
   // Loop channels only: power near Nyquist that the injection does not explain
@@ -310,7 +327,8 @@ CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
   if (segments == 0) {
     std::ostringstream message;
     message << "the record has " << s.samples << " samples, fewer than one segment of " << s.options.segment_length
-            << "; choose a shorter segment length";
+            << "; use a shorter segment (--segment " << suggested_segment(s.samples, s.options.overlap, s.options.segment_length / 2)
+            << ") or a longer record";
     throw NumericalError(message.str());
   }
   const double power = std::inner_product(s.window.begin(), s.window.end(), s.window.begin(), 0.0);
@@ -321,6 +339,7 @@ CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
   result.segment_length = n;
   result.segments = segments;
   result.effective_averages = effective_averages(s.window, s.options.step(), segments);
+  result.step = s.options.step();
   result.sample_rate_hz = sample_rate_hz;
   result.pairs = s.lanes[0].sums;
   for (std::size_t lane = 1; lane < s.lanes.size(); ++lane) {

@@ -41,6 +41,7 @@ struct CrossSpectra {
   std::size_t channel_count = 0;
   std::size_t segment_length = 0;
   std::size_t segments = 0;
+  std::size_t step = 0;  // samples between segment starts
   // Number of independent averages with the same variance as the overlapped
   // ones (Welch 1967, variance of the overlapped estimate).
   double effective_averages = 0.0;
@@ -86,6 +87,15 @@ class WelchAccumulator {
 //                          power in the top tenth of the band, incoherent
 //                          with channel 0 (the injection): a hint of aliasing
 Diagnostics spectral_findings(const CrossSpectra& spectra, const std::vector<std::string>& names);
+
+// The longest power-of-two segment, at most `longest` and at least 64, that
+// cuts `samples` into at least `segments` segments at this overlap: what the
+// messages about too few averages suggest (kSuggestedSegments).
+inline constexpr double kSuggestedSegments = 16.0;
+std::size_t suggested_segment(std::size_t samples, double overlap, std::size_t longest,
+                              double segments = kSuggestedSegments);
+// How many whole segments of `length` fit `samples` at this overlap.
+double segments_of(std::size_t samples, double overlap, std::size_t length);
 
 // Effective number of independent averages for `segments` segments of
 // `window` started `step` samples apart (Welch 1967).
