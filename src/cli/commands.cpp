@@ -169,18 +169,26 @@ namespace {
 // shared by analyze and inspect.
 // LOW:HIGH in Hz as an interval; nullopt when the text is not that.
 std::optional<Interval> parse_band(const std::string& text) {
+  // A frequency in Hz, with an optional k or M: "20", "2.5k", "1M".
+  const auto frequency = [](const std::string& part) -> std::optional<double> {
+    std::size_t used = 0;
+    double value = 0.0;
+    try {
+      value = std::stod(part, &used);
+    } catch (const std::exception&) {
+      return std::nullopt;
+    }
+    const std::string suffix = part.substr(used);
+    if (suffix.empty()) return value;
+    if (suffix == "k" || suffix == "K") return value * 1e3;
+    if (suffix == "M") return value * 1e6;
+    return std::nullopt;
+  };
   const auto colon = text.find(':');
   if (colon == std::string::npos) return std::nullopt;
-  try {
-    std::size_t used_low = 0, used_high = 0;
-    const std::string low = text.substr(0, colon), high = text.substr(colon + 1);
-    const Interval band{std::stod(low, &used_low), std::stod(high, &used_high)};
-    if (used_low != low.size() || used_high != high.size()) return std::nullopt;
-    if (!(band.low > 0.0 && band.high > band.low && std::isfinite(band.high))) return std::nullopt;
-    return band;
-  } catch (const std::exception&) {
-    return std::nullopt;
-  }
+  const auto low = frequency(text.substr(0, colon)), high = frequency(text.substr(colon + 1));
+  if (!low || !high || !(*low > 0.0 && *high > *low && std::isfinite(*high))) return std::nullopt;
+  return Interval{*low, *high};
 }
 
 // Options of the margins stage, shared by analyze and table.
@@ -188,7 +196,7 @@ void add_margin_options(CLI::App* cmd, double& confidence, int& rhp_poles, std::
   cmd->add_option("--band", band, "Read margins only from the lines from LOW to HIGH Hz [the excited band]")
       ->check(CLI::Validator(
           [](const std::string& text) {
-            return parse_band(text) ? std::string() : "'" + text + "' is not LOW:HIGH in Hz with 0 < LOW < HIGH";
+            return parse_band(text) ? std::string() : "'" + text + "' is not LOW:HIGH in Hz (k and M allowed: 2k:50k) with 0 < LOW < HIGH";
           },
           "", "band"))
       ->type_name("LOW:HIGH");

@@ -294,6 +294,18 @@ FirstPass first_pass(SampleSource& source, const AnalysisOptions& options, bool 
   return pass;
 }
 
+// A periodic injection's band as its excited lines give it: the detector
+// sees the band only at its frame's resolution (the sample rate over 1024),
+// the periodic estimator line by line.
+ExcitationPlan with_excited_lines(ExcitationPlan plan, const AnalysisResult& result) {
+  const Response& lines = result.loop.lines;
+  if (result.excitation_kind == ExcitationKind::kPeriodic && plan.kind == ExcitationKind::kPeriodic && lines.size()) {
+    plan.low_hz = lines.frequency_hz.front();
+    plan.high_hz = lines.frequency_hz.back();
+  }
+  return plan;
+}
+
 bool needs_plan(const AnalysisOptions& options) {
   const auto forced = options.excitation;
   return !forced || *forced == ExcitationKind::kStepped || !options.schedule_path.empty() ||
@@ -347,7 +359,7 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
     AnalysisResult result =
         run_kind(replay, options, options.excitation.value_or(plan.kind), plan, sample_rate_hz, progress);
     plan.rescale_frequencies(result.record->sample_rate_hz);
-    result.excitation = std::move(plan);
+    result.excitation = with_excited_lines(std::move(plan), result);
     return result;
   }
   if (!options.schedule_path.empty()) {
@@ -359,7 +371,7 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
   const ExcitationKind kind = dwells_given ? ExcitationKind::kStepped : options.excitation.value_or(plan.kind);
   source = open();
   AnalysisResult result = run_kind(*source, options, kind, plan, sample_rate_hz, progress);
-  result.excitation = std::move(plan);
+  result.excitation = with_excited_lines(std::move(plan), result);
   return result;
 }
 

@@ -94,7 +94,7 @@ class Files(unittest.TestCase):
             f"{n / RATE!r},{z!r},{x!r},{y!r}\n" for n, (z, x, y) in enumerate(self.data))
         path = self.write("skip.csv", text)
         self.expect(SETTINGS, "analyze", path, contains=("'Range' 'Offset'", "taken from line 1", "--skip-rows N"))
-        self.expect(INPUT, "analyze", path, "--sample-rate", RATE, "--z", "Range", "--x", "Offset", "--y", "Offset",
+        self.expect(INPUT, "analyze", path, "--sample-rate", RATE, "--z", "x-y", "--x", "Range", "--y", "Offset",
                     contains=("line 5, column 1 ('Range'): not a number: 't'", "taken from line 1", "--skip-rows N"))
         out = self.path("skip.json")
         run("analyze", path, "--skip-rows", 4, "--json", out)
