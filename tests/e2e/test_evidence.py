@@ -14,7 +14,7 @@ import unittest
 
 import numpy as np
 
-from cli_common import DEMO, NO_RESULT, USAGE, codes, load, run
+from cli_common import DEMO, INPUT, NO_RESULT, SETTINGS, USAGE, codes, load, run
 
 
 # A loop whose phase dips below -180 deg between about 300 Hz and 1.16 kHz
@@ -233,6 +233,23 @@ class WeakData(unittest.TestCase, Meaningful):
                 result = run("analyze", self.recording, "--band", band, check=False)
                 self.assertEqual(result.returncode, USAGE, result.stderr)
                 self.assertIn("LOW:HIGH", result.stderr)
+
+    def test_band_takes_k_and_m(self):
+        out = os.path.join(self.folder, "k.json")
+        run("analyze", self.recording, "--band", "0.1k:0.4k", "--json", out)
+        self.assertGreaterEqual(load(out)["band"]["low_hz"], 100.0)
+
+    def test_segment_longer_than_the_record_names_one_that_fits(self):
+        result = run("analyze", self.recording, "--segment", "262144", check=False)
+        self.assertEqual(result.returncode, INPUT, result.stderr)
+        # 160000 samples: 16384-sample segments at 50 % overlap give 18, the longest power of two giving 16 or more.
+        self.assertIn("--segment 16384", result.stderr)
+
+    def test_one_channel_in_two_roles_is_refused(self):
+        # z = x would make the reference method the biased two-channel estimate without a word.
+        result = run("analyze", self.recording, "--z", "x", check=False)
+        self.assertEqual(result.returncode, SETTINGS, result.stderr)
+        self.assertIn("the same channel 'x'", result.stderr)
 
     def test_band_holding_no_lines_says_so(self):
         result = run("analyze", self.recording, "--band", "4500:5000", check=False)
