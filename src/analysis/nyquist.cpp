@@ -72,10 +72,13 @@ Bottom bottom_of_band(const detail::LineTable& t) {
 // test is on |L| itself, so that a tiny, very noisy value stays inside.
 enum class Side { kInside, kOutside, kUnclear };
 Side side_of_unity(double gain_db, double relative_sigma, double clear_sigmas) {
-  const double magnitude = ratio_from_db(gain_db);
+  // relative_sigma is the standard deviation of ln |L|: the clear band is
+  // |L| e^(+-clear_sigmas sigma), which a first-order 1 +- spread would make
+  // empty on the low side for sigma of 0.5 whatever |L|.
+  const double log_magnitude = std::log(ratio_from_db(gain_db));
   const double spread = clear_sigmas * relative_sigma;
-  if (magnitude * (1.0 + spread) < 1.0) return Side::kInside;
-  if (spread < 1.0 && magnitude * (1.0 - spread) > 1.0) return Side::kOutside;
+  if (log_magnitude + spread < 0.0) return Side::kInside;
+  if (log_magnitude - spread > 0.0) return Side::kOutside;
   return Side::kUnclear;
 }
 
@@ -131,7 +134,9 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
     const Side side = side_of_unity(gain_db, std::max(table.relative_sigma[i], table.relative_sigma[i + 1]), clear_sigmas);
     if (side == Side::kUnclear) {
       result.unclear = "L meets the negative real axis near " + format_frequency(std::pow(10.0, table.log_f[i])) +
-                       " at " + gain_text(gain_db) + ", too close to -1 to tell on which side it passes";
+                       " at " + gain_text(gain_db) + ", within the lines' noise of -1 (relative uncertainty " +
+                       format_fixed(std::max(table.relative_sigma[i], table.relative_sigma[i + 1]), 2) +
+                       "): which side of -1 it passes cannot be told";
       return result;
     }
     if (side == Side::kOutside) result.count += c;
@@ -163,7 +168,7 @@ std::vector<std::string> assumptions(int rhp_poles, int integrators, double f_lo
 // (when L is outside the unit circle below the band), the branch from the
 // asymptote to the bottom line, and the crossings along the band, the
 // positive-frequency branch counted twice. Unset, with the reason in
-// `unclear`, when a crossing lies too close to -1.
+// `unclear`, when a crossing lies within the lines' noise of -1.
 std::optional<long> encirclements(const detail::LineTable& table, const Bottom& low_end, bool bottom_outside,
                                   double clear_sigmas, std::string& unclear) {
   const int n = low_end.integrators;

@@ -92,5 +92,18 @@ TEST_CASE("a real-axis crossing within the line uncertainty of -1 is undecided",
   for (double& s : lines.relative_sigma) s = 0.1;
   const auto a = assess_stability(lines);
   CHECK(a.verdict == StabilityVerdict::kUndecided);
-  CHECK_THAT(a.reason, Catch::Contains("too close to -1"));
+  CHECK_THAT(a.reason, Catch::Contains("within the lines' noise of -1"));
+}
+
+TEST_CASE("a real-axis crossing far outside -1 is clear even with noisy lines", "[analysis][nyquist]") {
+  // K = 30 puts the crossing at -5 (|L| 14 dB; closed form K/6 for this
+  // cubic). Lines with 0.45 relative sigma (of ln |L|): two sigma span a
+  // factor e^0.9 = 2.5, so -5 is clearly outside -1. A first-order bound
+  // |L| (1 - 0.9) = 0.5 would have called it unclear.
+  auto lines = known::sample(cubic(30.0), known::hz(0.01), known::hz(100.0), 200);
+  for (double& s : lines.relative_sigma) s = 0.45;
+  const auto a = assess_stability(lines);
+  CHECK(a.verdict == StabilityVerdict::kUnstable);
+  REQUIRE(a.closed_loop_rhp_poles);
+  CHECK(*a.closed_loop_rhp_poles == 2);
 }
