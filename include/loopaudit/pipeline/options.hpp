@@ -44,7 +44,7 @@ struct AnalysisOptions {
   // biased high and the intervals too narrow. Measured on the servo demo
   // over 20 seeds: at 4.8 averages the crossover's (value - truth)/sigma has
   // an rms of 1.7 and the gain margin a bias of -1 sigma; at 7.6 the rms is
-  // 1.2 and at 17 under 0.4. Below 12 the spectral stage warns
+  // 1.2 and at 17 0.5 (scripts/averages-scatter). Below 12 the spectral stage warns
   // (spectral.few-averages).
   double min_effective_averages = 6.0;
 };
