@@ -1,6 +1,7 @@
 #include "loopaudit/ingest/recording.hpp"
 
 #include <algorithm>
+#include <sstream>
 #include <cctype>
 #include <cmath>
 #include <filesystem>
@@ -53,13 +54,22 @@ class CalibratedSource final : public SampleSource {
       const auto c = static_cast<std::size_t>(it - names.begin());
       scale_[c] *= factor;
       offset_[c] *= factor;
+      std::ostringstream factor_text;
+      factor_text << factor;
+      scaled_ += (scaled_.empty() ? "" : ", ") + ("'" + name + "' multiplied by " + factor_text.str());
     }
   }
 
   const std::vector<std::string>& channel_names() const override { return inner_->channel_names(); }
   std::vector<std::string> channel_units() const override { return inner_->channel_units(); }
   const std::string& origin() const override { return inner_->origin(); }
-  SourceSummary summary() const override { return inner_->summary(); }
+  // The factors given by name are part of how the recording was read: they
+  // change every result, so the recording line and the JSON carry them.
+  SourceSummary summary() const override {
+    SourceSummary summary = inner_->summary();
+    if (!scaled_.empty()) summary.layout += (summary.layout.empty() ? "" : "; ") + scaled_;
+    return summary;
+  }
   bool next(SampleBlock& block) override {
     if (!inner_->next(block)) return false;
     for (std::size_t c = 0; c < block.channels.size(); ++c) {
@@ -73,6 +83,7 @@ class CalibratedSource final : public SampleSource {
   std::unique_ptr<SampleSource> inner_;
   std::vector<double> scale_;
   std::vector<double> offset_;
+  std::string scaled_;  // "'y' multiplied by -10", for the summary
 };
 
 std::unique_ptr<SampleSource> open_format(const std::string& path, const RecordingOptions& options) {

@@ -56,6 +56,7 @@ Json input_json(const AnalysisResult& result) {
     out["samples"] = r.sample_count;
     out["channels"] = r.channel_names;
     out["roles"] = {{"z", r.roles.injection}, {"x", r.roles.x}, {"y", r.roles.y}};
+    out["read_as"] = r.layout;  // how the file was read: a raw layout, the datasets, factors by name
   }
   return out;
 }
