@@ -143,6 +143,11 @@ TEST_CASE("a simulator's AC export with one complex value per cell", "[ingest][t
   const Response c = read_response_table(cartesian.path()).response;
   REQUIRE(c.size() == 2);
   CHECK(std::abs(c.value[1] - std::complex<double>(-0.5, 0)) < 1e-12);
+  TempFile ratio("Freq.\tV(out)/V(in)\n1e3\t(0.5,180deg)\n");
+  CHECK(std::abs(read_response_table(ratio.path()).response.value[0] - std::complex<double>(-0.5, 0)) < 1e-12);
+  // A decimal comma is no complex value: "1,5" in a ';' table stays a number.
+  TempFile comma("f;re;im\n1;1,5;0\n");
+  CHECK(read_response_table(comma.path()).response.value[0] == std::complex<double>(1.5, 0));
   CHECK_THAT(message_of("Freq.\tV(out)/V(in)\n1e3\t(0dB,-90\xC2\xB0)\n2e3\t(0dB)\n"),
              Catch::Contains("line 3, column 2 ('V(out)/V(in)'): not one complex value: '(0dB)'"));
   CHECK_THAT(message_of("Freq.\tV(out)\tV(in)\n1e3\t(0dB,-90\xC2\xB0)\t(0dB,0\xC2\xB0)\n"),
