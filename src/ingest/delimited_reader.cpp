@@ -3,6 +3,7 @@
 #include <charconv>
 #include <cctype>
 #include <cmath>
+#include <initializer_list>
 #include <iomanip>
 #include <sstream>
 
@@ -26,22 +27,34 @@ using detail::trim;
 // Blank lines and comments ('#' or '%' first), before the header or among the rows.
 bool is_skipped(std::string_view line) { return detail::is_skipped_line(line); }
 
-// Seconds per unit of a time column; throws for a unit that is not a time.
-double seconds_per(const std::string& unit, const std::string& path) {
-  if (unit.empty() || unit == "s") return 1.0;
-  if (unit == "ms") return 1e-3;
-  if (unit == "us" || unit == "\xC2\xB5s") return 1e-6;
-  if (unit == "ns") return 1e-9;
-  throw InputError(path + ": the time column's unit '" + unit + "' is not one of s, ms, us, ns");
-}
-
 std::string lowercase(std::string text) {
   std::transform(text.begin(), text.end(), text.begin(), [](unsigned char c) { return std::tolower(c); });
   return text;
 }
 
-std::optional<std::size_t> find_time_column(const std::vector<std::string>& names, const std::string& wanted,
-                                            const std::string& path) {
+// Seconds per unit of time; 0 for a unit that is not a time.
+double seconds_per_unit(const std::string& written) {
+  const std::string unit = lowercase(written);
+  const auto is = [&](std::initializer_list<std::string_view> names) {
+    return std::find(names.begin(), names.end(), unit) != names.end();
+  };
+  if (is({"", "s", "sec", "second", "seconds"})) return 1.0;
+  if (is({"ms", "msec"})) return 1e-3;
+  if (is({"us", "\xC2\xB5s", "usec"})) return 1e-6;
+  if (is({"ns", "nsec"})) return 1e-9;
+  return 0.0;
+}
+
+// Seconds per unit of a time column; throws for a unit that is not a time.
+double seconds_per(const std::string& written, const std::string& path) {
+  if (const double factor = seconds_per_unit(written); factor > 0.0) return factor;
+  throw InputError(path + ": the time column's unit '" + written + "' is not one of s (sec, second), ms, us, ns");
+}
+
+bool is_time_unit(const std::string& unit) { return !unit.empty() && seconds_per_unit(unit) > 0.0; }
+
+std::optional<std::size_t> find_time_column(const std::vector<std::string>& names, const std::vector<std::string>& units,
+                                            const std::string& wanted, const std::string& path) {
   if (!wanted.empty()) {
     const auto it = std::find(names.begin(), names.end(), wanted);
     if (it == names.end()) {
@@ -55,6 +68,9 @@ std::optional<std::size_t> find_time_column(const std::vector<std::string>& name
     const std::string name = lowercase(names[i]);
     if (name == "t" || name == "time" || name == "time_s") return i;
   }
+  // No column named as time: the first whose unit is one ("X" over "Second").
+  const auto timed = std::find_if(units.begin(), units.end(), is_time_unit);
+  if (timed != units.end()) return static_cast<std::size_t>(timed - units.begin());
   return std::nullopt;
 }
 
@@ -74,9 +90,11 @@ class DelimitedReader final : public SampleSource {
  private:
   void read_header();
   void check_names();
+  void warn_unused_names();
   void find_time();
   bool next_line(std::string_view& line);
   void parse_row(std::string_view line, SampleBlock& block);
+  void check_last_cell(std::string_view line, std::size_t start) const;
   std::size_t read_cell(std::string_view line, std::size_t start, std::string_view& cell,
                         std::optional<double>& value) const;
   [[noreturn]] void fail_cell(std::size_t column, std::string_view cell, const char* what) const;
@@ -100,6 +118,7 @@ class DelimitedReader final : public SampleSource {
   detail::StampChecker stamps_;
   char delimiter_ = ',';
   bool decimal_comma_ = false;
+  bool trailing_delimiter_ = false;  // every line ends with the delimiter
   double seconds_per_stamp_ = 1.0;
   std::vector<std::string> column_names_;
   std::vector<std::string> column_units_;
@@ -120,10 +139,17 @@ void DelimitedReader::read_header() {
   above_header_ = std::move(found.before);
   pending_ = std::move(found.after);
   header_guessed_ = found.searched;
+  trailing_delimiter_ = found.trailing_delimiter;
   for (const std::string& column : split_names(found.header.text, delimiter_)) {
     auto [name, unit] = split_unit(column);
     column_names_.push_back(std::move(name));
     column_units_.push_back(std::move(unit));
+  }
+  if (found.units) {  // a units row: for the columns whose name gives none
+    const auto units = split_names(found.units->text, delimiter_);
+    for (std::size_t i = 0; i < units.size() && i < column_units_.size(); ++i) {
+      if (column_units_[i].empty()) column_units_[i] = detail::unit_of_cell(units[i]);
+    }
   }
   check_names();
   find_time();
@@ -133,6 +159,17 @@ void DelimitedReader::read_header() {
     channel_units_.push_back(column_units_[i]);
   }
   if (channel_names_.empty()) throw InputError(path_ + ": the header names no channel besides the time");
+  warn_unused_names();
+}
+
+void DelimitedReader::warn_unused_names() {
+  if (options_.unused_channel_names.empty()) return;
+  std::ostringstream message;
+  message << "--channels (channels under [input]) names the channels of files without names; line " << header_line_
+          << " names them here:";
+  for (const auto& name : channel_names_) message << " '" << name << "'";
+  message << ". Pick channels with --z, --x and --y (or [roles]), or rename the columns in the header";
+  summary_.findings.push_back(make_warning("ingest.channels-unused", message.str()));
 }
 
 void DelimitedReader::check_names() {
@@ -153,7 +190,7 @@ void DelimitedReader::check_names() {
 }
 
 void DelimitedReader::find_time() {
-  time_column_ = find_time_column(column_names_, options_.time_column, path_);
+  time_column_ = find_time_column(column_names_, column_units_, options_.time_column, path_);
   if (time_column_) seconds_per_stamp_ = seconds_per(column_units_[*time_column_], path_);
   if (time_column_ || options_.sample_rate_hz) return;
   std::ostringstream message;
@@ -235,12 +272,35 @@ void DelimitedReader::parse_row(std::string_view line, SampleBlock& block) {
       block.channels[channel++].push_back(*value);
     }
   }
+  if (trailing_delimiter_) return check_last_cell(line, start);
   if (start <= line.size()) {
     std::ostringstream message;
     message << path_ << ": line " << line_number_ << ": more cells than the " << column_names_.size()
             << " columns the header names" << header_hint();
     throw InputError(message.str());
   }
+}
+
+// The header ends with a delimiter, so each row must too: its last cell,
+// from `start`, is empty.
+void DelimitedReader::check_last_cell(std::string_view line, std::size_t start) const {
+  const std::size_t columns = column_names_.size();
+  std::ostringstream message;
+  message << path_ << ": line " << line_number_;
+  if (start > line.size()) {
+    message << ": " << columns << " cells where the header (line " << header_line_ << ") has " << columns + 1
+            << ", its last one empty (the header ends with a delimiter; so must every row)";
+  } else if (line.find(delimiter_, start) != std::string_view::npos) {
+    message << ": more cells than the " << columns + 1 << " of the header (line " << header_line_
+            << "), which ends with a delimiter" << header_hint();
+  } else if (!trim(line.substr(start)).empty()) {
+    message << ", column " << columns + 1 << ": '" << trim(line.substr(start))
+            << "' under the header's empty last cell (line " << header_line_
+            << " ends with a delimiter): name that column in the header, or leave the cell empty";
+  } else {
+    return;
+  }
+  throw InputError(message.str());
 }
 
 bool DelimitedReader::next(SampleBlock& block) {

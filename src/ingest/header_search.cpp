@@ -24,45 +24,93 @@ std::vector<std::string_view> cells_of(std::string_view line, char delimiter) {
   }
 }
 
-bool names_only(std::string_view line, char delimiter) {
-  for (const auto cell : cells_of(line, delimiter)) {
-    if (trim(cell).empty() || parse_cell(cell, delimiter == ';')) return false;
+// A header candidate: its width, and whether its last cell is empty (a
+// delimiter at the end of the line).
+struct Shape {
+  std::size_t width = 0;
+  bool trailing = false;
+};
+
+bool blank(std::string_view cell) { return trim(cell).empty(); }
+
+std::optional<Shape> names_shape(std::string_view line, char delimiter) {
+  const auto cells = cells_of(line, delimiter);
+  const bool trailing = cells.size() > 1 && blank(cells.back());
+  for (std::size_t i = 0; i + (trailing ? 1 : 0) < cells.size(); ++i) {
+    if (blank(cells[i]) || parse_cell(cells[i], delimiter == ';')) return std::nullopt;
+  }
+  return Shape{cells.size(), trailing};
+}
+
+bool numbers_only(std::string_view line, char delimiter, Shape shape) {
+  const auto cells = cells_of(line, delimiter);
+  if (cells.size() != shape.width) return false;
+  for (std::size_t i = 0; i < cells.size(); ++i) {
+    const bool last = i + 1 == cells.size();
+    if (shape.trailing && last ? !blank(cells[i]) : !parse_cell(cells[i], delimiter == ';')) return false;
   }
   return true;
 }
 
-bool numbers_only(std::string_view line, char delimiter, std::size_t width) {
+bool units_only(std::string_view line, char delimiter, std::size_t width) {
   const auto cells = cells_of(line, delimiter);
-  if (cells.size() != width) return false;
-  return std::all_of(cells.begin(), cells.end(), [&](std::string_view c) { return parse_cell(c, delimiter == ';').has_value(); });
+  if (cells.size() != width || std::all_of(cells.begin(), cells.end(), blank)) return false;
+  return std::all_of(cells.begin(), cells.end(), [](std::string_view c) { return blank(c) || is_unit_cell(c); });
 }
 
-// The index in `lines` of the first line of names followed by rows of numbers
-// of its width.
-std::optional<std::size_t> confirmed_header(const std::vector<NumberedLine>& lines, std::optional<char> delimiter) {
+struct Confirmed {
+  std::size_t header = 0;
+  std::optional<std::size_t> units;
+};
+
+// The first line of names followed by rows of numbers of its width, or by a
+// line of units and then such rows; indexes into `lines`.
+std::optional<Confirmed> confirmed_header(const std::vector<NumberedLine>& lines, std::optional<char> delimiter) {
   std::vector<std::size_t> kept;  // lines that are not blank or comments
   for (std::size_t i = 0; i < lines.size(); ++i) {
     if (!is_skipped_line(lines[i].text)) kept.push_back(i);
   }
+  const auto rows_fit = [&](std::size_t from, char d, Shape shape) {
+    if (from >= kept.size()) return false;
+    const std::size_t last = std::min(kept.size(), from + kRowsChecked);
+    for (std::size_t j = from; j < last; ++j) {
+      if (!numbers_only(lines[kept[j]].text, d, shape)) return false;
+    }
+    return true;
+  };
   for (std::size_t k = 0; k + 1 < kept.size(); ++k) {
     const std::string& candidate = lines[kept[k]].text;
     const char d = delimiter.value_or(detect_delimiter(candidate));
-    if (!names_only(candidate, d)) continue;
-    const std::size_t width = cells_of(candidate, d).size();
-    const std::size_t last = std::min(kept.size(), k + 1 + kRowsChecked);
-    bool rows_fit = true;
-    for (std::size_t j = k + 1; j < last && rows_fit; ++j) rows_fit = numbers_only(lines[kept[j]].text, d, width);
-    if (rows_fit) return kept[k];
+    const auto shape = names_shape(candidate, d);
+    if (!shape) continue;
+    if (rows_fit(k + 1, d, *shape)) return Confirmed{kept[k], std::nullopt};
+    if (units_only(lines[kept[k + 1]].text, d, shape->width) && rows_fit(k + 2, d, *shape)) {
+      return Confirmed{kept[k], kept[k + 1]};
+    }
   }
   return std::nullopt;
 }
 
-FoundHeader split_at(std::vector<NumberedLine>& lines, std::size_t header, std::optional<char> delimiter) {
+// Takes a delimiter off the end of the line, with the blanks after it.
+std::string without_last_cell(const std::string& line, char delimiter) {
+  return line.substr(0, line.rfind(delimiter));
+}
+
+FoundHeader split_at(std::vector<NumberedLine>& lines, std::size_t header, std::optional<char> delimiter,
+                     std::optional<std::size_t> units = std::nullopt) {
   FoundHeader found;
   found.header = std::move(lines[header]);
   found.delimiter = delimiter.value_or(detect_delimiter(found.header.text));
+  const auto cells = cells_of(found.header.text, found.delimiter);
+  found.trailing_delimiter = cells.size() > 1 && blank(cells.back());
+  if (found.trailing_delimiter) found.header.text = without_last_cell(found.header.text, found.delimiter);
+  if (units) {
+    found.units = std::move(lines[*units]);
+    if (found.trailing_delimiter) found.units->text = without_last_cell(found.units->text, found.delimiter);
+  }
+  const std::size_t rows = units.value_or(header) + 1;
   found.before.assign(std::make_move_iterator(lines.begin()), std::make_move_iterator(lines.begin() + header));
-  found.after.assign(std::make_move_iterator(lines.begin() + header + 1), std::make_move_iterator(lines.end()));
+  found.after.assign(std::make_move_iterator(lines.begin() + rows), std::make_move_iterator(lines.end()));
   return found;
 }
 
@@ -71,6 +119,17 @@ bool read_line(LineReader& lines, std::vector<NumberedLine>& into) {
   if (!lines.next(line)) return false;
   into.push_back({lines.line_number(), std::string(line)});
   return true;
+}
+
+// The header is the last line read; a line of units may follow it.
+FoundHeader split_at_given(LineReader& lines, std::vector<NumberedLine>& read, std::optional<char> delimiter) {
+  const std::size_t header = read.size() - 1;
+  const char d = delimiter.value_or(detect_delimiter(read[header].text));
+  const std::size_t width = cells_of(read[header].text, d).size();
+  while (read_line(lines, read) && is_skipped_line(read.back().text)) {
+  }
+  const bool units = read.size() > header + 1 && units_only(read.back().text, d, width);
+  return split_at(read, header, delimiter, units ? std::optional(read.size() - 1) : std::nullopt);
 }
 
 }  // namespace
@@ -106,11 +165,11 @@ FoundHeader find_header(LineReader& lines, const std::string& path, std::optiona
                          " lines skipped (--skip-rows, lines_before_header)");
       }
     } while (is_skipped_line(read.back().text));
-    return split_at(read, read.size() - 1, delimiter);
+    return split_at_given(lines, read, delimiter);
   }
   while (read.size() < kHeaderSearchLines && read_line(lines, read)) {
   }
-  if (const auto header = confirmed_header(read, delimiter)) return split_at(read, *header, delimiter);
+  if (const auto header = confirmed_header(read, delimiter)) return split_at(read, header->header, delimiter, header->units);
   const auto first = std::find_if(read.begin(), read.end(), [](const NumberedLine& l) { return !is_skipped_line(l.text); });
   if (first == read.end() && read.size() < kHeaderSearchLines) {
     throw InputError(path + ": the file is empty; a header line naming the columns is needed");
@@ -183,6 +242,34 @@ std::optional<RateHint> find_rate_hint(const std::vector<NumberedLine>& lines) {
     if (const auto rate = hinted_rate(trim(line.text))) return RateHint{line.number, std::string(trim(line.text)), *rate};
   }
   return std::nullopt;
+}
+
+}  // namespace loopaudit::detail
+
+namespace loopaudit::detail {
+
+std::string unit_of_cell(std::string_view cell) {
+  cell = trim(cell);
+  if (cell.size() >= 2 && ((cell.front() == '(' && cell.back() == ')') || (cell.front() == '[' && cell.back() == ']'))) {
+    cell = trim(cell.substr(1, cell.size() - 2));
+  }
+  return std::string(cell);
+}
+
+bool is_unit_cell(std::string_view cell) {
+  static constexpr std::string_view kBases[] = {
+      "s",  "sec", "second", "seconds", "v",   "volt",   "volts",   "a",        "amp",  "amps", "ampere", "amperes",
+      "hz", "db",  "dbv",    "dbm",     "deg", "degree", "degrees", "\xC2\xB0", "\xB0", "rad",  "w",      "watt",
+      "watts", "ohm", "ohms", "\xCE\xA9", "%", "v/v"};
+  const std::string unit = lowercase(unit_of_cell(cell));
+  const auto known = [&](std::string_view u) { return std::find(std::begin(kBases), std::end(kBases), u) != std::end(kBases); };
+  if (known(unit)) return true;
+  for (std::string_view prefix : {"m", "u", "\xC2\xB5", "n", "p", "k", "g"}) {
+    if (unit.size() > prefix.size() && unit.compare(0, prefix.size(), prefix) == 0 && known(std::string_view(unit).substr(prefix.size()))) {
+      return true;
+    }
+  }
+  return false;
 }
 
 }  // namespace loopaudit::detail

@@ -27,16 +27,32 @@ struct FoundHeader {
   std::vector<NumberedLine> before;  // lines above the header (metadata, comments, blanks)
   std::vector<NumberedLine> after;   // rows read past the header while looking; to be parsed first
   bool searched = false;             // true: looked for it and took the first line, finding no better
+  // A line of units right under the header ("Second,Volt,Volt"), not among `after`.
+  std::optional<NumberedLine> units;
+  // The header ended with a delimiter (an empty last cell), as do the rows:
+  // `header.text` and `units` have it taken off; each row still has it.
+  bool trailing_delimiter = false;
 };
 
 // Without `lines_before_header`: the header is the first line of names
 // (no cell empty or a number) followed by rows of numbers of the same width
-// (up to 3 checked), within the first kHeaderSearchLines lines; if there is
-// none, the first line that is not blank or a comment. With it: the first
-// such line after that many lines. Blank lines and lines starting with '#' or
-// '%' are never the header. Throws InputError for a file with no such line.
+// (up to 3 checked), within the first kHeaderSearchLines lines, or by one
+// line of units (every cell blank or a unit, see is_unit_cell) and then such
+// rows; if there is none, the first line that is not blank or a comment.
+// With it: the first such line after that many lines (a line of units under
+// it is taken as such). An empty last cell in the header, as a delimiter at
+// the end of every line leaves, is allowed when the rows end the same way.
+// Blank lines and lines starting with '#' or '%' are never the header. Throws
+// InputError for a file with no such line.
 FoundHeader find_header(LineReader& lines, const std::string& path, std::optional<std::size_t> lines_before_header,
                         std::optional<char> delimiter);
+
+// A cell of a units row: a unit of time, voltage, current, frequency, gain
+// or angle, with an SI prefix, in brackets or not ("Second", "Volt", "mV", "(A)").
+bool is_unit_cell(std::string_view cell);
+
+// A units row's cell with blanks and brackets taken off: "(V)" -> "V".
+std::string unit_of_cell(std::string_view cell);
 
 // Blank, or a comment ('#' or '%' first).
 bool is_skipped_line(std::string_view line);

@@ -5,7 +5,11 @@
 #include <charconv>
 #include <fast_float/fast_float.h>
 #include <cmath>
+#include <cctype>
 #include <cstdlib>
+#include <initializer_list>
+
+#include "loopaudit/units.hpp"
 
 namespace loopaudit::detail {
 
@@ -30,6 +34,42 @@ std::optional<double> parse_number(std::string_view cell) {
   const char* end = cell.data() + cell.size();
   if (read_double(cell.data(), end, value) != end) return std::nullopt;
   return value;
+}
+
+namespace {
+
+// A number followed by one of `suffixes` (or by nothing, then `suffixed` is
+// false), and nothing else.
+std::optional<double> number_with_suffix(std::string_view text, std::initializer_list<std::string_view> suffixes,
+                                         bool& suffixed) {
+  text = trim(text);
+  double value = 0.0;
+  const char* stop = read_double(text.data(), text.data() + text.size(), value);
+  if (stop == nullptr) return std::nullopt;
+  std::string rest(trim(std::string_view(stop, static_cast<std::size_t>(text.data() + text.size() - stop))));
+  std::transform(rest.begin(), rest.end(), rest.begin(), [](unsigned char c) { return std::tolower(c); });
+  suffixed = !rest.empty();
+  if (!suffixed || std::find(suffixes.begin(), suffixes.end(), rest) != suffixes.end()) return value;
+  return std::nullopt;
+}
+
+}  // namespace
+
+std::optional<std::complex<double>> parse_complex_cell(std::string_view cell) {
+  cell = trim(cell);
+  if (cell.size() < 2 || cell.front() != '(' || cell.back() != ')') return std::nullopt;
+  cell = cell.substr(1, cell.size() - 2);
+  const auto comma = cell.find(',');
+  if (comma == std::string_view::npos || cell.find(',', comma + 1) != std::string_view::npos) return std::nullopt;
+  bool in_db = false;
+  bool in_degrees = false;
+  const auto first = number_with_suffix(cell.substr(0, comma), {"db"}, in_db);
+  const auto second = number_with_suffix(cell.substr(comma + 1), {"\xC2\xB0", "\xB0", "deg"}, in_degrees);
+  if (!first || !second) return std::nullopt;
+  if (!in_db && !in_degrees) return std::complex<double>(*first, *second);
+  const double magnitude = in_db ? ratio_from_db(*first) : *first;
+  if (magnitude < 0.0) return std::nullopt;
+  return std::polar(magnitude, rad_from_deg(*second));
 }
 
 namespace {
@@ -77,6 +117,13 @@ char detect_delimiter(std::string_view header) {
 }
 
 std::pair<std::string, std::string> split_unit(const std::string& column) {
+  // "Frequency / Hz": a blank before the slash, so "V(out)/V(in)" keeps its name.
+  const auto slash = column.rfind(" /");
+  if (slash != std::string::npos && slash > 0) {
+    const std::string unit(trim(column.substr(slash + 2)));
+    const std::string name(trim(column.substr(0, slash)));
+    if (!unit.empty() && !name.empty()) return {name, unit};
+  }
   const auto open = column.find_last_of("[(");
   const char close = open != std::string::npos && column[open] == '[' ? ']' : ')';
   if (open == std::string::npos || open == 0 || column.back() != close) return {column, ""};

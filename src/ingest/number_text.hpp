@@ -1,6 +1,7 @@
 // Numbers as printed in text files.
 #pragma once
 
+#include <complex>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -24,10 +25,16 @@ double printed_resolution(std::string_view cell);
 
 std::string_view trim(std::string_view text);
 
+// One complex value in a cell, as circuit simulators export an AC sweep:
+// "(20.5dB,-90.3°)" (gain in dB, phase in degrees; the degree sign in UTF-8
+// or Latin-1, or "deg"), "(1.2,-90.3°)" (a ratio and degrees) or "(re,im)".
+// nullopt for anything else, a lone number or "1,5" (a decimal comma) too.
+std::optional<std::complex<double>> parse_complex_cell(std::string_view cell);
+
 // The most frequent of ',', ';' and tab in a header line (',' if none).
 char detect_delimiter(std::string_view header);
 
-// "vout [V]" or "vout (V)" -> name "vout", unit "V"; no unit: "".
+// "vout [V]", "vout (V)" or "vout / V" -> name "vout", unit "V"; no unit: "".
 std::pair<std::string, std::string> split_unit(const std::string& column);
 
 // Cells of a header line, trimmed.

@@ -97,6 +97,7 @@ std::unique_ptr<SampleSource> open_format(const std::string& path, const Recordi
       DelimitedOptions text = options.text;
       if (options.sample_rate_hz) text.sample_rate_hz = options.sample_rate_hz;
       text.block_size = options.block_size;
+      text.unused_channel_names = options.channel_names;
       auto source = open_delimited(path, text);
       if (options.scale.empty() && options.offset.empty() && options.named_scale.empty()) return source;
       return std::make_unique<CalibratedSource>(std::move(source), options, true);

@@ -47,6 +47,7 @@ struct Header {
   std::vector<std::string> units;  // lowercase
   std::size_t line = 0;
   std::string path;
+  bool trailing_delimiter = false;  // every line ends with the delimiter
 
   std::string listed() const {
     std::string text;
@@ -61,7 +62,7 @@ std::string accepted_text() {
     text += std::string(text.empty() ? "" : "; ") + a.what + ":";
     for (const auto& n : a.names) text += " " + n;
   }
-  return text + " (case aside, a unit in brackets or parentheses allowed)";
+  return text + " (case aside, a unit in brackets or parentheses or after ' / ' allowed)";
 }
 
 std::optional<std::size_t> by_role(const Header& h, Role role) {
@@ -104,12 +105,13 @@ double hz_per_unit(const Header& h, std::size_t column) {
 
 bool phase_in_radians(const Header& h, std::size_t column) {
   const std::string& u = h.units[column];
-  if (u.empty() || u == "deg" || u == "degree" || u == "degrees" || u == "\xC2\xB0") return false;
+  // The degree sign in UTF-8 or in Latin-1, as Windows programs write it.
+  if (u.empty() || u == "deg" || u == "degree" || u == "degrees" || u == "\xC2\xB0" || u == "\xB0") return false;
   if (u == "rad" || u == "radian" || u == "radians") return true;
   bad_unit(h, column, "deg, rad");
 }
 
-enum class Form { kCartesian, kDb, kRatio };
+enum class Form { kCartesian, kDb, kRatio, kComplex };  // kComplex: one cell holds the value
 
 struct Layout {
   std::size_t frequency = 0;
@@ -166,6 +168,37 @@ Layout layout_of(const Header& h, const TableColumns& c) {
   return polar_layout(h, c, layout);
 }
 
+// A circuit simulator's AC export: a frequency column and a column whose
+// cells each hold one complex value, "(20.5dB,-90.3°)" or "(re,im)".
+// nullopt when the first row has no such cell.
+std::optional<Layout> complex_layout(const Header& h, const TableColumns& c, std::string_view first_row, char delimiter) {
+  std::vector<std::string> cells = detail::split_names(first_row, delimiter);
+  std::vector<std::size_t> complex;
+  for (std::size_t i = 0; i < cells.size() && i < h.cells.size(); ++i) {
+    if (detail::parse_complex_cell(cells[i])) complex.push_back(i);
+  }
+  if (complex.empty()) return std::nullopt;
+  Layout layout;
+  const auto frequency = pick(h, c.frequency, "--freq-column", Role::kFrequency);
+  if (!frequency) missing(h, "no frequency column");
+  layout.frequency = *frequency;
+  layout.hz_per_unit = hz_per_unit(h, *frequency);
+  layout.form = Form::kComplex;
+  if (!c.gain_db.empty()) {
+    layout.first = *by_name(h, c.gain_db, "--gain-column");
+    return layout;
+  }
+  if (complex.size() > 1) {
+    std::string names;
+    for (const std::size_t i : complex) names += " '" + h.cells[i] + "'";
+    throw InputError(h.path + ": line " + std::to_string(h.line) + ": " + std::to_string(complex.size()) +
+                     " columns hold complex values ('(gain dB,phase °)' or '(re,im)'):" + names +
+                     "; name the loop gain's column with --gain-column NAME, or export only that trace");
+  }
+  layout.first = complex.front();
+  return layout;
+}
+
 // Splits rows and parses the cells the table's layout uses; other columns
 // may hold anything.
 class RowParser {
@@ -181,6 +214,7 @@ class RowParser {
       cells_.push_back(line.substr(start, stop - start));
       start = stop + 1;
     }
+    if (header_.trailing_delimiter) drop_last_cell();
     if (cells_.size() != header_.cells.size()) {
       std::ostringstream message;
       message << header_.path << ": line " << line_number << ": " << cells_.size() << " cells where the header (line "
@@ -199,6 +233,28 @@ class RowParser {
   }
 
   bool blank(std::size_t column) const { return detail::trim(cells_[column]).empty(); }
+
+  std::complex<double> complex_value(std::size_t column) const {
+    if (const auto value = detail::parse_complex_cell(cells_[column]); value && std::isfinite(std::abs(*value))) return *value;
+    std::ostringstream message;
+    message << header_.path << ": line " << line_number_ << ", column " << column + 1 << " ('" << header_.cells[column]
+            << "'): not one complex value: '" << detail::trim(cells_[column])
+            << "'; the column holds cells such as '(20.5dB,-90.3\xC2\xB0)' (gain in dB, phase in degrees) or '(re,im)'";
+    throw InputError(message.str());
+  }
+
+  // The header ends with a delimiter: so does a row, its last cell empty.
+  void drop_last_cell() {
+    if (cells_.size() != header_.cells.size() + 1) return;  // the count is refused next
+    if (!detail::trim(cells_.back()).empty()) {
+      std::ostringstream message;
+      message << header_.path << ": line " << line_number_ << ", column " << cells_.size() << ": '"
+              << detail::trim(cells_.back()) << "' under the header's empty last cell (line " << header_.line
+              << " ends with a delimiter): name that column in the header, or leave the cell empty";
+      throw InputError(message.str());
+    }
+    cells_.pop_back();
+  }
   std::size_t line_number() const { return line_number_; }
 
  private:
@@ -223,6 +279,7 @@ Row parse_row(const RowParser& row, const Layout& layout, const Header& h) {
     message << h.path << ": line " << row.line_number() << ": frequency " << f << " Hz; frequencies must be positive";
     throw InputError(message.str());
   }
+  if (layout.form == Form::kComplex) return Row{f, row.complex_value(layout.first), std::nullopt, 0.0, row.line_number()};
   const double first = row.number(layout.first);
   const double second = row.number(layout.second);
   const double angle = layout.radians ? second : rad_from_deg(second);
@@ -268,18 +325,35 @@ void put_in_order(std::vector<Row>& rows, const std::string& path, Diagnostics& 
 ResponseTable read_response_table(const std::string& path, const TableColumns& columns) {
   detail::LineReader lines(path);
   detail::FoundHeader found = detail::find_header(lines, path, std::nullopt, std::nullopt);
-  Header header{{}, {}, {}, found.header.number, path};
+  Header header{{}, {}, {}, found.header.number, path, found.trailing_delimiter};
   for (const std::string& cell : detail::split_names(found.header.text, found.delimiter)) {
-    const auto [name, unit] = detail::split_unit(cell);
+    auto [name, unit] = detail::split_unit(cell);
+    if (name.size() > 1 && name.back() == '.') name.pop_back();  // "Freq."
     header.cells.push_back(cell);
     header.names.push_back(lowercase(name));
     header.units.push_back(lowercase(unit));
   }
-  const Layout layout = layout_of(header, columns);
+  if (found.units) {  // a units row: for the columns whose name gives none
+    const auto units = detail::split_names(found.units->text, found.delimiter);
+    for (std::size_t i = 0; i < units.size() && i < header.units.size(); ++i) {
+      if (header.units[i].empty()) header.units[i] = lowercase(detail::unit_of_cell(units[i]));
+    }
+  }
+  const auto first_row = std::find_if(found.after.begin(), found.after.end(),
+                                      [](const detail::NumberedLine& l) {
+                                        return !detail::is_skipped_line(l.text) && !detail::trim(l.text).starts_with("Step Information");
+                                      });
+  const auto complex = first_row == found.after.end() ? std::nullopt
+                                                      : complex_layout(header, columns, first_row->text, found.delimiter);
+  const Layout layout = complex ? *complex : layout_of(header, columns);
   RowParser parser(header, found.delimiter);
   std::vector<Row> rows;
   const auto take = [&](std::string_view line, std::size_t number) {
     if (detail::is_skipped_line(line)) return;
+    if (layout.form == Form::kComplex && detail::trim(line).starts_with("Step Information")) {
+      throw InputError(path + ": line " + std::to_string(number) + ": '" + std::string(detail::trim(line)) +
+                       "' starts another run of a stepped sweep; export one run");
+    }
     parser.split(line, number);
     rows.push_back(parse_row(parser, layout, header));
   };

@@ -103,6 +103,26 @@ class Files(unittest.TestCase):
         run("analyze", path, "--config", settings, "--json", out)
         self.assertSameMargins(load(out), delta=1e-6)
 
+    def test_trailing_delimiters_and_a_units_row(self):
+        # A delimiter ends every line, and a row of units under the header marks X as the time.
+        text = "X,CH1,CH2,CH3,\r\nSecond,Volt,Volt,Volt,\r\n" + "".join(
+            f"{n / RATE!r},{z!r},{x!r},{y!r},\r\n" for n, (z, x, y) in enumerate(self.data))
+        path = self.write("units_row.csv", text)
+        out = self.path("units_row.json")
+        run("analyze", path, "--z", "CH1", "--x", "CH2", "--y", "CH3", "--json", out)
+        self.assertSameMargins(load(out), delta=1e-6)  # stamps printed by repr(n / RATE) give the same rate
+        self.assertNotIn("ingest.channels-unused", codes(load(out)))
+        # --channels names the channels of files without names: here a warning says it is not used.
+        result = run("analyze", path, "--z", "CH1", "--x", "CH2", "--y", "CH3", "--channels", "a,b,c", "--json", out)
+        self.assertIn("ingest.channels-unused", codes(load(out)))
+        self.assertIn("--channels", result.stdout + result.stderr)
+        self.assertSameMargins(load(out), delta=1e-6)
+        rows = text.split("\r\n")
+        rows[10] += "7"  # line 11, past the rows the header search checks
+        bad = self.write("bad_trailing.csv", "\r\n".join(rows))
+        self.expect(INPUT, "analyze", bad, "--z", "CH1", "--x", "CH2", "--y", "CH3",
+                    contains=("line 11, column 5: '7' under the header's empty last cell",))
+
     # Probe factors on the command line.
 
     def test_probe_scale_on_the_command_line(self):
@@ -160,6 +180,28 @@ class Files(unittest.TestCase):
         run("table", named, "--freq-column", "Hertz", "--gain-column", "Level", "--json", out)
         self.assertAlmostEqual(load(out)["summary"]["phase_margin_deg"], results["summary"]["phase_margin_deg"],
                                delta=1e-9)
+
+    def test_simulator_and_iso_header_tables(self):
+        lines = np.loadtxt(self.path("plain.lines.csv"), delimiter=",", skiprows=1, usecols=(0, 3, 4))
+        reference = self.path("reference.json")
+        run("table", self.analyzer_table("reference.csv", lines), "--json", reference)
+        expected = load(reference)["summary"]
+        # One complex value per cell, tab separated, the degree sign in Latin-1 as Windows programs write it.
+        ac = self.path("ac.txt")
+        with open(ac, "wb") as f:
+            f.write(b"Freq.\tV(out)/V(in)\r\n")
+            for freq, gain, phase in lines:
+                f.write(f"{freq!r}\t({gain!r}dB,{phase!r}\u00b0)\r\n".encode("latin-1"))
+        # Names with ' / unit', semicolons and decimal commas.
+        iso = self.path("iso.csv")
+        with open(iso, "w", encoding="utf-8") as f:
+            f.write("Frequency / Hz;Gain / dB;Phase / \u00b0\n")
+            f.writelines(f"{freq!r};{gain!r};{phase!r}\n".replace(".", ",") for freq, gain, phase in lines)
+        for path in (ac, iso):
+            out = path + ".json"
+            run("table", path, "--json", out)
+            for key in ("phase_margin_deg", "gain_crossover_hz"):
+                self.assertAlmostEqual(load(out)["summary"][key], expected[key], delta=1e-9, msg=path + " " + key)
 
     # HDF5 without a settings file.
 

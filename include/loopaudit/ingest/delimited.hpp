@@ -12,6 +12,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <vector>
 
 #include "loopaudit/record/record.hpp"
 
@@ -29,6 +30,9 @@ struct DelimitedOptions {
   std::optional<std::size_t> lines_before_header;
   std::optional<double> sample_rate_hz;  // overrides the time column; required without one
   std::size_t block_size = kMaxBlockSize;  // samples per block handed out, 1 to kMaxBlockSize
+  // Names given for formats without names (--channels, `channels`): the
+  // header names the channels instead, and a warning (ingest.channels-unused) says so.
+  std::vector<std::string> unused_channel_names;
 
   // Throws ConfigError naming the setting that is out of range (called by
   // open_delimited).

@@ -114,3 +114,68 @@ TEST_CASE("a per-channel scale by name applies to text recordings", "[ingest][in
   options.named_scale = {{"y", 0.0}};
   CHECK_THROWS_AS(open_recording(file.path(), options), ConfigError);
 }
+
+TEST_CASE("a delimiter at the end of every line leaves no unnamed column", "[ingest][instrument]") {
+  const Record r = read_text("t,z,x,y,\n0,1,2,3,\n0.5,4,5,6,\n1,7,8,9,\n");
+  CHECK(r.channel_names == std::vector<std::string>{"z", "x", "y"});
+  CHECK(r.sample_rate_hz == Approx(2.0));
+  CHECK(r.channels[2] == std::vector<double>{3, 6, 9});
+  const Record tabs = read_text("time\tv1\t\r\n0\t1\t\r\n1e-3\t2\t\r\n");
+  CHECK(tabs.channels[0] == std::vector<double>{1, 2});
+  // A value under the empty last cell is refused with its line and column.
+  const std::string message = message_of("t,z,x,y,\n0,1,2,3,\n0.5,4,5,6,\n1,7,8,9,\n1.5,1,2,3,4\n");
+  CHECK_THAT(message, Catch::Contains("line 5, column 5: '4'") && Catch::Contains("empty last cell"));
+  CHECK_THAT(message_of("t,z,x,y,\n0,1,2,3,\n0.5,4,5,6,\n1,7,8,9\n"), Catch::Contains("line 4: 4 cells"));
+}
+
+TEST_CASE("a row of units under the header gives the channels their units", "[ingest][instrument]") {
+  TempFile file("X,CH1,CH2,CH3\nSecond,Volt,Volt,Volt\n0,1,2,3\n1e-06,4,5,6\n2e-06,7,8,9\n");
+  const auto source = open_delimited(file.path(), {});
+  CHECK(source->channel_names() == std::vector<std::string>{"CH1", "CH2", "CH3"});
+  CHECK(source->channel_units() == std::vector<std::string>{"Volt", "Volt", "Volt"});
+  const Record r = read_all(*source);
+  CHECK(r.sample_rate_hz == Approx(1e6));  // X is the time: its unit is one
+  CHECK(r.channels[0] == std::vector<double>{1, 4, 7});
+  // Units in brackets, a time in ms, a trailing delimiter, and below metadata.
+  const Record ms = read_text("Model;DAQ\nt;u1;u2;\n(ms);(mV);[A];\n0;1;2;\n0,5;3;4;\n1,0;5;6;\n");
+  CHECK(ms.sample_rate_hz == Approx(2000.0));
+  CHECK(ms.channels[1] == std::vector<double>{2, 4, 6});
+  // After --skip-rows too.
+  DelimitedOptions skip;
+  skip.lines_before_header = 1;
+  const Record skipped = read_text("Model,DSO\nX,CH1\ns,V\n0,1\n0.25,2\n", skip);
+  CHECK(skipped.sample_rate_hz == Approx(4.0));
+  // A second line of names that are not units is still taken as the header.
+  const Record names = read_text("Name,Value\nt,v\n0,1\n1,2\n");
+  CHECK(names.channel_names == std::vector<std::string>{"v"});
+}
+
+TEST_CASE("units written as name / unit and sec as seconds", "[ingest][instrument]") {
+  TempFile file("Time / ms;CH1 / V;CH2 / A\n0;1;2\n0,5;3;4\n");
+  const auto source = open_delimited(file.path(), {});
+  CHECK(source->channel_names() == std::vector<std::string>{"CH1", "CH2"});
+  CHECK(source->channel_units() == std::vector<std::string>{"V", "A"});
+  CHECK(read_all(*source).sample_rate_hz == Approx(2000.0));
+  CHECK(read_text("time (sec),z\n0,1\n0.5,2\n").sample_rate_hz == Approx(2.0));
+  // Without a blank before the slash the name stays whole.
+  CHECK(read_text("t,vout/vin\n0,1\n1,2\n").channel_names == std::vector<std::string>{"vout/vin"});
+}
+
+TEST_CASE("channel names given for a text file with a header are reported unused", "[ingest][instrument]") {
+  TempFile file("t,z,x,y\n0,1,2,3\n0.5,4,5,6\n", ".csv");
+  RecordingOptions options;
+  options.channel_names = {"a", "b", "c"};
+  const auto source = open_recording(file.path(), options);
+  CHECK(source->channel_names() == std::vector<std::string>{"z", "x", "y"});
+  read_all(*source);
+  const auto findings = source->summary().findings;
+  const auto unused = std::find_if(findings.begin(), findings.end(),
+                                   [](const Diagnostic& d) { return d.code == "ingest.channels-unused"; });
+  REQUIRE(unused != findings.end());
+  CHECK(unused->severity == Severity::kWarning);
+  CHECK_THAT(unused->message, Catch::Contains("--channels") && Catch::Contains("'z' 'x' 'y'"));
+  options.channel_names.clear();
+  const auto plain = open_recording(file.path(), options);
+  read_all(*plain);
+  CHECK(plain->summary().findings.empty());
+}

@@ -99,3 +99,59 @@ TEST_CASE("an unknown header lists the accepted names", "[ingest][table]") {
   CHECK_THAT(message, Catch::Contains("'Hertz' 'Volts'"));
   CHECK_THAT(message, Catch::Contains("freq_hz freq frequency f") && Catch::Contains("--freq-column"));
 }
+
+TEST_CASE("a table whose lines end with a delimiter", "[ingest][table]") {
+  TempFile file("freq_hz,mag_db,phase_deg,\n10,0,-90,\n20,-6.020599913,180,\n");
+  const Response r = read_response_table(file.path()).response;
+  REQUIRE(r.size() == 2);
+  CHECK(std::abs(r.value[0] - std::complex<double>(0, -1)) < 1e-9);
+  CHECK(std::abs(r.value[1] - std::complex<double>(-0.5, 0)) < 1e-9);
+  CHECK_THAT(message_of("freq_hz,mag_db,phase_deg,\n10,0,-90,\n20,0,180,x\n"),
+             Catch::Contains("line 3, column 4: 'x'") && Catch::Contains("empty last cell"));
+}
+
+TEST_CASE("a table with a row of units under its header", "[ingest][table]") {
+  TempFile file("Frequency,Gain,Phase\nkHz,dB,rad\n1,0,-1.5707963268\n2,-6.020599913,3.1415926536\n");
+  const Response r = read_response_table(file.path()).response;
+  REQUIRE(r.size() == 2);
+  CHECK(r.frequency_hz == std::vector<double>{1000, 2000});
+  CHECK(std::abs(r.value[0] - std::complex<double>(0, -1)) < 1e-9);
+  CHECK(std::abs(r.value[1] - std::complex<double>(-0.5, 0)) < 1e-9);
+}
+
+TEST_CASE("a table with units written as name / unit", "[ingest][table]") {
+  // The degree sign in UTF-8 and in Latin-1 (one byte, 0xB0).
+  for (const std::string degree : {"\xC2\xB0", "\xB0"}) {
+    TempFile file("Frequency / kHz;Gain / dB;Phase / " + degree + "\n1;0;-90\n2;-6,020599913;180\n");
+    const Response r = read_response_table(file.path()).response;
+    REQUIRE(r.size() == 2);
+    CHECK(r.frequency_hz == std::vector<double>{1000, 2000});
+    CHECK(std::abs(r.value[0] - std::complex<double>(0, -1)) < 1e-9);
+    CHECK(std::abs(r.value[1] - std::complex<double>(-0.5, 0)) < 1e-9);
+  }
+  CHECK_THAT(message_of("Frequency / Hz,Gain / dB,Phase / grad\n1,0,0\n"), Catch::Contains("unit 'grad'"));
+}
+
+TEST_CASE("a simulator's AC export with one complex value per cell", "[ingest][table]") {
+  TempFile polar("Freq.\tV(out)/V(in)\n1.0e+03\t(0.0dB,-90.0\xC2\xB0)\n2.0e+03\t(-6.020599913dB,180\xB0)\n");
+  const Response r = read_response_table(polar.path()).response;
+  REQUIRE(r.size() == 2);
+  CHECK(r.frequency_hz == std::vector<double>{1000, 2000});
+  CHECK(std::abs(r.value[0] - std::complex<double>(0, -1)) < 1e-9);
+  CHECK(std::abs(r.value[1] - std::complex<double>(-0.5, 0)) < 1e-9);
+  TempFile cartesian("Freq.\tV(out)/V(in)\n1e3\t(0,-1)\n2e3\t(-0.5,0)\n");
+  const Response c = read_response_table(cartesian.path()).response;
+  REQUIRE(c.size() == 2);
+  CHECK(std::abs(c.value[1] - std::complex<double>(-0.5, 0)) < 1e-12);
+  TempFile ratio("Freq.\tV(out)/V(in)\n1e3\t(0.5,180deg)\n");
+  CHECK(std::abs(read_response_table(ratio.path()).response.value[0] - std::complex<double>(-0.5, 0)) < 1e-12);
+  // A decimal comma is no complex value: "1,5" in a ';' table stays a number.
+  TempFile comma("f;re;im\n1;1,5;0\n");
+  CHECK(read_response_table(comma.path()).response.value[0] == std::complex<double>(1.5, 0));
+  CHECK_THAT(message_of("Freq.\tV(out)/V(in)\n1e3\t(0dB,-90\xC2\xB0)\n2e3\t(0dB)\n"),
+             Catch::Contains("line 3, column 2 ('V(out)/V(in)'): not one complex value: '(0dB)'"));
+  CHECK_THAT(message_of("Freq.\tV(out)\tV(in)\n1e3\t(0dB,-90\xC2\xB0)\t(0dB,0\xC2\xB0)\n"),
+             Catch::Contains("2 columns hold complex values") && Catch::Contains("--gain-column"));
+  CHECK_THAT(message_of("Freq.\tV(out)/V(in)\nStep Information: R=1\n1e3\t(0dB,-90\xC2\xB0)\nStep Information: R=2\n"),
+             Catch::Contains("line 2: 'Step Information: R=1'") && Catch::Contains("export one run"));
+}
