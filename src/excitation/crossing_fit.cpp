@@ -10,15 +10,15 @@ struct Centred {
   std::vector<double> v;  // position minus its mean
 };
 
-Centred centred(std::span<const Crossing> points) {
+Centred centred(std::span<const ZeroCrossing> points) {
   Centred c;
   const auto n = static_cast<double>(points.size());
   double mean_cycle = 0.0, mean_position = 0.0;
-  for (const Crossing& p : points) {
+  for (const ZeroCrossing& p : points) {
     mean_cycle += p.cycle / n;
     mean_position += p.position / n;
   }
-  for (const Crossing& p : points) {
+  for (const ZeroCrossing& p : points) {
     c.u.push_back(p.cycle - mean_cycle);
     c.v.push_back(p.position - mean_position);
   }
@@ -44,7 +44,7 @@ double squares(const std::vector<double>& v) {
 
 }  // namespace
 
-void CrossingLines::add(const Crossing& c) {
+void CrossingLines::add(const ZeroCrossing& c) {
   const double y = c.position - origin_ - period_ * c.cycle;
   Sums s = sums_.back();
   s.n += 1.0;
@@ -68,14 +68,14 @@ double CrossingLines::residual(std::size_t first, std::size_t last) const {
   return sxx > 0.0 ? std::max(syy - sxy * sxy / sxx, 0.0) : 0.0;
 }
 
-double line_residual(std::span<const Crossing> points) {
+double line_residual(std::span<const ZeroCrossing> points) {
   if (points.size() < 3) return 0.0;
   Centred c = centred(points);
   remove(c.v, c.u);
   return squares(c.v);
 }
 
-double parabola_residual(std::span<const Crossing> points) {
+double parabola_residual(std::span<const ZeroCrossing> points) {
   if (points.size() < 4) return 0.0;
   Centred c = centred(points);
   std::vector<double> square(c.u.size());

@@ -9,7 +9,7 @@
 
 namespace loopaudit::detail {
 
-struct Crossing {
+struct ZeroCrossing {
   double cycle = 0.0;
   double position = 0.0;  // in samples
 };
@@ -21,7 +21,7 @@ struct Crossing {
 class CrossingLines {
  public:
   CrossingLines(double origin, double period) : origin_(origin), period_(period) {}
-  void add(const Crossing& c);
+  void add(const ZeroCrossing& c);
   std::size_t size() const { return sums_.size() - 1; }
   // The sum of squared residuals of the line through crossings [first, last).
   double residual(std::size_t first, std::size_t last) const;
@@ -37,7 +37,7 @@ class CrossingLines {
 
 // Sums of squared residuals of the least-squares line and parabola through
 // the crossings (two passes, centred: accurate for any positions).
-double line_residual(std::span<const Crossing> points);
-double parabola_residual(std::span<const Crossing> points);
+double line_residual(std::span<const ZeroCrossing> points);
+double parabola_residual(std::span<const ZeroCrossing> points);
 
 }  // namespace loopaudit::detail

@@ -176,9 +176,9 @@ std::optional<std::size_t> DwellFinder::find_step() const {
 // periods could be a few cycles off.
 std::size_t DwellFinder::locate_step() const {
   std::vector<std::size_t> first_point;  // the crossing that starts each period
-  const std::vector<Crossing> points = crossings(0, recent_.size(), &first_point);
+  const std::vector<ZeroCrossing> points = crossings(0, recent_.size(), &first_point);
   CrossingLines lines(points.front().position, current_.mean_period());
-  for (const Crossing& c : points) lines.add(c);
+  for (const ZeroCrossing& c : points) lines.add(c);
   std::size_t best = kMinSide;
   double best_residual = std::numeric_limits<double>::infinity();
   for (std::size_t j = kMinSide; j + 2 <= recent_.size(); ++j) {
@@ -193,9 +193,9 @@ std::size_t DwellFinder::locate_step() const {
 
 // The crossings of recent_[first, last) as (cycle, position), the first at
 // cycle 0, counting a period passed over between two periods that do not meet.
-std::vector<Crossing> DwellFinder::crossings(std::size_t first, std::size_t last,
+std::vector<ZeroCrossing> DwellFinder::crossings(std::size_t first, std::size_t last,
                                              std::vector<std::size_t>* first_point) const {
-  std::vector<Crossing> out;
+  std::vector<ZeroCrossing> out;
   double cycle = 0.0;
   for (std::size_t i = first; i < last; ++i) {
     if (i == first || recent_[i].from != recent_[i - 1].to) {
@@ -227,7 +227,7 @@ void DwellFinder::close(std::optional<std::size_t> periods) {
   }
   if (current_.cycles >= kMinDwellCycles && n > 0) {
     if (edge_right_.empty()) edge_right_ = crossings(0, std::min(n, kEdgeCycles));
-    std::erase_if(edge_right_, [&](const Crossing& c) { return c.position > current_.end; });
+    std::erase_if(edge_right_, [&](const ZeroCrossing& c) { return c.position > current_.end; });
     if (!join_last()) {
       if (!plateaus_.empty() && current_.start - plateaus_.back().end <= kMergeGapPeriods * current_.mean_period()) {
         judge_edge();
@@ -264,7 +264,7 @@ bool DwellFinder::join_last() {
 // rather than on one parabola (a chirp curves through).
 void DwellFinder::judge_edge() {
   if (edge_left_.size() < 3 || edge_right_.size() < 3) return;
-  std::vector<Crossing> both = edge_left_;
+  std::vector<ZeroCrossing> both = edge_left_;
   const double period = 0.5 * (plateaus_.back().mean_period() + current_.mean_period());
   const double gap = edge_right_.front().position - edge_left_.back().position;
   const double skipped = gap > 0.0 ? std::max(1.0, std::round(gap / period)) : 0.0;  // 0: they share a crossing

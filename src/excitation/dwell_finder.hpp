@@ -102,7 +102,7 @@ class DwellFinder {
   std::optional<std::size_t> find_step() const;
   bool steps_at(std::size_t j, double jitter) const;
   std::size_t locate_step() const;
-  std::vector<Crossing> crossings(std::size_t first, std::size_t last,
+  std::vector<ZeroCrossing> crossings(std::size_t first, std::size_t last,
                                   std::vector<std::size_t>* first_point = nullptr) const;
   void split(std::size_t j);
   void close(std::optional<std::size_t> periods = std::nullopt);
@@ -115,8 +115,8 @@ class DwellFinder {
   std::optional<Outlier> outlier_;
   double prior_change_;           // mean |p_i - p_(i-1)| over p of the last plateau that showed it
   std::vector<Plateau> plateaus_;
-  std::vector<Crossing> edge_left_;   // the last kEdgeCycles crossings of the last plateau
-  std::vector<Crossing> edge_right_;  // the first kEdgeCycles crossings of the current one
+  std::vector<ZeroCrossing> edge_left_;   // the last kEdgeCycles crossings of the last plateau
+  std::vector<ZeroCrossing> edge_right_;  // the first kEdgeCycles crossings of the current one
   std::size_t edges_ = 0;
   std::size_t bends_ = 0;
 };

@@ -6,6 +6,10 @@ headers include/loopaudit/{error,units,format,names}.hpp belong to the first sta
 "loopaudit/<stage>/..." (public) or "<stage>/..." (private to src/) belongs to that stage; a
 bare name next to the including file ("crossings.hpp") to the file's own stage.
 
+It also fails when two headers declare a type of one name at namespace level: two stages'
+loopaudit::detail::Crossing, say, break the one-definition rule, and the linker may then hand one
+stage's vector<Crossing> code the other's layout (a heap overflow only some builds show).
+
 Prints the order it checks, then one line per violation; exits 1 if there is any.
 Usage: check_layers.py [PROJECT_ROOT]   (default: two folders above this script)
 """
@@ -20,6 +24,8 @@ BASE_HEADERS = {"error.hpp", "units.hpp", "format.hpp", "names.hpp"}
 SOURCE_SUFFIXES = {".hpp", ".cpp", ".h", ".cc", ".hh", ".ipp", ".inl"}
 
 INCLUDE = re.compile(r'^\s*#\s*include\s*(?:"([^"]+)"|<(loopaudit/[^>]+)>)')
+# A type declared at namespace level: at the start of a line (nested types are indented).
+TYPE = re.compile(r"^(?:struct|class)\s+([A-Za-z_]\w*)\s*(?:final\s*)?(?::[^;{]*)?\{")
 
 
 def stage_of_file(relative):
@@ -73,7 +79,20 @@ def check(root):
                 violations.append(f'{relative}:{number}: includes "{header}" of stage {stage} '
                                   f"(position {STAGES.index(stage) + 1}) from stage {own} "
                                   f"(position {STAGES.index(own) + 1}): a later stage")
+    violations += same_type_twice(root, [p for p in files if p.suffix == ".hpp"])
     return files, violations
+
+
+def same_type_twice(root, headers):
+    """One line for each type name that two headers declare at namespace level."""
+    where = {}
+    for path in headers:
+        for number, line in enumerate(path.read_text(encoding="utf-8", errors="replace").splitlines(), start=1):
+            match = TYPE.match(line)
+            if match:
+                where.setdefault(match.group(1), []).append(f"{path.relative_to(root)}:{number}")
+    return [f"type {name} is declared in {' and in '.join(places)}: one name, one type (rename one)"
+            for name, places in sorted(where.items()) if len(places) > 1]
 
 
 def main():

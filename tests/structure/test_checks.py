@@ -134,6 +134,18 @@ class Layers(unittest.TestCase):
             "src/misc/x.cpp: the folder src/misc/ is not a known stage",
         ])
 
+    def test_one_type_name_in_two_headers_fails(self):
+        found = self.check({
+            "src/analysis/groups.hpp": "namespace loopaudit::detail {\nstruct Crossing {\n  double x;\n};\n}\n",
+            "src/excitation/fit.hpp": "namespace loopaudit::detail {\nstruct Crossing {\n  int y;\n};\n"
+                                      "class Fit final : public Base {\n  struct Impl {};\n};\n}\n",
+            "src/loop/other.hpp": "struct Impl;\nclass Fitter {\n  struct Impl {};\n};\n",
+        })
+        self.assertEqual(found, [
+            "type Crossing is declared in src/analysis/groups.hpp:2 and in src/excitation/fit.hpp:2: "
+            "one name, one type (rename one)",
+        ])
+
 
 if __name__ == "__main__":
     unittest.main()
