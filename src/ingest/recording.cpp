@@ -123,6 +123,9 @@ std::size_t sample_type_bytes(SampleType type) {
 }
 
 std::vector<std::string> default_channel_names(std::size_t count) {
+  // Two channels hold the loop signals x and y (the injection then is x - y,
+  // --z x-y); three or more start with the injection z.
+  if (count == 2) return {"x", "y"};
   std::vector<std::string> names;
   for (std::size_t i = 0; i < count; ++i) {
     names.push_back(i < 3 ? std::string(1, "zxy"[i]) : "ch" + std::to_string(i + 1));

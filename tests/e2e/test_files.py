@@ -261,6 +261,15 @@ class Files(unittest.TestCase):
         self.assertEqual(found[0]["severity"], "warning")
         self.assertIn("the file says 8000 Hz", found[0]["message"])
 
+    def test_two_channel_wav_takes_the_injection_as_x_minus_y(self):
+        # A sound card with two inputs records x and y; --z x-y then needs no --channels.
+        from scipy.io import wavfile
+        wav = self.path("xy.wav")
+        wavfile.write(wav, RATE, self.data[:, 1:].astype(np.float32))
+        out = self.path("xy.json")
+        run("analyze", wav, "--z", "x-y", "--json", out)
+        self.assertEqual(load(out)["input"]["roles"], {"z": "x-y", "x": "x", "y": "y"})
+
 
 if __name__ == "__main__":
     unittest.main()
