@@ -9,6 +9,8 @@
 namespace loopaudit {
 
 std::string format_frequency(double frequency_hz);    // "4.83 kHz"
+// "4.83 kHz to 5.1 kHz", or "4.83 kHz" alone when both ends print the same.
+std::string format_frequency_range(double low_hz, double high_hz);
 std::string format_time(double seconds);              // "31.2 us"
 std::string format_fixed(double value, int digits);   // "46.1" for (46.12, 1)
 std::string format_signed(double value, int digits);  // "+10.7", "-3.0"

@@ -148,8 +148,9 @@ void report_unresolved(const std::vector<Group>& groups, const LineTable& table,
     const Location band{.low_hz = std::pow(10.0, table.log_f[first]), .high_hz = std::pow(10.0, table.log_f[last])};
     margins.unresolved.push_back({level, *band.low_hz, *band.high_hz, count, other_range(table, level, first, last)});
     std::ostringstream message;
-    message << count << " " << what << (count == 1 ? " " : "s ") << "from " << format_frequency(*band.low_hz)
-            << " to " << format_frequency(*band.high_hz) << (count == 1 ? " is" : " are")
+    const std::string range = format_frequency_range(*band.low_hz, *band.high_hz);
+    message << count << " " << what << (count == 1 ? " " : "s ") << (range.find(" to ") != std::string::npos ? "from " : "at ") << range
+            << (count == 1 ? " is" : " are")
             << " not listed: the lines there are too noisy to place " << (count == 1 ? "it" : "them")
             << " (relative uncertainty above " << options.max_line_sigma << "), to show that the curve really "
             << "crosses, or to give an interval that means anything";

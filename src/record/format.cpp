@@ -58,6 +58,11 @@ int width_decimals(double width, double scale) {
 
 std::string format_frequency(double frequency_hz) { return engineering(frequency_hz, "Hz", kFrequencyPrefixes); }
 
+std::string format_frequency_range(double low_hz, double high_hz) {
+  const std::string low = format_frequency(low_hz), high = format_frequency(high_hz);
+  return low == high ? low : low + " to " + high;
+}
+
 std::string format_time(double seconds) { return engineering(seconds, "s", kTimePrefixes); }
 
 std::string format_fixed(double value, int digits) {

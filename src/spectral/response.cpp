@@ -77,8 +77,8 @@ void report_low_coherence(const Response& r, Diagnostics& findings) {
   std::ostringstream message;
   message << count << " of " << r.size() << " lines have coherence at or below " << kLowCoherence << ", mostly";
   for (std::size_t i = 0; i < runs.size(); ++i) {
-    message << (i == 0 ? " " : ", ") << format_frequency(r.frequency_hz[runs[i].first]) << " to "
-            << format_frequency(r.frequency_hz[runs[i].second]);
+    message << (i == 0 ? " " : ", ")
+            << format_frequency_range(r.frequency_hz[runs[i].first], r.frequency_hz[runs[i].second]);
   }
   message << "; their values are uncertain";
   findings.push_back(make_warning("spectral.low-coherence", message.str(),

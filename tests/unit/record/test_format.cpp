@@ -62,3 +62,8 @@ TEST_CASE("a value outside an interval never prints as the end next to it", "[re
   const NumberStyle limit = interval_style(Quantity::kAngle, 10.0, 12.0, {12.0 + 1e-9});
   CHECK(limit.decimals == 1 + kMaxExtraDecimals);
 }
+
+TEST_CASE("a frequency range whose ends print alike is one frequency", "[format]") {
+  CHECK(format_frequency_range(2130.0, 2131.0) == "2.13 kHz");
+  CHECK(format_frequency_range(2130.0, 2500.0) == "2.13 kHz to 2.5 kHz");
+}
