@@ -215,7 +215,7 @@ void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
       ->type_name("FILE");
   cmd->add_option("--config", a.config_path, "Run settings (TOML); options given here override it")->type_name("FILE");
   cmd->add_option("--format", a.format, "auto (by extension), text, raw, wav or hdf5 [auto]")->type_name("NAME");
-  cmd->add_option("--channels", a.channels, "Channel names in file order, for files without names [z,x,y]")
+  cmd->add_option("--channels", a.channels, "Channel names in file order, for files without names [z,x,y; x,y for two]")
       ->delimiter(',')
       ->type_name("NAMES");
   cmd->add_option("--z", a.z, "Channel holding the injection; x-y computes it from the loop signals [z]")
