@@ -26,27 +26,40 @@ std::size_t channel_index(const SampleSource& source, const std::string& name, c
 }
 
 // Every role whose channel the source lacks, in one message naming the options.
-const ChannelRoles& checked_roles(const SampleSource& source, const ChannelRoles& roles) {
+// The roles whose channel the source lacks, as (option, name).
+std::vector<std::pair<std::string, std::string>> missing_roles(const SampleSource& source, const ChannelRoles& roles) {
   const auto& names = source.channel_names();
   const auto has = [&](const std::string& name) { return std::find(names.begin(), names.end(), name) != names.end(); };
-  const bool from_difference = roles.injection == kInjectionFromDifference;
-  std::vector<std::pair<std::string, std::string>> missing;  // option, name
-  if (!from_difference && !has(roles.injection)) missing.emplace_back("--z", roles.injection);
+  std::vector<std::pair<std::string, std::string>> missing;
+  if (roles.injection != kInjectionFromDifference && !has(roles.injection)) missing.emplace_back("--z", roles.injection);
   if (!has(roles.x)) missing.emplace_back("--x", roles.x);
   if (!has(roles.y)) missing.emplace_back("--y", roles.y);
-  if (missing.size() < 2) return roles;  // one: channel_index says which
+  return missing;
+}
+
+// "no channel 'z' (--z), 'x' (--x) among the channels ...; say which is which with ...".
+std::string missing_roles_text(const SampleSource& source, const ChannelRoles& roles,
+                               const std::vector<std::pair<std::string, std::string>>& missing) {
   std::ostringstream message;
   message << source.origin() << ": no channel";
   for (std::size_t i = 0; i < missing.size(); ++i) {
     message << (i == 0 ? " " : ", ") << "'" << missing[i].second << "' (" << missing[i].first << ")";
   }
   message << " among the channels";
-  for (const auto& n : names) message << " '" << n << "'";
+  for (const auto& n : source.channel_names()) message << " '" << n << "'";
   message << "; say which is which with";
   for (const auto& m : missing) message << " " << m.first << " NAME";
   message << " (or z, x, y under [roles] in a settings file)";
-  if (!from_difference) message << "; --z " << kInjectionFromDifference << " computes the injection as x - y";
-  throw InputError(message.str());
+  if (roles.injection != kInjectionFromDifference) {
+    message << "; --z " << kInjectionFromDifference << " computes the injection as x - y";
+  }
+  return message.str();
+}
+
+const ChannelRoles& checked_roles(const SampleSource& source, const ChannelRoles& roles) {
+  const auto missing = missing_roles(source, roles);
+  if (missing.size() < 2) return roles;  // one: channel_index says which
+  throw InputError(missing_roles_text(source, roles, missing));
 }
 
 // The reference, x and y of a block, in the order the spectral stage expects.
@@ -312,6 +325,30 @@ bool needs_plan(const AnalysisOptions& options) {
          !options.marker_channel.empty() || (*forced == ExcitationKind::kPeriodic && options.period_samples == 0);
 }
 
+// What inspect can say when the roles name channels the file lacks: the
+// channels, the length and the rate, and how to name the roles.
+Inspection inspect_channels_only(SampleSource& source, const std::string& roles_message,
+                                 const ProgressFunction& progress) {
+  SampleBlock block;
+  std::size_t samples = 0;
+  while (source.next(block)) {
+    samples += block.size();
+    if (progress) progress(samples);
+  }
+  SourceSummary summary = source.summary();
+  Inspection out;
+  out.origin = source.origin();
+  out.sample_rate_hz = summary.sample_rate_hz;
+  out.sample_count = summary.sample_count;
+  out.channel_names = source.channel_names();
+  out.layout = summary.layout;
+  out.roles_found = false;
+  out.findings = std::move(summary.findings);
+  out.findings.push_back(make_warning("inspect.roles-missing", roles_message + "; the excitation is found once the "
+                                                                               "roles are named"));
+  return out;
+}
+
 }  // namespace
 
 AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
@@ -319,6 +356,9 @@ AnalysisResult analyze_recording(SampleSource& source, const AnalysisOptions& op
 }
 
 Inspection inspect_recording(SampleSource& source, const AnalysisOptions& options, const ProgressFunction& progress) {
+  if (const auto missing = missing_roles(source, options.roles); !missing.empty()) {
+    return inspect_channels_only(source, missing_roles_text(source, options.roles, missing), progress);
+  }
   ExcitationDetector detector;
   QualityMonitor quality = quality_monitor(source, options);
   stream(

@@ -361,8 +361,12 @@ void write_inspection(std::ostream& out, const Inspection& i) {
       << format_time(static_cast<double>(i.sample_count) / i.sample_rate_hz) << "); channels";
   for (const auto& name : i.channel_names) out << " " << name;
   if (!i.layout.empty()) out << "; read as " << i.layout;
-  out << "\n  excitation  " << i.excitation.describe(i.sample_rate_hz) << "\n";
-  if (i.excitation.kind == ExcitationKind::kStepped) {
+  if (!i.roles_found) {
+    out << "\n  excitation  not looked for: the roles name channels the file lacks (see the finding)\n";
+  } else {
+    out << "\n  excitation  " << i.excitation.describe(i.sample_rate_hz) << "\n";
+  }
+  if (i.roles_found && i.excitation.kind == ExcitationKind::kStepped) {
     out << "  dwells     ";
     for (std::size_t k = 0; k < i.excitation.dwells.size() && k < 8; ++k) {
       out << " " << format_frequency(i.excitation.dwells[k].frequency_hz);

@@ -261,6 +261,18 @@ class Files(unittest.TestCase):
         self.assertEqual(found[0]["severity"], "warning")
         self.assertIn("the file says 8000 Hz", found[0]["message"])
 
+    def test_inspect_lists_the_channels_before_the_roles_are_named(self):
+        # What a new user runs first on a scope export: the channel names, not an error.
+        text = "Time,CH1,CH2,CH3\n" + "".join(
+            f"{n / RATE!r},{z!r},{x!r},{y!r}\n" for n, (z, x, y) in enumerate(self.data))
+        scope = self.write("channels.csv", text)
+        result = run("inspect", scope)
+        self.assertIn("channels CH1 CH2 CH3", result.stdout)
+        self.assertIn("inspect.roles-missing", result.stdout)
+        self.assertIn("--z NAME --x NAME --y NAME", result.stdout)
+        named = run("inspect", scope, "--z", "CH1", "--x", "CH2", "--y", "CH3")
+        self.assertIn("excitation  broadband", named.stdout)
+
     def test_two_channel_wav_takes_the_injection_as_x_minus_y(self):
         # A sound card with two inputs records x and y; --z x-y then needs no --channels.
         from scipy.io import wavfile

@@ -42,6 +42,9 @@ struct Inspection {
   std::size_t sample_count = 0;
   std::vector<std::string> channel_names;
   std::string layout;  // SourceSummary::layout
+  // False when the roles name channels the file lacks: then neither the
+  // excitation nor the screening ran, and a finding says how to name them.
+  bool roles_found = true;
   ExcitationPlan excitation;
   Diagnostics findings;
 };
