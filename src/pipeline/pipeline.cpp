@@ -25,7 +25,6 @@ std::size_t channel_index(const SampleSource& source, const std::string& name, c
   throw InputError(message.str());
 }
 
-// Every role whose channel the source lacks, in one message naming the options.
 // The roles whose channel the source lacks, as (option, name).
 std::vector<std::pair<std::string, std::string>> missing_roles(const SampleSource& source, const ChannelRoles& roles) {
   const auto& names = source.channel_names();
@@ -175,7 +174,8 @@ void refuse_weak(const Response& measured, const AnalysisOptions& options, std::
   if (!averaged || m.effective_averages >= options.min_effective_averages) return;
   std::ostringstream message;
   message << origin << ": only " << format_fixed(m.effective_averages, 1) << " effective averages ("
-          << m.averages << (m.kind == ResponseMethodKind::kWelch ? " segments" : " periods") << "); at least "
+          << m.averages << (m.kind == ResponseMethodKind::kWelch ? " segment" : " period") << (m.averages == 1 ? "" : "s")
+          << "); at least "
           << options.min_effective_averages << " are needed for the lines' uncertainty, and so the margins and "
           << "their intervals, to mean anything. ";
   if (m.kind == ResponseMethodKind::kWelch) {
