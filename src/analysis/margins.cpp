@@ -307,10 +307,8 @@ Response lines_in_band(const Response& loop, const MarginOptions& options, Diagn
 // A warning for each margin an unresolved stretch may hide from the summary.
 void report_possible(const MarginSummary& summary, Diagnostics& findings) {
   for (const PossibleMargin& p : summary.possible) {
-    const std::string key = p.key;
-    const bool phase = key == "phase_margin_deg";
-    const char* what = phase ? "a phase margin" : key == "gain_reduction_margin_db" ? "a gain reduction margin"
-                                                                                    : "a gain increase margin";
+    const bool phase = p.is_phase();
+    const char* what = p.what();
     const char* unit = phase ? " deg" : " dB";
     std::ostringstream message;
     const auto number = [&](double v) { return phase ? format_fixed(v, 1) : format_signed(v, 1); };

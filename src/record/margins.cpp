@@ -1,6 +1,7 @@
 #include "loopaudit/record/margins.hpp"
 
 #include <array>
+#include <string_view>
 
 namespace loopaudit {
 
@@ -25,5 +26,12 @@ const char* direction_name(GainDirection direction) { return name_of(kDirectionN
 const char* verdict_name(StabilityVerdict verdict) { return name_of(kVerdictNames, verdict); }
 
 const char* level_name(CrossingLevel level) { return name_of(kLevelNames, level); }
+
+bool PossibleMargin::is_phase() const { return std::string_view(key) == "phase_margin_deg"; }
+
+const char* PossibleMargin::what() const {
+  if (is_phase()) return "a phase margin";
+  return std::string_view(key) == "gain_reduction_margin_db" ? "a gain reduction margin" : "a gain increase margin";
+}
 
 }  // namespace loopaudit

@@ -93,11 +93,8 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
   const auto possible = [&](bool phase) {
     std::vector<std::string> lines;
     for (const PossibleMargin& p : s.possible) {
-      const std::string key = p.key;
-      if ((key == "phase_margin_deg") != phase) continue;
-      const char* what = phase ? "a phase margin" : key == "gain_reduction_margin_db" ? "a gain reduction margin"
-                                                                                     : "a gain increase margin";
-      lines.push_back(std::string("may also lie: ") + what + " of " + (phase ? deg(p.range.low) : db(p.range.low)) +
+      if (p.is_phase() != phase) continue;
+      lines.push_back(std::string("may also lie: ") + p.what() + " of " + (phase ? deg(p.range.low) : db(p.range.low)) +
                       " to " + (phase ? deg(p.range.high) : db(p.range.high)) + " at " + hz(p.low_hz) + " to " +
                       hz(p.high_hz) + " (unresolved)");
     }

@@ -316,12 +316,10 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
 // qualify, so that it is not read as the loop's whole story.
 void write_possible(std::ostream& out, const MarginSummary& summary) {
   for (const PossibleMargin& p : summary.possible) {
-    const std::string key = p.key;
-    const bool phase = key == "phase_margin_deg";
-    const std::string what = phase ? "phase margin" : key == "gain_reduction_margin_db" ? "gain reduction" : "gain increase";
+    const bool phase = p.is_phase();
     const std::string range = phase ? format_fixed(p.range.low, 1) + " deg to " + format_fixed(p.range.high, 1) + " deg"
                                     : format_signed(p.range.low, 1) + " dB to " + format_signed(p.range.high, 1) + " dB";
-    out << "  may also lie       a " << what << (phase ? "" : " margin") << " of " << range << " from " << format_frequency(p.low_hz) << " to "
+    out << "  may also lie       " << p.what() << " of " << range << " from " << format_frequency(p.low_hz) << " to "
         << format_frequency(p.high_hz) << ", where " << (phase ? "gain" : "phase") << " crossings are unresolved\n";
   }
 }

@@ -129,6 +129,9 @@ struct PossibleMargin {
   double low_hz = 0.0;   // the stretch
   double high_hz = 0.0;
   Interval range;        // the values the margin could take there
+
+  bool is_phase() const;      // a phase margin (else a gain margin, in dB)
+  const char* what() const;   // "a phase margin", "a gain reduction margin", "a gain increase margin"
 };
 
 // The loop's margins in a few numbers, each from the crossing it came from.
