@@ -106,8 +106,15 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
   };
   tile(out, "phase margin (smallest)", value(s.phase_margin_deg, deg, "none in band"),
        with({range(s.phase_margin_deg, deg)}, possible(true)));
+  // A conditionally stable loop has margins both ways: the tile shows the
+  // smaller and names the other.
+  const auto& other = s.gain_margin_db && s.gain_margin_db->value >= 0.0 ? s.gain_reduction_margin_db
+                                                                          : s.gain_increase_margin_db;
+  const std::string other_line =
+      s.gain_margin_db && other ? "other way: " + db(other->value) + (range(other, db).empty() ? "" : " (" + range(other, db) + ")")
+                                : "";
   tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"),
-       with({range(s.gain_margin_db, db)}, possible(false)));
+       with({range(s.gain_margin_db, db), other_line}, possible(false)));
   tile(out, "gain crossover", value(s.gain_crossover_hz, hz, "none in band"), {range(s.gain_crossover_hz, hz)});
   const auto& mm = s.modulus_margin;
   tile(out, "peak sensitivity", value(s.peak_sensitivity_db, plain_db, "none"),

@@ -346,7 +346,24 @@ void write_text_report(std::ostream& out, const AnalysisResult& result, const st
     out << text << "\n";
   };
   write_row("summary", value_heading, interval_heading, truth ? "truth" : "");
-  for (const Row& row : rows) write_row(row.label, row.measured, row.interval, truth ? row.truth : "");
+  // A conditionally stable loop's gain margin the other way, under the
+  // summary's (the smaller of the two).
+  const auto& s = result.margins.summary;
+  const auto write_other_way = [&] {
+    if (!s.gain_margin_db) return;
+    const bool increase = s.gain_margin_db->value >= 0.0;
+    const auto member = increase ? &MarginSummary::gain_reduction_margin_db : &MarginSummary::gain_increase_margin_db;
+    if (const auto& other = s.*member) {
+      const auto& t = truth ? (*truth).*member : std::nullopt;
+      write_row(increase ? "reduction margin" : "increase margin", format_signed(other->value, 1) + " dB",
+                detail::interval_text(*other, Quantity::kSignedGain),
+                truth ? (t ? format_signed(t->value, 1) + " dB" : "none in band") : "");
+    }
+  };
+  for (const Row& row : rows) {
+    write_row(row.label, row.measured, row.interval, truth ? row.truth : "");
+    if (row.label == "gain margin") write_other_way();
+  }
   write_possible(out, result.margins.summary);
   if (result.margins.disk) write_disk(out, *result.margins.disk, result.margins.confidence);
   write_stability(out, result.margins.stability);

@@ -165,6 +165,15 @@ class ConditionallyStable(unittest.TestCase, Meaningful):
                 self.assertEqual(len(found), 1, [c["freq_hz"] for c in result["phase_crossovers"]])
                 self.assertEqual(found[0]["limits"], "decrease")
 
+    def test_the_table_shows_both_gain_margins(self):
+        # The summary's gain margin is the smaller (+13 dB, an increase); the
+        # reduction margin of a conditionally stable loop is shown under it.
+        stem = os.path.join(self.folder, "conditional_noise")
+        text = run("analyze", stem + ".csv", "--quiet").stdout
+        rows = [line.split() for line in text.splitlines() if line.startswith("  reduction margin")]
+        self.assertEqual(len(rows), 1, text)
+        self.assertLess(float(rows[0][2]), -20.0)
+
     def test_the_increase_margin_matches_the_truth(self):
         for kind, (result, truth) in self.results.items():
             with self.subTest(kind=kind):
