@@ -110,8 +110,9 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
   // smaller and names the other.
   const auto& other = s.gain_margin_db && s.gain_margin_db->value >= 0.0 ? s.gain_reduction_margin_db
                                                                           : s.gain_increase_margin_db;
+  const std::string other_name = s.gain_margin_db && s.gain_margin_db->value >= 0.0 ? "reduction margin " : "increase margin ";
   const std::string other_line =
-      s.gain_margin_db && other ? "other way: " + db(other->value) + (range(other, db).empty() ? "" : " (" + range(other, db) + ")")
+      s.gain_margin_db && other ? other_name + db(other->value) + (range(other, db).empty() ? "" : " (" + range(other, db) + ")")
                                 : "";
   tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"),
        with({range(s.gain_margin_db, db), other_line}, possible(false)));
