@@ -83,11 +83,13 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
        {st.closed_loop_rhp_poles ? std::to_string(*st.closed_loop_rhp_poles) + " closed-loop RHP poles counted"
                                  : "see the reason below"},
        verdict_name(st.verdict));
-  const auto value = [](const std::optional<Estimate>& e, std::string (*format)(double), const char* none) {
-    return e ? format(e->value) : std::string(none);
+  // Value and interval in one style, with the digits the interval needs, as
+  // the terminal table prints them (interval_style).
+  const auto value = [](const std::optional<Estimate>& e, Quantity quantity, const char* none) {
+    return e ? detail::estimate_style(quantity, *e)(e->value) : std::string(none);
   };
-  const auto range = [&](const std::optional<Estimate>& e, std::string (*format)(double)) {
-    return e && e->interval ? level + interval_text(*e, format) : std::string();
+  const auto range = [&](const std::optional<Estimate>& e, Quantity quantity) {
+    return e && e->interval ? level + detail::interval_text(*e, quantity) : std::string();
   };
   // What an unresolved stretch may hide, under the tile it qualifies.
   const auto possible = [&](bool phase) {
@@ -104,23 +106,24 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
     first.insert(first.end(), more.begin(), more.end());
     return first;
   };
-  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, deg, "none in band"),
-       with({range(s.phase_margin_deg, deg)}, possible(true)));
+  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, Quantity::kAngle, "none in band"),
+       with({range(s.phase_margin_deg, Quantity::kAngle)}, possible(true)));
   // A conditionally stable loop has margins both ways: the tile shows the
   // smaller and names the other.
   const auto& other = s.gain_margin_db && s.gain_margin_db->value >= 0.0 ? s.gain_reduction_margin_db
                                                                           : s.gain_increase_margin_db;
   const std::string other_name = s.gain_margin_db && s.gain_margin_db->value >= 0.0 ? "reduction margin " : "increase margin ";
   const std::string other_line =
-      s.gain_margin_db && other ? other_name + db(other->value) + (range(other, db).empty() ? "" : " (" + range(other, db) + ")")
+      s.gain_margin_db && other ? other_name + value(other, Quantity::kSignedGain, "") +
+                                      (other->interval ? " (" + range(other, Quantity::kSignedGain) + ")" : std::string())
                                 : "";
-  tile(out, "gain margin (smallest)", value(s.gain_margin_db, db, "none in band"),
-       with({range(s.gain_margin_db, db), other_line}, possible(false)));
-  tile(out, "gain crossover", value(s.gain_crossover_hz, hz, "none in band"), {range(s.gain_crossover_hz, hz)});
+  tile(out, "gain margin (smallest)", value(s.gain_margin_db, Quantity::kSignedGain, "none in band"),
+       with({range(s.gain_margin_db, Quantity::kSignedGain), other_line}, possible(false)));
+  tile(out, "gain crossover", value(s.gain_crossover_hz, Quantity::kFrequency, "none in band"),
+       {range(s.gain_crossover_hz, Quantity::kFrequency)});
   const auto& mm = s.modulus_margin;
-  tile(out, "peak sensitivity", value(s.peak_sensitivity_db, plain_db, "none"),
-       {range(s.peak_sensitivity_db, plain_db),
-        mm ? "modulus margin " + ratio(mm->value) : ""});
+  tile(out, "peak sensitivity", value(s.peak_sensitivity_db, Quantity::kGain, "none"),
+       {range(s.peak_sensitivity_db, Quantity::kGain), mm ? "modulus margin " + value(mm, Quantity::kRatio, "") : ""});
   const auto& d = r.margins.disk;
   const std::optional<Estimate> alpha = d ? std::optional(d->alpha) : std::nullopt;
   tile(out, "disk margin (balanced)", d ? "α " + ratio(d->alpha.value) : "none",
