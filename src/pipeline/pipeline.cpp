@@ -325,6 +325,18 @@ bool needs_plan(const AnalysisOptions& options) {
          !options.marker_channel.empty() || (*forced == ExcitationKind::kPeriodic && options.period_samples == 0);
 }
 
+// The facts of a source read to its end, for inspect.
+Inspection inspection_of(const SampleSource& source, SourceSummary summary) {
+  Inspection out;
+  out.origin = source.origin();
+  out.sample_rate_hz = summary.sample_rate_hz;
+  out.sample_count = summary.sample_count;
+  out.channel_names = source.channel_names();
+  out.layout = summary.layout;
+  out.findings = std::move(summary.findings);
+  return out;
+}
+
 // What inspect can say when the roles name channels the file lacks: the
 // channels, the length and the rate, and how to name the roles.
 Inspection inspect_channels_only(SampleSource& source, const std::string& roles_message,
@@ -335,15 +347,8 @@ Inspection inspect_channels_only(SampleSource& source, const std::string& roles_
     samples += block.size();
     if (progress) progress(samples);
   }
-  SourceSummary summary = source.summary();
-  Inspection out;
-  out.origin = source.origin();
-  out.sample_rate_hz = summary.sample_rate_hz;
-  out.sample_count = summary.sample_count;
-  out.channel_names = source.channel_names();
-  out.layout = summary.layout;
+  Inspection out = inspection_of(source, source.summary());
   out.roles_found = false;
-  out.findings = std::move(summary.findings);
   out.findings.push_back(make_warning("inspect.roles-missing", roles_message + "; the excitation is found once the "
                                                                                "roles are named"));
   return out;
@@ -368,15 +373,8 @@ Inspection inspect_recording(SampleSource& source, const AnalysisOptions& option
         return true;
       },
       progress);
-  SourceSummary summary = source.summary();
-  Inspection out;
-  out.origin = source.origin();
-  out.sample_rate_hz = summary.sample_rate_hz;
-  out.sample_count = summary.sample_count;
-  out.channel_names = source.channel_names();
-  out.layout = summary.layout;
-  out.excitation = detector.finish(summary.sample_rate_hz);
-  out.findings = std::move(summary.findings);
+  Inspection out = inspection_of(source, source.summary());
+  out.excitation = detector.finish(out.sample_rate_hz);
   append(out.findings, quality.findings());
   append(out.findings, out.excitation.findings);
   return out;
