@@ -149,7 +149,9 @@ RunSettings resolve(const AnalyzeArgs& a) {
 
 void run_analyze(const AnalyzeArgs& a, const std::string& command_line) {
   const bool to_stdout = check_standard_output(a.outputs);
+  check_output_paths(a.outputs, {a.recording, a.config_path, a.truth_path, a.schedule});
   const RunSettings settings = resolve(a);
+  if (!settings.analysis.schedule_path.empty()) check_output_paths(a.outputs, {a.recording, settings.analysis.schedule_path});
   const std::optional<MarginSummary> truth =
       a.truth_path.empty() ? std::nullopt : std::optional(read_truth_summary(a.truth_path));
   const SourceOpener open = [&] { return open_recording(a.recording, settings.recording); };
@@ -318,6 +320,7 @@ void add_table(CLI::App& app, const std::string& command_line) {
   add_margin_options(cmd, args->margins.confidence, args->margins.open_loop_rhp_poles, args->band);
   cmd->callback([args, command_line] {
     const bool to_stdout = check_standard_output(args->outputs);
+    check_output_paths(args->outputs, {args->table});
     const Convention convention = convention_from_name(args->convention);
     if (!args->band.empty()) set_band(args->margins, args->band);
     const ResponseTable table = read_response_table(args->table, args->columns);

@@ -57,16 +57,31 @@ void make_folder(const std::string& path) {
   if (ec) throw OutputError(path + ": cannot create the folder: " + ec.message());
 }
 
-// The request with every unnamed output placed in the output folder.
-OutputRequest resolved(OutputRequest r, const std::string& input) {
+// The request with every unnamed output placed in the output folder (not
+// made yet).
+OutputRequest planned(OutputRequest r, const std::string& input) {
   if (r.out_dir.empty()) return r;
-  make_folder(r.out_dir);
   const std::string stem = (fs::path(r.out_dir) / fs::path(input).stem()).string();
   if (r.json_path.empty()) r.json_path = stem + ".json";
   if (r.csv_path.empty()) r.csv_path = stem + ".lines.csv";
   if (r.report_path.empty()) r.report_path = stem + ".report.html";
   if (r.plots_dir.empty()) r.plots_dir = stem + "-plots";
   return r;
+}
+
+// The request planned, with the output folder made.
+OutputRequest resolved(const OutputRequest& request, const std::string& input) {
+  if (!request.out_dir.empty()) make_folder(request.out_dir);
+  return planned(request, input);
+}
+
+// Whether two paths name one file: by device and inode when both exist (a
+// link or another spelling of the same file), else by their absolute,
+// normalised spelling.
+bool same_file(const std::string& a, const std::string& b) {
+  std::error_code ec;
+  if (fs::exists(a, ec) && fs::exists(b, ec)) return fs::equivalent(a, b, ec) && !ec;
+  return fs::weakly_canonical(fs::absolute(a), ec) == fs::weakly_canonical(fs::absolute(b), ec);
 }
 
 }  // namespace
@@ -86,6 +101,29 @@ bool check_standard_output(const OutputRequest& r) {
                                "only one output can go to standard output ('-'); give the others a file name");
   }
   return to_stdout == 1;
+}
+
+void check_output_paths(const OutputRequest& request, const std::vector<std::string>& inputs) {
+  const OutputRequest r = planned(request, inputs.empty() ? "" : inputs.front());
+  const std::vector<std::pair<const char*, std::string>> outputs = {
+      {"--json", r.json_path}, {"--csv", r.csv_path}, {"--report", r.report_path}, {"--plots", r.plots_dir}};
+  for (std::size_t i = 0; i < outputs.size(); ++i) {
+    const auto& [option, path] = outputs[i];
+    if (path.empty() || path == kStandardOutput) continue;
+    for (const std::string& input : inputs) {
+      if (!input.empty() && same_file(path, input)) {
+        throw CLI::ValidationError(option, "'" + path + "' is the input '" + input +
+                                               "': writing there would replace it; choose another path");
+      }
+    }
+    for (std::size_t j = i + 1; j < outputs.size(); ++j) {
+      const auto& [other_option, other] = outputs[j];
+      if (!other.empty() && other != kStandardOutput && same_file(path, other)) {
+        throw CLI::ValidationError(std::string(option) + ", " + other_option,
+                                   "both write to '" + path + "' and '" + other + "', one file; give each its own path");
+      }
+    }
+  }
 }
 
 std::string command_line_text(int argc, char** argv) {

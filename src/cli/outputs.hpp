@@ -5,6 +5,7 @@
 #include <CLI/CLI.hpp>
 #include <optional>
 #include <string>
+#include <vector>
 
 #include "loopaudit/pipeline/result.hpp"
 
@@ -35,6 +36,12 @@ OutputRequest write_outputs(const AnalysisResult& result, const OutputRequest& r
 // table then goes to standard error. Throws CLI::ValidationError for two
 // outputs to "-", or "-" given to --plots or --out-dir.
 bool check_standard_output(const OutputRequest& request);
+
+// Throws CLI::ValidationError, before anything is read or written, when an
+// output would land on an input (the same file by device and inode, or by
+// spelling when it does not exist yet) or on another output; both are named.
+// `inputs` holds the file analysed first, then any others the run reads.
+void check_output_paths(const OutputRequest& request, const std::vector<std::string>& inputs);
 
 // Writes the whole text or nothing (see write_atomically); "-": to standard output.
 void write_text_file(const std::string& path, const std::string& text);

@@ -306,6 +306,32 @@ class BadInput(unittest.TestCase):
         self.assertEqual(result.returncode, USAGE)
         self.assertEqual(run("frobnicate", check=False).returncode, USAGE)
 
+    def test_an_output_on_an_input_is_refused_and_the_input_kept(self):
+        path = self.write(self.good_recording())
+        with open(path, "rb") as f:
+            before = f.read()
+        link = os.path.join(self.folder, "link.csv")
+        os.symlink(path, link)
+        # By name, through a link (same device and inode), and into --out-dir under the input's own name.
+        for args in (("--csv", path), ("--json", link), ("--json", os.path.join(self.folder, "rec.csv"),
+                                                          "--out-dir", self.folder)):
+            with self.subTest(args=args):
+                result = run("analyze", path, *args, check=False)
+                self.assertEqual(result.returncode, USAGE, result.stderr)
+                self.assertIn("is the input", result.stderr)
+                self.assertIn(path, result.stderr)
+        with open(path, "rb") as f:
+            self.assertEqual(f.read(), before)
+
+    def test_two_outputs_on_one_path_are_refused(self):
+        path = self.write(self.good_recording())
+        same = os.path.join(self.folder, "a")
+        result = run("analyze", path, "--json", same, "--csv", os.path.join(self.folder, ".", "a"), check=False)
+        self.assertEqual(result.returncode, USAGE, result.stderr)
+        self.assertIn("--json, --csv", result.stderr)
+        self.assertIn("one file", result.stderr)
+        self.assertFalse(os.path.exists(same))
+
     def test_unwritable_output(self):
         path = self.write(self.good_recording())
         self.expect(OUTPUT, "analyze", path, "--json", os.path.join(self.folder, "no", "such", "dir", "r.json"),
