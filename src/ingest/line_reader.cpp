@@ -41,6 +41,16 @@ bool LineReader::refill() {
 }
 
 bool LineReader::next(std::string_view& line) {
+  if (!read_any_) {
+    // A UTF-8 byte-order mark (spreadsheets write one) is not part of the first line.
+    read_any_ = true;
+    static constexpr std::string_view kByteOrderMark = "\xEF\xBB\xBF";
+    while (end_ - begin_ < kByteOrderMark.size() && refill()) {
+    }
+    if (std::string_view(buffer_.data() + begin_, end_ - begin_).starts_with(kByteOrderMark)) {
+      begin_ += kByteOrderMark.size();
+    }
+  }
   for (;;) {
     const char* start = buffer_.data() + begin_;
     const void* newline = std::memchr(start, '\n', end_ - begin_);

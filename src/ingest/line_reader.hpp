@@ -31,6 +31,7 @@ class LineReader {
   std::size_t end_ = 0;
   bool at_eof_ = false;
   std::size_t line_number_ = 0;
+  bool read_any_ = false;  // the byte-order mark is looked for once, before the first line
 };
 
 }  // namespace loopaudit::detail

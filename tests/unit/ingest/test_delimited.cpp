@@ -175,3 +175,10 @@ TEST_CASE("mixed line ends and a truncated last row", "[ingest]") {
   CHECK(read("t,z\r\n0,1\n0.5,2\r\n1,3").channels[0] == std::vector<double>{1, 2, 3});
   CHECK_THAT(message_of("t,z,x\n0,1,2\n0.5,2,"), Catch::Contains("line 3, column 3"));
 }
+
+TEST_CASE("a UTF-8 byte-order mark before the header is not part of it", "[ingest]") {
+  // Spreadsheets save "CSV UTF-8" with EF BB BF first (the Unicode standard's byte-order mark in UTF-8).
+  const Record r = read("\xEF\xBB\xBFt,z,x,y\n0,1,2,3\n0.001,4,5,6\n0.002,7,8,9\n");
+  REQUIRE(r.channel_names == std::vector<std::string>{"z", "x", "y"});
+  CHECK(r.sample_rate_hz == Approx(1000.0));
+}
