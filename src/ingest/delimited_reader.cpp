@@ -186,6 +186,14 @@ void DelimitedReader::check_names() {
       }
       throw InputError(message.str());
     }
+    // Two columns of one name: a role could only ever reach the first.
+    for (std::size_t j = 0; j < i; ++j) {
+      if (column_names_[j] != name) continue;
+      std::ostringstream message;
+      message << path_ << ": line " << line_number_ << ": columns " << j + 1 << " and " << i + 1 << " are both named '"
+              << name << "'; rename one in the header so that each channel has its own name";
+      throw InputError(message.str());
+    }
   }
 }
 

@@ -182,3 +182,9 @@ TEST_CASE("a UTF-8 byte-order mark before the header is not part of it", "[inges
   REQUIRE(r.channel_names == std::vector<std::string>{"z", "x", "y"});
   CHECK(r.sample_rate_hz == Approx(1000.0));
 }
+
+TEST_CASE("two columns of one name are refused with both named", "[ingest]") {
+  // t,z,x,x,y: --x x could reach only the first; a scope's Volt,Volt,Volt the same.
+  const std::string message = message_of("t,z,x,x,y\n0,1,2,3,4\n0.001,1,2,3,4\n0.002,1,2,3,4\n");
+  CHECK_THAT(message, Catch::Contains("columns 3 and 4 are both named 'x'"));
+}
