@@ -1,5 +1,6 @@
 #include <hdf5.h>
 
+#include <cmath>
 #include <optional>
 #include <sstream>
 
@@ -34,11 +35,30 @@ class Handle {
   herr_t (*close_)(hid_t) = nullptr;
 };
 
-std::optional<double> number_attribute(hid_t object, const std::string& name) {
+// A scalar numeric attribute's value; nullopt when there is no such
+// attribute. Anything else under that name (an array, a string, a value that
+// is not a positive finite number) is refused naming the attribute and what
+// it holds: reading an array into one double would overrun it.
+std::optional<double> number_attribute(hid_t object, const std::string& name, const std::string& where) {
   if (name.empty() || H5Aexists(object, name.c_str()) <= 0) return std::nullopt;
   Handle attribute(H5Aopen(object, name.c_str(), H5P_DEFAULT), H5Aclose);
+  if (!attribute.valid()) return std::nullopt;
+  Handle space(H5Aget_space(attribute.get()), H5Sclose);
+  Handle type(H5Aget_type(attribute.get()), H5Tclose);
+  const hssize_t points = space.valid() ? H5Sget_simple_extent_npoints(space.get()) : -1;
+  const H5T_class_t kind = type.valid() ? H5Tget_class(type.get()) : H5T_NO_CLASS;
+  const bool numeric = kind == H5T_INTEGER || kind == H5T_FLOAT;
+  if (!numeric || points != 1) {
+    throw ConfigError(where + ": the attribute '" + name + "' must hold one number (the sample rate in Hz); it holds " +
+                      (numeric ? std::to_string(points) + " numbers" : std::string("no number (a string or another type)")) +
+                      "; give --sample-rate HZ, or name another attribute with rate_attribute under [input]");
+  }
   double value = 0.0;
-  if (!attribute.valid() || H5Aread(attribute.get(), H5T_NATIVE_DOUBLE, &value) < 0) return std::nullopt;
+  if (H5Aread(attribute.get(), H5T_NATIVE_DOUBLE, &value) < 0) return std::nullopt;
+  if (!(value > 0.0 && std::isfinite(value))) {
+    throw ConfigError(where + ": the attribute '" + name + "' holds " + std::to_string(value) +
+                      ", not a sample rate (a positive number of Hz); give --sample-rate HZ");
+  }
   return value;
 }
 
@@ -208,9 +228,9 @@ void Hdf5Reader::open_columns(const std::vector<std::string>& names) {
 void Hdf5Reader::find_sample_rate() {
   std::optional<double> rate = options_.sample_rate_hz;
   for (const auto& d : datasets_) {
-    if (!rate) rate = number_attribute(d.get(), options_.hdf5.rate_attribute);
+    if (!rate) rate = number_attribute(d.get(), options_.hdf5.rate_attribute, path_);
   }
-  if (!rate) rate = number_attribute(file_.get(), options_.hdf5.rate_attribute);
+  if (!rate) rate = number_attribute(file_.get(), options_.hdf5.rate_attribute, path_);
   if (!rate || !(*rate > 0.0)) {
     throw ConfigError(path_ + ": no sample rate: no attribute '" + options_.hdf5.rate_attribute +
                       "' on the dataset or the file; give --sample-rate HZ (or sample_rate_hz under [input] in a "

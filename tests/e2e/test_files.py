@@ -273,6 +273,23 @@ class Files(unittest.TestCase):
         named = run("inspect", scope, "--z", "CH1", "--x", "CH2", "--y", "CH3")
         self.assertIn("excitation  broadband", named.stdout)
 
+    def test_hdf5_rate_attribute_must_be_one_positive_number(self):
+        # An array was read whole into one double (a stack overflow with 4000
+        # elements, its first value silently with 2); strings and negatives
+        # were "no attribute".
+        import h5py
+        cases = {"array2": np.array([RATE, RATE], dtype=float), "array4000": np.full(4000, float(RATE)),
+                 "text": str(RATE), "negative": -1.0}
+        for name, attribute in cases.items():
+            with self.subTest(attribute=name):
+                path = self.path(name + ".h5")
+                with h5py.File(path, "w") as f:
+                    f.create_dataset("loop", data=self.data).attrs["sample_rate_hz"] = attribute
+                result = run("analyze", path, "--quiet", check=False)
+                self.assertEqual(result.returncode, SETTINGS, result.stderr)
+                self.assertIn("'sample_rate_hz'", result.stderr)
+                self.assertIn("--sample-rate HZ", result.stderr)
+
     def test_two_channel_wav_takes_the_injection_as_x_minus_y(self):
         # A sound card with two inputs records x and y; --z x-y then needs no --channels.
         from scipy.io import wavfile
