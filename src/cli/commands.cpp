@@ -4,6 +4,8 @@
 
 #include <unistd.h>
 
+#include <algorithm>
+#include <cctype>
 #include <chrono>
 #include <cmath>
 #include <filesystem>
@@ -169,6 +171,18 @@ namespace {
 
 // The options that say how to read a recording and which channel is which,
 // shared by analyze and inspect.
+// A count of samples: digits only (a minus sign would wrap round in an
+// unsigned count and ask for exabytes).
+CLI::Validator whole_samples() {
+  return CLI::Validator(
+      [](const std::string& text) {
+        const bool digits = !text.empty() && text.size() <= 18 &&
+                            std::all_of(text.begin(), text.end(), [](unsigned char c) { return std::isdigit(c); });
+        return digits ? std::string() : "'" + text + "' is not a whole number of samples";
+      },
+      "", "samples");
+}
+
 // LOW:HIGH in Hz as an interval; nullopt when the text is not that.
 std::optional<Interval> parse_band(const std::string& text) {
   // A frequency in Hz, with an optional k or M: "20", "2.5k", "1M".
@@ -246,7 +260,9 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
   add_input_options(cmd, *a);
   add_output_options(cmd, a->outputs);
   cmd->add_option("--window", a->window, "hann, hamming, blackman-harris or rectangular [hann]")->type_name("NAME");
-  cmd->add_option("--segment", a->segment, "Samples per averaged segment [4096]")->type_name("N");
+  cmd->add_option("--segment", a->segment, "Samples per averaged segment, 8 to 4194304 [4096]")
+      ->check(whole_samples())
+      ->type_name("N");
   cmd->add_option("--overlap", a->overlap, "Fraction of a segment shared with the next, 0 to 0.9 [0.5]")
       ->type_name("FRACTION");
   cmd->add_option("--estimator", a->estimator, "reference (S_zy/S_zx) or two-channel (S_xy/S_xx) [reference]")
@@ -259,7 +275,9 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
       ->type_name("DB");
   cmd->add_option("--excitation", a->excitation, "auto, broadband, periodic, stepped or chirp [auto: found]")
       ->type_name("NAME");
-  cmd->add_option("--period", a->period, "Periodic: the period in samples [found]")->type_name("N");
+  cmd->add_option("--period", a->period, "Periodic: the period in samples [found]")
+      ->check(whole_samples())
+      ->type_name("N");
   cmd->add_option("--settle-cycles", a->settle_cycles, "Stepped: cycles dropped at each dwell's start [3]")
       ->type_name("N");
   cmd->add_option("--schedule", a->schedule, "Stepped: dwells from a file with freq_hz, start_s, length_s [found]")

@@ -20,6 +20,10 @@ namespace {
 
 constexpr double kMaxOverlap = 0.9;
 constexpr std::size_t kMinSegmentLength = 8;
+// The longest segment: 2^22 samples (2^21 lines; 0.24 Hz apart at 1 MS/s),
+// so that a segment's buffers (a few hundred MB at this length) are bounded
+// before they are allocated.
+constexpr std::size_t kMaxSegmentLength = std::size_t{1} << 22;
 
 std::size_t pair_index(std::size_t i, std::size_t j, std::size_t channel_count) {
   // Row-major index of (i, j), i <= j, in the upper triangle.
@@ -29,8 +33,9 @@ std::size_t pair_index(std::size_t i, std::size_t j, std::size_t channel_count) 
 }  // namespace
 
 void WelchOptions::validate() const {
-  if (segment_length < kMinSegmentLength) {
-    throw setting_out_of_range("segment", segment_length, "at least " + std::to_string(kMinSegmentLength) + " samples");
+  if (segment_length < kMinSegmentLength || segment_length > kMaxSegmentLength) {
+    throw setting_out_of_range("segment", segment_length,
+                               std::to_string(kMinSegmentLength) + " to " + std::to_string(kMaxSegmentLength) + " samples");
   }
   if (!(overlap >= 0.0 && overlap <= kMaxOverlap)) {
     throw setting_out_of_range("overlap", overlap, "a fraction from 0 to " + format_fixed(kMaxOverlap, 1));

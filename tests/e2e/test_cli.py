@@ -332,6 +332,15 @@ class BadInput(unittest.TestCase):
         self.assertIn("one file", result.stderr)
         self.assertFalse(os.path.exists(same))
 
+    def test_segment_sizes_are_checked_before_allocating(self):
+        path = self.write(self.good_recording())
+        # A minus sign wrapped round to 1.8e19 and ended in an internal error (exit 1).
+        result = run("analyze", path, "--segment", "-4096", check=False)
+        self.assertEqual(result.returncode, USAGE, result.stderr)
+        self.assertIn("not a whole number of samples", result.stderr)
+        # Over the limit (2^22 samples): refused by name before gigabytes are taken.
+        self.expect(SETTINGS, "analyze", path, "--segment", "20000000", contains=("'segment'", "8 to 4194304"))
+
     def test_unwritable_output(self):
         path = self.write(self.good_recording())
         self.expect(OUTPUT, "analyze", path, "--json", os.path.join(self.folder, "no", "such", "dir", "r.json"),
