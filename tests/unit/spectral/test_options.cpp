@@ -19,7 +19,10 @@ TEST_CASE("the defaults of the spectral options are valid", "[spectral][options]
 
 TEST_CASE("Welch options out of range name the setting and its range", "[spectral][options]") {
   CHECK_THROWS_WITH(WelchOptions{.segment_length = 4}.validate(),
-                    "'segment' 4 is out of range; use at least 8 samples");
+                    "'segment' 4 is out of range; use 8 to 4194304 samples");
+  // Over 2^22 samples: refused before the segment's buffers are allocated.
+  CHECK_THROWS_WITH(WelchOptions{.segment_length = 20000000}.validate(),
+                    "'segment' 20000000 is out of range; use 8 to 4194304 samples");
   // The CLI end-to-end test looks for "overlap".
   CHECK_THROWS_WITH(WelchOptions{.overlap = 0.99}.validate(),
                     "'overlap' 0.99 is out of range; use a fraction from 0 to 0.9");
