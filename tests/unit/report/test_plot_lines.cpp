@@ -18,23 +18,15 @@
 #include "loopaudit/report/plots.hpp"
 #include "report/plot_parts.hpp"
 #include "report/svg_reading.hpp"
+#include "report/table_result.hpp"
 
 using namespace loopaudit;
+using loopaudit::table_result::result_of;
 using svg_reading::Element;
 using svg_reading::elements;
 using svg_reading::subpaths;
 
 namespace {
-
-AnalysisResult result_of(const Response& lines) {
-  AnalysisResult r;
-  r.origin = "table.csv";
-  r.options.convention = Convention::kDirect;
-  r.loop = {lines, Convention::kDirect};
-  r.margins = find_margins(lines);
-  r.findings = r.margins.findings;
-  return r;
-}
 
 constexpr double kQuiet = 0.01;  // relative sigma of a trusted line
 // Between the crossing limit (0.25, MarginOptions) and the Nyquist count's (0.5): noise to the eye.

@@ -18,23 +18,15 @@
 #include "report/svg.hpp"
 #include "report/tag_placement.hpp"
 #include "report/svg_reading.hpp"
+#include "report/table_result.hpp"
 
 using namespace loopaudit;
+using loopaudit::table_result::result_of;
 using svg_reading::Element;
 using svg_reading::elements;
 using svg_reading::texts_of;
 
 namespace {
-
-AnalysisResult result_of(const Response& lines) {
-  AnalysisResult r;
-  r.origin = "table.csv";
-  r.options.convention = Convention::kDirect;
-  r.loop = {lines, Convention::kDirect};
-  r.margins = find_margins(lines);
-  r.findings = r.margins.findings;
-  return r;
-}
 
 std::size_t count(const std::string& text, const std::string& what) {
   std::size_t n = 0;
