@@ -1,5 +1,8 @@
-// Output files appear whole or not at all: content goes to a temporary file
-// in the same folder, which replaces the target only once it is complete.
+// Output files appear whole or not at all: content goes to a file with no
+// name in the target's folder (where the file system has them; a named
+// "NAME.tmp.PID" elsewhere), which replaces the target only once it is
+// complete. A run killed while writing leaves nothing behind, and the next
+// write of NAME removes any "NAME.tmp.PID" whose process is gone.
 #pragma once
 
 #include <functional>

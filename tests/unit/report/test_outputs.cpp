@@ -1,3 +1,6 @@
+#include <unistd.h>
+
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <filesystem>
 #include <fstream>
@@ -44,6 +47,59 @@ TEST_CASE("a failed write leaves the old file as it was and no temporary behind"
     CHECK(entry.path().string().find(target.path() + ".tmp.") == std::string::npos);
   }
   CHECK_THROWS_AS(write_atomically("/nonexistent-folder/x.json", [](std::ostream&) {}), OutputError);
+}
+
+namespace {
+// The names in a folder that start with prefix.
+std::vector<std::string> names_starting(const std::filesystem::path& folder, const std::string& prefix) {
+  std::vector<std::string> names;
+  for (const auto& entry : std::filesystem::directory_iterator(folder)) {
+    const std::string name = entry.path().filename().string();
+    if (name.rfind(prefix, 0) == 0) names.push_back(name);
+  }
+  std::sort(names.begin(), names.end());
+  return names;
+}
+
+// A process number no process has: the kernel's pid_max is never handed out.
+long pid_nobody_has() {
+  std::ifstream in("/proc/sys/kernel/pid_max");
+  long pid_max = 4194304;
+  in >> pid_max;
+  return pid_max;
+}
+}  // namespace
+
+TEST_CASE("a file being written has no name in its folder until it is whole", "[report]") {
+  // A run killed at any moment inside the write then leaves nothing behind.
+  const auto folder = std::filesystem::temp_directory_path() / ("loopaudit_test_unnamed_" + std::to_string(::getpid()));
+  std::filesystem::create_directories(folder);
+  const std::string target = (folder / "lines.csv").string();
+  std::vector<std::string> seen_while_writing;
+  write_atomically(target, [&](std::ostream& out) {
+    out << "freq_hz\n1\n";
+    out.flush();
+    seen_while_writing = names_starting(folder, "lines.csv");
+  });
+  CHECK(seen_while_writing.empty());
+  CHECK(names_starting(folder, "lines.csv") == std::vector<std::string>{"lines.csv"});
+  CHECK(read_text(target) == "freq_hz\n1\n");
+  std::filesystem::remove_all(folder);
+}
+
+TEST_CASE("a writer's stale temporaries are swept, nothing else", "[report]") {
+  const auto folder = std::filesystem::temp_directory_path() / ("loopaudit_test_sweep_" + std::to_string(::getpid()));
+  std::filesystem::create_directories(folder);
+  const std::string target = (folder / "bode.svg").string();
+  const std::string dead = "bode.svg.tmp." + std::to_string(pid_nobody_has());
+  const std::string alive = "bode.svg.tmp." + std::to_string(::getppid());
+  for (const std::string& name : {dead, alive, std::string("bode.svg.tmp.notes"), "nyquist.svg.tmp." + dead.substr(13)}) {
+    std::ofstream(folder / name) << "<svg";  // cut mid-write
+  }
+  write_atomically(target, [](std::ostream& out) { out << "<svg/>"; });
+  CHECK(names_starting(folder, "") ==
+        std::vector<std::string>{"bode.svg", alive, "bode.svg.tmp.notes", "nyquist.svg.tmp." + dead.substr(13)});
+  std::filesystem::remove_all(folder);
 }
 
 TEST_CASE("the response CSV reads back as the same lines", "[report]") {
