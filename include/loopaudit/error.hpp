@@ -35,7 +35,9 @@ template <typename Number>
 ConfigError setting_out_of_range(std::string_view key, Number value, std::string_view allowed) {
   char text[32];
   if constexpr (std::floating_point<Number>) {
-    std::snprintf(text, sizeof text, "%g", static_cast<double>(value));
+    // Enough digits that a value just outside a limit does not print as the
+    // limit (0.9999999 is not "1").
+    std::snprintf(text, sizeof text, "%.10g", static_cast<double>(value));
   } else if constexpr (std::unsigned_integral<Number>) {
     std::snprintf(text, sizeof text, "%llu", static_cast<unsigned long long>(value));
   } else {

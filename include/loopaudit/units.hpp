@@ -26,6 +26,15 @@ inline double wrap_deg(double angle_deg) {
   return wrapped;
 }
 
+// The sample rates the tool takes, stated or found: from one sample in
+// about eleven days to 10^12 samples a second (a terahertz sampler). Outside
+// these a rate is a typing or unit error, and its frequencies and their
+// squares would leave the range where double arithmetic keeps its digits.
+inline constexpr double kMinSampleRateHz = 1e-6;
+inline constexpr double kMaxSampleRateHz = 1e12;
+inline constexpr const char* kSampleRateRangeText = "a rate from 1e-06 Hz to 1e+12 Hz";
+inline bool plausible_sample_rate(double rate_hz) { return rate_hz >= kMinSampleRateHz && rate_hz <= kMaxSampleRateHz; }
+
 // A sample index or count from a non-negative real, rounded to nearest and
 // clamped to [0, limit] so that no input can overflow the conversion.
 inline std::size_t clamped_samples(double samples, std::size_t limit) {

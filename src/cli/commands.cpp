@@ -275,7 +275,7 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
       ->type_name("DB");
   cmd->add_option("--excitation", a->excitation, "auto, broadband, periodic, stepped or chirp [auto: found]")
       ->type_name("NAME");
-  cmd->add_option("--period", a->period, "Periodic: the period in samples [found]")
+  cmd->add_option("--period", a->period, "Periodic: the period in samples, 16 to 4194304 [found]")
       ->check(whole_samples())
       ->type_name("N");
   cmd->add_option("--settle-cycles", a->settle_cycles, "Stepped: cycles dropped at each dwell's start [3]")

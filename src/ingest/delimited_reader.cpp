@@ -12,6 +12,7 @@
 #include "ingest/number_text.hpp"
 #include "ingest/stamp_check.hpp"
 #include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 #include "loopaudit/ingest/delimited.hpp"
 
 namespace loopaudit {
@@ -376,8 +377,8 @@ void DelimitedOptions::validate() const {
     throw ConfigError(std::string("'delimiter' '") + *delimiter +
                       "' cannot separate numbers; use a punctuation character, a space or a tab");
   }
-  if (sample_rate_hz && !(*sample_rate_hz > 0.0 && std::isfinite(*sample_rate_hz))) {
-    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, "a positive rate in Hz");
+  if (sample_rate_hz && !plausible_sample_rate(*sample_rate_hz)) {
+    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, kSampleRateRangeText);
   }
   if (block_size < 1 || block_size > kMaxBlockSize) {
     throw setting_out_of_range("block_size", block_size, "1 to " + std::to_string(kMaxBlockSize) + " samples");

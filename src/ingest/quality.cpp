@@ -165,4 +165,9 @@ Diagnostics QualityMonitor::findings() const {
   return out;
 }
 
+double QualityMonitor::peak_magnitude(std::size_t index) const {
+  const Channel& c = channels_.at(index);
+  return samples_ == 0 ? 0.0 : std::max(std::abs(c.min), std::abs(c.max));
+}
+
 }  // namespace loopaudit

@@ -9,6 +9,7 @@
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
 #include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
 namespace loopaudit {
 namespace {
@@ -156,8 +157,8 @@ ChannelSetup channel_setup(const RecordingOptions& options, std::size_t count, c
 }  // namespace detail
 
 void RecordingOptions::validate() const {
-  if (sample_rate_hz && !(*sample_rate_hz > 0.0 && std::isfinite(*sample_rate_hz))) {
-    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, "a positive rate in Hz");
+  if (sample_rate_hz && !plausible_sample_rate(*sample_rate_hz)) {
+    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, kSampleRateRangeText);
   }
   if (block_size < 1 || block_size > kMaxBlockSize) {
     throw setting_out_of_range("block_size", block_size, "1 to " + std::to_string(kMaxBlockSize) + " samples");

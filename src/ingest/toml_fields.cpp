@@ -42,6 +42,9 @@ const toml::table* optional_table(const toml::table& parent, const char* key, co
 std::optional<double> optional_number(const toml::table& table, const char* key, const std::string& where) {
   const auto node = table[key];
   if (!node) return std::nullopt;
+  // A whole number too large for a double to hold exactly is still a number
+  // (and then out of some range, which the caller says).
+  if (const auto whole = node.value_exact<std::int64_t>()) return static_cast<double>(*whole);
   const auto value = node.value<double>();
   if (!value || !std::isfinite(*value)) throw ConfigError(where + ": '" + key + "' must be a number");
   return value;
@@ -53,8 +56,9 @@ std::optional<std::int64_t> optional_whole(const toml::table& table, const char*
   if (!value) return std::nullopt;
   if (*value != std::floor(*value) || *value < static_cast<double>(range.low) ||
       *value > static_cast<double>(range.high)) {
-    throw ConfigError(where + ": '" + key + "' must be a whole number from " + std::to_string(range.low) + " to " +
-                      std::to_string(range.high));
+    const ConfigError error = setting_out_of_range(key, *value, "a whole number from " + std::to_string(range.low) +
+                                                                     " to " + std::to_string(range.high));
+    throw ConfigError(where + ": " + error.what());
   }
   return static_cast<std::int64_t>(*value);
 }

@@ -1,10 +1,12 @@
 #include "loopaudit/pipeline/pipeline.hpp"
 
 #include <algorithm>
+#include <cmath>
 #include <sstream>
 
 #include "loopaudit/error.hpp"
 #include "loopaudit/format.hpp"
+#include "loopaudit/units.hpp"
 #include "loopaudit/excitation/schedule.hpp"
 #include "loopaudit/ingest/quality.hpp"
 #include "loopaudit/loop/loop.hpp"
@@ -159,6 +161,35 @@ void stream(SampleSource& source, const ChannelRoles& roles, QualityMonitor* qua
     if (progress) progress(samples);
     if (!consume(selected, block)) return;
   }
+  // The rate a file states or its time column gives is known only now.
+  const double rate_hz = source.summary().sample_rate_hz;
+  if (rate_hz != 0.0 && !plausible_sample_rate(rate_hz)) {
+    std::ostringstream message;
+    message << source.origin() << ": the file gives a sample rate of " << rate_hz << " Hz, outside "
+            << kSampleRateRangeText << "; if the file is wrong, give the rate with --sample-rate HZ";
+    throw InputError(message.str());
+  }
+}
+
+// The largest and smallest peak a channel may have: the spectra square the
+// samples and sum them over a segment, and beyond these the sums would leave
+// double precision's range (come out 0 or infinite) and the run would end in
+// a message about a flat channel instead of the real problem.
+constexpr double kSmallestPeak = 1e-100;
+constexpr double kLargestPeak = 1e100;
+
+void refuse_out_of_scale(const QualityMonitor& quality, const ChannelRoles& roles, const std::string& origin) {
+  const std::string* names[] = {&roles.injection, &roles.x, &roles.y};
+  for (const std::size_t c : {1, 2, 0}) {  // x and y first: the injection may be their difference
+    const double peak = quality.peak_magnitude(c);
+    if (peak == 0.0 || (peak >= kSmallestPeak && peak <= kLargestPeak)) continue;
+    std::ostringstream message;
+    message << origin << ": channel '" << *names[c] << "' peaks at " << peak << ", outside " << kSmallestPeak
+            << " to " << kLargestPeak << ", where its spectra can be computed in double precision; give it a scale "
+            << "in the right units (--scale " << *names[c] << "=" << std::pow(10.0, -std::round(std::log10(peak)))
+            << ")";
+    throw NumericalError(message.str());
+  }
 }
 
 QualityMonitor quality_monitor(const SampleSource& source, const AnalysisOptions& options) {
@@ -263,6 +294,7 @@ AnalysisResult run_kind(SampleSource& source, const AnalysisOptions& options, Ex
         return true;
       },
       progress);
+  refuse_out_of_scale(quality, options.roles, source.origin());
   SourceSummary summary = source.summary();
   Diagnostics findings = quality.findings();
   const Response measured =

@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <optional>
 #include <sstream>
 
 #include "loopaudit/error.hpp"
@@ -16,6 +17,9 @@ using Complex = std::complex<double>;
 constexpr std::size_t kChannels = 3;  // injection, x, y
 // The shortest period the accumulator takes, in samples.
 constexpr std::size_t kMinPeriodSamples = 16;
+// The longest: 2^22 samples, as for a Welch segment, so that a period's
+// buffers are bounded before they are made.
+constexpr std::size_t kMaxPeriodSamples = std::size_t{1} << 22;
 
 // Sums over periods for one line.
 struct LineSums {
@@ -28,22 +32,26 @@ struct LineSums {
 
 struct PeriodicAccumulator::Impl {
   PeriodicOptions options;
-  detail::RealFft fft;
+  std::optional<detail::RealFft> fft;
   std::vector<std::vector<double>> pending = std::vector<std::vector<double>>(kChannels);
   std::vector<LineSums> lines;
   std::size_t periods_seen = 0;
   std::size_t periods_used = 0;
   std::vector<Complex> spectrum[kChannels];
 
-  explicit Impl(const PeriodicOptions& o) : options(o), fft(o.period_samples), lines(o.period_samples / 2 + 1) {}
+  explicit Impl(const PeriodicOptions& o) : options(o) {}
 
   void take_period(std::size_t offset) {
     const std::size_t p = options.period_samples;
+    if (!fft) {  // made at the first period used: a short record never pays for a long period's buffers
+      fft.emplace(p);
+      lines.resize(p / 2 + 1);
+    }
     for (std::size_t c = 0; c < kChannels; ++c) {
       const auto first = pending[c].begin() + static_cast<std::ptrdiff_t>(offset);
-      std::copy(first, first + static_cast<std::ptrdiff_t>(p), fft.input().begin());
-      fft.execute();
-      spectrum[c].assign(fft.output().begin(), fft.output().end());
+      std::copy(first, first + static_cast<std::ptrdiff_t>(p), fft->input().begin());
+      fft->execute();
+      spectrum[c].assign(fft->output().begin(), fft->output().end());
     }
     for (std::size_t k = 0; k < lines.size(); ++k) {
       LineSums& l = lines[k];
@@ -58,9 +66,9 @@ struct PeriodicAccumulator::Impl {
 };
 
 void PeriodicOptions::validate() const {
-  if (period_samples < kMinPeriodSamples) {
+  if (period_samples < kMinPeriodSamples || period_samples > kMaxPeriodSamples) {
     throw setting_out_of_range("period_samples", period_samples,
-                               "at least " + std::to_string(kMinPeriodSamples) + " samples");
+                               std::to_string(kMinPeriodSamples) + " to " + std::to_string(kMaxPeriodSamples) + " samples");
   }
   if (!(injection_floor_db > 0.0 && std::isfinite(injection_floor_db))) {
     throw setting_out_of_range("injection_floor_db", injection_floor_db, "a positive number of dB");

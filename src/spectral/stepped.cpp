@@ -97,8 +97,8 @@ struct SteppedSineEstimator::Impl {
 };
 
 void SteppedOptions::validate() const {
-  if (!(sample_rate_hz > 0.0 && std::isfinite(sample_rate_hz))) {
-    throw setting_out_of_range("sample_rate_hz", sample_rate_hz, "a positive rate in Hz");
+  if (!plausible_sample_rate(sample_rate_hz)) {
+    throw setting_out_of_range("sample_rate_hz", sample_rate_hz, kSampleRateRangeText);
   }
   if (!(settle_cycles >= 0.0 && std::isfinite(settle_cycles))) {
     throw setting_out_of_range("settle_cycles", settle_cycles, "0 or more cycles");

@@ -256,13 +256,18 @@ struct WelchAccumulator::Impl {
   std::size_t samples = 0;
   std::vector<std::unique_ptr<Worker>> workers;  // last: stopped before the data they use goes
 
-  Impl(std::size_t channels, const WelchOptions& opts)
-      : options(opts), channel_count(channels), window(make_window(opts.window, opts.segment_length)), pending(channels) {
+  Impl(std::size_t channels, const WelchOptions& opts) : options(opts), channel_count(channels), pending(channels) {
     const std::size_t cores = std::clamp<std::size_t>(std::thread::hardware_concurrency(), 1, 2);
-    for (std::size_t i = 0; i < cores; ++i) {
-      lanes.emplace_back(channels, opts.segment_length);
-      workers.push_back(std::make_unique<Worker>());
-    }
+    for (std::size_t i = 0; i < cores; ++i) workers.push_back(std::make_unique<Worker>());
+  }
+
+  // The window and the lanes' transforms and sums, made when the first whole
+  // segment has arrived: a record shorter than one segment never pays for a
+  // long segment's buffers.
+  void make_lanes() {
+    if (!lanes.empty()) return;
+    window = make_window(options.window, options.segment_length);
+    for (std::size_t i = 0; i < workers.size(); ++i) lanes.emplace_back(channel_count, options.segment_length);
   }
 
   void wait() {
@@ -277,6 +282,7 @@ struct WelchAccumulator::Impl {
     starts.clear();
     for (; offset + n <= available; offset += options.step()) starts.push_back(offset);
     if (starts.empty()) return;
+    make_lanes();
     wait();
     const std::size_t keep_from = std::min(offset, available);
     for (std::size_t c = 0; c < channel_count; ++c) {

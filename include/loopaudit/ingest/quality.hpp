@@ -32,6 +32,9 @@ class QualityMonitor {
 
   Diagnostics findings() const;
 
+  // The largest magnitude channel `index` has reached (0 before any sample).
+  double peak_magnitude(std::size_t index) const;
+
  private:
   struct Channel {
     double max = -INFINITY;

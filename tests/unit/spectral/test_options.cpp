@@ -41,7 +41,10 @@ TEST_CASE("response options out of range are refused", "[spectral][options]") {
 
 TEST_CASE("periodic options out of range are refused by the accumulator", "[spectral][options]") {
   CHECK_THROWS_WITH(PeriodicOptions{.period_samples = 8}.validate(),
-                    "'period_samples' 8 is out of range; use at least 16 samples");
+                    "'period_samples' 8 is out of range; use 16 to 4194304 samples");
+  // Above 2^22 samples: refused before a period's buffers are made.
+  CHECK_THROWS_WITH(PeriodicOptions{.period_samples = (std::size_t{1} << 22) + 1}.validate(),
+                    Contains("'period_samples' 4194305 is out of range"));
   CHECK_THROWS_AS(PeriodicOptions({.period_samples = 64, .injection_floor_db = -1.0}).validate(), ConfigError);
   CHECK_THROWS_AS(PeriodicAccumulator({.period_samples = 0}), ConfigError);
 }
