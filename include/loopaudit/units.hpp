@@ -32,7 +32,7 @@ inline double wrap_deg(double angle_deg) {
 // squares would leave the range where double arithmetic keeps its digits.
 inline constexpr double kMinSampleRateHz = 1e-6;
 inline constexpr double kMaxSampleRateHz = 1e12;
-inline constexpr const char* kSampleRateRangeText = "a rate from 1e-06 Hz to 1e+12 Hz";
+inline constexpr const char* kSampleRateRangeText = "1e-06 Hz to 1e+12 Hz";
 inline bool plausible_sample_rate(double rate_hz) { return rate_hz >= kMinSampleRateHz && rate_hz <= kMaxSampleRateHz; }
 
 // A sample index or count from a non-negative real, rounded to nearest and

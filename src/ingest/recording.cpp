@@ -158,7 +158,7 @@ ChannelSetup channel_setup(const RecordingOptions& options, std::size_t count, c
 
 void RecordingOptions::validate() const {
   if (sample_rate_hz && !plausible_sample_rate(*sample_rate_hz)) {
-    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, kSampleRateRangeText);
+    throw setting_out_of_range("sample_rate_hz", *sample_rate_hz, std::string("a rate from ") + kSampleRateRangeText);
   }
   if (block_size < 1 || block_size > kMaxBlockSize) {
     throw setting_out_of_range("block_size", block_size, "1 to " + std::to_string(kMaxBlockSize) + " samples");

@@ -165,8 +165,8 @@ void stream(SampleSource& source, const ChannelRoles& roles, QualityMonitor* qua
   const double rate_hz = source.summary().sample_rate_hz;
   if (rate_hz != 0.0 && !plausible_sample_rate(rate_hz)) {
     std::ostringstream message;
-    message << source.origin() << ": the file gives a sample rate of " << rate_hz << " Hz, outside "
-            << kSampleRateRangeText << "; if the file is wrong, give the rate with --sample-rate HZ";
+    message << source.origin() << ": the file gives a sample rate of " << rate_hz << " Hz, outside the rates taken ("
+            << kSampleRateRangeText << "); if the file is wrong, give the rate with --sample-rate HZ";
     throw InputError(message.str());
   }
 }

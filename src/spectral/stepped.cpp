@@ -98,7 +98,7 @@ struct SteppedSineEstimator::Impl {
 
 void SteppedOptions::validate() const {
   if (!plausible_sample_rate(sample_rate_hz)) {
-    throw setting_out_of_range("sample_rate_hz", sample_rate_hz, kSampleRateRangeText);
+    throw setting_out_of_range("sample_rate_hz", sample_rate_hz, std::string("a rate from ") + kSampleRateRangeText);
   }
   if (!(settle_cycles >= 0.0 && std::isfinite(settle_cycles))) {
     throw setting_out_of_range("settle_cycles", settle_cycles, "0 or more cycles");

@@ -353,6 +353,32 @@ class BadInput(unittest.TestCase):
             self.assertEqual(f.read(), "previous results\n")
         self.assertEqual(sorted(os.listdir(self.folder)), ["r.json", "rec.csv"])
 
+    def test_a_killed_run_leaves_no_file_behind(self):
+        # A run killed while writing left NAME.tmp.PID files, one cut mid-row,
+        # that no later run removed. Kill synth (it writes a 25 MB recording)
+        # at moments spread over its run: whatever is left must be whole.
+        import signal
+        import subprocess
+        import time
+        from cli_common import BINARY
+        scenario = os.path.join(DEMO, "buck_48v_12v.toml")
+        for delay in (0.1, 0.3, 0.5, 0.7, 0.9):
+            out = tempfile.mkdtemp(dir=self.folder)
+            with self.subTest(delay=delay):
+                child = subprocess.Popen([BINARY, "synth", scenario, "--out-dir", out], stdout=subprocess.DEVNULL)
+                time.sleep(delay)
+                child.send_signal(signal.SIGKILL)
+                child.wait()
+                names = os.listdir(out)
+                self.assertFalse([n for n in names if ".tmp." in n], names)
+                recording = os.path.join(out, "buck_48v_12v.csv")
+                if os.path.exists(recording):
+                    with open(recording, "rb") as f:
+                        f.seek(-200, os.SEEK_END)
+                        last = f.read().split(b"\n")[-2]
+                    self.assertEqual(last.count(b","), 3)  # the last row whole
+                    self.assertEqual(os.path.getsize(recording) > 20_000_000, True)
+
     def test_bad_scenario(self):
         path = self.write('name = "x"\n[recording]\nsample_rate_hz = -1\nduration_s = 1\n', name="s.toml")
         self.expect(SETTINGS, "synth", path, "--out-dir", self.folder, contains=("[injection]",))
