@@ -56,8 +56,10 @@ std::optional<double> number_attribute(hid_t object, const std::string& name, co
   double value = 0.0;
   if (H5Aread(attribute.get(), H5T_NATIVE_DOUBLE, &value) < 0) return std::nullopt;
   if (!(value > 0.0 && std::isfinite(value))) {
-    throw ConfigError(where + ": the attribute '" + name + "' holds " + std::to_string(value) +
-                      ", not a sample rate (a positive number of Hz); give --sample-rate HZ");
+    std::ostringstream message;
+    message << where << ": the attribute '" << name << "' holds " << value
+            << ", not a sample rate (a positive number of Hz); give --sample-rate HZ";
+    throw ConfigError(message.str());
   }
   return value;
 }

@@ -117,13 +117,17 @@ std::size_t Scenario::sample_count() const {
 void Scenario::validate() const {
   const std::string where = name.empty() ? "scenario" : name;
   require(sample_rate_hz > 0.0, where + ": [recording] sample_rate_hz must be positive");
-  constexpr double kMostSamples = 1e12;
+  // The simulation holds the whole record, about 64 bytes a sample: 10^8
+  // samples take some 6 GB. Checked before anything is made.
+  constexpr double kMostSamples = 1e8;
   require(duration_s * sample_rate_hz <= kMostSamples && injection.sweep_s * sample_rate_hz <= kMostSamples &&
               injection.dwell_s * sample_rate_hz <= kMostSamples,
-          where + ": [recording] and [injection] durations must give at most 1e12 samples");
+          where + ": [recording] and [injection] durations must give at most 1e8 samples (the simulation holds the "
+                  "whole record, about 64 bytes a sample)");
   require(duration_s > 0.0 && sample_count() >= 16, where + ": [recording] duration_s gives fewer than 16 samples");
   require(injection.rms > 0.0, where + ": [injection] rms must be positive");
-  require(injection.period_samples >= 16, where + ": [injection] period_samples must be at least 16");
+  require(injection.period_samples >= 16 && injection.period_samples <= (std::size_t{1} << 22),
+          where + ": [injection] period_samples must be 16 to 4194304 (what analyze takes)");
   const bool swept = injection.kind == InjectionKind::kStepped || injection.kind == InjectionKind::kChirp;
   require(!swept || (injection.low_hz > 0.0 && injection.top_hz(sample_rate_hz) > injection.low_hz &&
                      injection.top_hz(sample_rate_hz) < sample_rate_hz / 2.0),

@@ -11,7 +11,7 @@ import unittest
 
 import numpy as np
 
-from cli_common import BINARY, INPUT, NO_RESULT, SETTINGS, run
+from cli_common import BINARY, DEMO, INPUT, NO_RESULT, SETTINGS, run
 
 
 def peak_rss_mib(*args):
@@ -131,6 +131,22 @@ class Bounds(unittest.TestCase):
                 self.assertNotIn("flat", result.stderr)
                 self.assertNotIn("above the floor", result.stderr)
         self.assertEqual(run("analyze", self.recording, check=False).returncode, 0)
+
+    def test_synth_sizes_are_bounded_before_allocating(self):
+        # duration_s = 1e6 at 8 kHz and a multisine period of 1e12 samples
+        # ended in "out of memory" (exit 1).
+        with open(os.path.join(DEMO, "buck_48v_12v.toml")) as f:
+            good = f.read()
+        long = good.replace("duration_s = 0.5", "duration_s = 1e6")
+        periodic = good.replace('kind = "noise"', 'kind = "multisine"\nperiod_samples = 1e12')
+        self.assertNotEqual(long, good)
+        self.assertNotEqual(periodic, good)
+        for text, message in ((long, "at most 1e8 samples"), (periodic, "period_samples must be 16 to 4194304")):
+            with self.subTest(message=message):
+                result, rss = peak_rss_mib("synth", self.settings(text), "--out-dir", self.folder)
+                self.assertEqual(result.returncode, SETTINGS, result.stderr)
+                self.assertIn(message, result.stderr)
+                self.assertLess(rss, 200, "peak RSS in MiB")
 
 
 if __name__ == "__main__":
