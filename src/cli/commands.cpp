@@ -169,18 +169,16 @@ void run_analyze(const AnalyzeArgs& a, const std::string& command_line) {
 
 namespace {
 
-// The options that say how to read a recording and which channel is which,
-// shared by analyze and inspect.
-// A count of samples: digits only (a minus sign would wrap round in an
-// unsigned count and ask for exabytes).
-CLI::Validator whole_samples() {
+// A count (of samples, lines): digits only (a minus sign would wrap round in
+// an unsigned count and ask for exabytes).
+CLI::Validator whole_count(const std::string& unit) {
   return CLI::Validator(
-      [](const std::string& text) {
+      [unit](const std::string& text) {
         const bool digits = !text.empty() && text.size() <= 18 &&
                             std::all_of(text.begin(), text.end(), [](unsigned char c) { return std::isdigit(c); });
-        return digits ? std::string() : "'" + text + "' is not a whole number of samples";
+        return digits ? std::string() : "'" + text + "' is not a whole number of " + unit;
       },
-      "", "samples");
+      "", unit);
 }
 
 // LOW:HIGH in Hz as an interval; nullopt when the text is not that.
@@ -224,6 +222,8 @@ void add_margin_options(CLI::App* cmd, double& confidence, int& rhp_poles, std::
       ->type_name("N");
 }
 
+// The options that say how to read a recording and which channel is which,
+// shared by analyze and inspect.
 void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
   a.command = cmd;
   cmd->add_option("recording", a.recording, "Recording: CSV/TSV text, raw binary, WAV or HDF5")
@@ -242,7 +242,9 @@ void add_input_options(CLI::App* cmd, AnalyzeArgs& a) {
       ->type_name("NAME");
   cmd->add_option("--sample-rate", a.sample_rate_hz, "Sample rate in Hz; overrides what the file says [from the file]")
       ->type_name("HZ");
-  cmd->add_option("--skip-rows", a.skip_rows, "Text: lines above the header to skip [found]")->type_name("N");
+  cmd->add_option("--skip-rows", a.skip_rows, "Text: lines above the header to skip [found]")
+      ->check(whole_count("lines"))
+      ->type_name("N");
   cmd->add_option("--sample-type", a.sample_type, "Raw: int16, int32, float32 or float64 [int16, said so]")
       ->type_name("NAME");
   cmd->add_option("--scale", a.scales,
@@ -261,7 +263,7 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
   add_output_options(cmd, a->outputs);
   cmd->add_option("--window", a->window, "hann, hamming, blackman-harris or rectangular [hann]")->type_name("NAME");
   cmd->add_option("--segment", a->segment, "Samples per averaged segment, 8 to 4194304 [4096]")
-      ->check(whole_samples())
+      ->check(whole_count("samples"))
       ->type_name("N");
   cmd->add_option("--overlap", a->overlap, "Fraction of a segment shared with the next, 0 to 0.9 [0.5]")
       ->type_name("FRACTION");
@@ -276,7 +278,7 @@ void add_analyze(CLI::App& app, const std::string& command_line) {
   cmd->add_option("--excitation", a->excitation, "auto, broadband, periodic, stepped or chirp [auto: found]")
       ->type_name("NAME");
   cmd->add_option("--period", a->period, "Periodic: the period in samples, 16 to 4194304 [found]")
-      ->check(whole_samples())
+      ->check(whole_count("samples"))
       ->type_name("N");
   cmd->add_option("--settle-cycles", a->settle_cycles, "Stepped: cycles dropped at each dwell's start [3]")
       ->type_name("N");

@@ -11,7 +11,7 @@ import unittest
 
 import numpy as np
 
-from cli_common import BINARY, DEMO, INPUT, NO_RESULT, SETTINGS, run
+from cli_common import BINARY, DEMO, INPUT, NO_RESULT, SETTINGS, USAGE, run
 
 
 def peak_rss_mib(*args):
@@ -102,6 +102,13 @@ class Bounds(unittest.TestCase):
         for value in ("nan", "inf", "-3"):
             self.expect(SETTINGS, "analyze", self.recording, "--injection-floor", value,
                         contains=("'injection_floor_db'",))
+
+    def test_a_negative_count_is_not_wrapped_round(self):
+        # --skip-rows -1 became 18446744073709551615 lines to skip.
+        result = run("analyze", self.recording, "--skip-rows", "-1", check=False)
+        self.assertEqual(result.returncode, USAGE, result.stderr)
+        self.assertIn("'-1' is not a whole number of lines", result.stderr)
+        self.assertNotIn("18446744073709551615", result.stderr)
 
     def test_period_is_bounded_before_allocating(self):
         # --period 10^12 ended in "out of memory" (exit 1).
