@@ -30,3 +30,16 @@ def load(path):
 def codes(result):
     """The diagnostic codes of a JSON result."""
     return [d["code"] for d in result["diagnostics"]]
+
+
+class ExpectsFailure:
+    """A unittest.TestCase mixin for bad inputs: one clear message, a documented exit code."""
+
+    def expect(self, code, *args, contains=()):
+        """Runs loopaudit with args and checks its exit code, that it says one line, and that the line holds contains."""
+        result = run(*args, check=False)
+        self.assertEqual(result.returncode, code, result.stderr)
+        self.assertEqual(result.stderr.count("\n"), 1, "one line of message: " + result.stderr)
+        for text in contains:
+            self.assertIn(text, result.stderr)
+        return result
