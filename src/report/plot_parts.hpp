@@ -79,6 +79,7 @@ Drawable drawable(const Response& r, double most_trusted_sigma);
 // lines always join; a run goes on across noisy lines when
 // `bridges(last reliable, next reliable)` allows.
 inline constexpr std::size_t kMostBridgedLines = 2;  // across this many noisy lines at most, unless unseen
+inline constexpr double kUnseenPixels = 1.5;         // a gap of at most this many px: across any number
 std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
     const std::vector<bool>& reliable, const std::function<bool(std::size_t, std::size_t)>& bridges);
 std::vector<double> unwrapped_phase_deg(const Drawable& d);

@@ -56,7 +56,6 @@ std::string interval_suffix(const std::optional<Interval>& i, std::string (*form
 namespace {
 constexpr std::size_t kSigmaMedianHalfWidth = 2;  // the line and two on each side
 constexpr double kMostBridgedPixels = 6.0;
-constexpr double kUnseenPixels = 1.5;
 constexpr std::size_t kMostDottedLines = 80;
 }  // namespace
 
@@ -221,8 +220,9 @@ void draw_curve(Canvas& canvas, const Panel& p, const std::vector<double>& f, co
     trusted.push_back({NAN, NAN});
   }
   const bool few = f.size() <= kMostDottedLines;
+  const auto shows = [&](const Point& q) { return q.y >= p.top - 1.0 && q.y <= p.bottom() + 1.0; };
   for (std::size_t k = 0; k < f.size() && !few; ++k) {
-    if (!reliable[k]) noisy.push_back(at(k));
+    if (!reliable[k] && shows(at(k))) noisy.push_back(at(k));
   }
   canvas.begin_clip(p.left, p.top, p.width, p.height);
   canvas.dots(noisy, kNoiseDots);
