@@ -91,7 +91,7 @@ Panel square_panel(const ComplexView& v, double top, double size) {
 // can be read off the complex plane.
 void decade_marks(Canvas& canvas, const Panel& p, const Drawable& d, const std::vector<Point>& points) {
   for (std::size_t k = 1; k < d.f.size(); ++k) {
-    const double decade = std::pow(10.0, std::floor(std::log10(d.f[k])));
+    const double decade = std::pow(10.0, std::floor(d.log_f[k]));
     if (!(d.f[k - 1] < decade && d.f[k] >= decade)) continue;
     const Point at = points[k];
     if (at.x < p.left || at.x > p.right() || at.y < p.top || at.y > p.bottom()) continue;
@@ -190,7 +190,7 @@ Plot nyquist_whole(const Drawable& d) {
   double reach = std::log10(2.0) * 1.3;
   const bool any_reliable = std::find(d.reliable.begin(), d.reliable.end(), true) != d.reliable.end();
   for (std::size_t k = 0; k < d.value.size(); ++k) {
-    if (d.reliable[k] || !any_reliable) reach = std::max(reach, std::abs(squash(d.value[k])) * 1.05);
+    if (d.reliable[k] || !any_reliable) reach = std::max(reach, std::log10(1.0 + std::abs(d.value[k])) * 1.05);
   }
   const Panel p = square_panel({-reach, reach, -reach, reach}, 44.0, 440.0);
   canvas.rect(p.left, p.top, p.width, p.height, {kInk, 1.0}, "none");

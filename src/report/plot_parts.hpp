@@ -61,6 +61,7 @@ inline Reading peak_sensitivity(const ModulusPoint& m) { return {m.peak_sensitiv
 // ---- the lines that can be drawn: positive frequency and a finite, non-zero value
 struct Drawable {
   std::vector<double> f;
+  std::vector<double> log_f;  // log10 of f, which the frequency axes map (svg::Scale::at_log10)
   std::vector<std::complex<double>> value;
   std::vector<double> sigma;      // relative; 0 when unknown
   std::vector<double> coherence;  // may be empty
@@ -87,10 +88,11 @@ void place_phase_branch(std::vector<double>& phase, const Drawable& d, const Mar
 std::pair<double, double> value_range(const std::vector<double>& values, const std::vector<bool>& reliable);
 
 // ---- drawing against frequency
-void draw_band(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& f,
+// `log_f`: log10 of the lines' frequencies, on the panel's (logarithmic) x scale.
+void draw_band(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& log_f,
                const std::vector<double>& values, const std::vector<double>& half_width,
                const std::vector<bool>& reliable);
-void draw_curve(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& f,
+void draw_curve(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& log_f,
                 const std::vector<double>& values, const std::vector<bool>& reliable);
 svg::Scale frequency_scale(const std::vector<double>& f);
 std::vector<svg::Tick> frequency_ticks(const svg::Scale& fx);

@@ -23,7 +23,15 @@ struct Scale {
   double to_px = 1.0;
   bool log = false;
   double operator()(double value) const;
+  // A log scale's pixel for the value whose log10 is given: lines mapped
+  // many times take their logarithms once.
+  double at_log10(double log10_value) const;
   bool contains(double value) const;
+
+  // The logarithms of the ends, taken once for the range they were taken
+  // for: a plot maps every line through its scales, several times.
+  mutable double logs_for_low_ = 0.0, logs_for_high_ = 0.0, log_low_ = 0.0, log_high_ = 0.0;
+  mutable bool logs_taken_ = false;
 };
 
 struct Tick {
