@@ -119,7 +119,7 @@ void draw_bode_curves(Canvas& canvas, const BodePanes& panes, const BodeCurves& 
   for (const auto& [panel, values, widths] :
        {std::tuple{&mag, &c.gain, &c.gain_sigma}, std::tuple{&phase, &c.phase, &c.phase_sigma}}) {
     canvas.begin_clip(panel->left, panel->top, panel->width, panel->height);
-    draw_band(canvas, *panel, d.f, *values, *widths, d.reliable);
+    draw_band(canvas, *panel, d.log_f, *values, *widths, d.reliable);
     canvas.end_clip();
   }
   const svg::Scale& fx = mag.x;
@@ -130,8 +130,8 @@ void draw_bode_curves(Canvas& canvas, const BodePanes& panes, const BodeCurves& 
       canvas.line(phase.at(fx.low, level), phase.at(fx.high, level), kReferenceStroke);
     }
   }
-  draw_curve(canvas, mag, d.f, c.gain, d.reliable);
-  draw_curve(canvas, phase, d.f, c.phase, d.reliable);
+  draw_curve(canvas, mag, d.log_f, c.gain, d.reliable);
+  draw_curve(canvas, phase, d.log_f, c.phase, d.reliable);
 }
 
 void bode_notes(const Drawable& d, const BodeView& view, Plot& plot) {
@@ -174,7 +174,8 @@ Plot bode(const AnalysisResult& result, const Drawable& d, const BodeView& view)
   const BodeCurves curves = bode_curves(d, view.marks, result.margins.confidence);
   draw_bode_axes(canvas, panes, curves, d, view, plot);
   draw_bode_curves(canvas, panes, curves, d, view);
-  draw_crossover_marks(canvas, {panes.mag, panes.phase, d.f, curves.gain, curves.phase}, marks, kWidth, layout.height);
+  draw_crossover_marks(canvas, {panes.mag, panes.phase, d.f, d.log_f, curves.gain, curves.phase}, marks, kWidth,
+                       layout.height);
   draw_margin_table(canvas, layout.table_top, marks, result.margins.confidence);
   bode_key(canvas, view, result.margins.confidence, layout.key_y);
   draw_mark_key(canvas, layout.mark_key_y, marks);

@@ -37,7 +37,7 @@ Plot coherence(const Drawable& d) {
   }
   canvas.line(p.at(fx.low, kCoherenceThreshold), p.at(fx.high, kCoherenceThreshold), {kMarker, 1.2, "8 3 2 3"});
   canvas.text({p.right() - 4.0, p.y(kCoherenceThreshold) - 5.0}, "threshold 0.5", marker_text("end"));
-  draw_curve(canvas, p, d.f, d.coherence, std::vector<bool>(d.f.size(), true));
+  draw_curve(canvas, p, d.log_f, d.coherence, std::vector<bool>(d.f.size(), true));
   plot.svg = canvas.finish();
   return plot;
 }
@@ -59,7 +59,7 @@ Plot dwell_snr(const Drawable& d) {
   svg::draw_frame(canvas, p, {frequency_ticks(fx), svg::linear_ticks(low, high, 6, tick_number), "frequency", "SNR (dB)"});
   canvas.line(p.at(fx.low, 0.0), p.at(fx.high, 0.0), {kMarker, 1.2, "8 3 2 3"});
   canvas.text({p.right() - 4.0, p.y(0.0) - 5.0}, "0 dB: coherence 0.5", marker_text("end"));
-  draw_curve(canvas, p, d.f, snr_db, std::vector<bool>(d.f.size(), true));
+  draw_curve(canvas, p, d.log_f, snr_db, std::vector<bool>(d.f.size(), true));
   plot.svg = canvas.finish();
   return plot;
 }
@@ -90,9 +90,9 @@ Plot sensitivity(const AnalysisResult& result, const Drawable& d) {
   }
   canvas.line(p.at(fx.low, 0.0), p.at(fx.high, 0.0), kReferenceStroke);
   canvas.begin_clip(p.left, p.top, p.width, p.height);
-  draw_band(canvas, p, d.f, s_db, s_sigma, d.reliable);
+  draw_band(canvas, p, d.log_f, s_db, s_sigma, d.reliable);
   canvas.end_clip();
-  draw_curve(canvas, p, d.f, s_db, d.reliable);
+  draw_curve(canvas, p, d.log_f, s_db, d.reliable);
   if (const auto& m = result.margins.modulus) {
     const Reading peak = peak_sensitivity(*m);
     const double at_hz = modulus_frequency(*m).value;

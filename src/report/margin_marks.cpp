@@ -61,10 +61,12 @@ bool inside(const Panel& p, Point at) {
 
 Box pane_box(const Panel& p) { return {p.left + 1.0, p.top + 1.0, p.right() - 1.0, p.bottom() - 1.0}; }
 
-std::vector<Point> curve_points(const Panel& p, const std::vector<double>& f, const std::vector<double>& values) {
+std::vector<Point> curve_points(const Panel& p, const std::vector<double>& log_f, const std::vector<double>& values) {
   const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
   std::vector<Point> points;
-  for (std::size_t k = 0; k < f.size(); ++k) points.push_back(p.at(f[k], std::clamp(values[k], far_low, far_high)));
+  for (std::size_t k = 0; k < log_f.size(); ++k) {
+    points.push_back({p.x.at_log10(log_f[k]), p.y(std::clamp(values[k], far_low, far_high))});
+  }
   return svg::thin(points);
 }
 
@@ -102,8 +104,8 @@ void draw_crossover_marks(Canvas& canvas, const BodeGeometry& g, const std::vect
                           double canvas_width, double canvas_height) {
   if (g.f.empty()) return;
   TagPlacer placer(canvas_width, canvas_height);
-  placer.block_path(curve_points(g.mag, g.f, g.gain_db));
-  placer.block_path(curve_points(g.phase, g.f, g.phase_deg));
+  placer.block_path(curve_points(g.mag, g.log_f, g.gain_db));
+  placer.block_path(curve_points(g.phase, g.log_f, g.phase_deg));
   std::vector<std::pair<const CrossoverMark*, MarkPoints>> shown;
   for (const auto& m : marks) {
     if (!g.mag.x.contains(m.frequency.value)) continue;

@@ -35,6 +35,7 @@ struct BodeGeometry {
   const svg::Panel& mag;
   const svg::Panel& phase;
   const std::vector<double>& f;
+  const std::vector<double>& log_f;  // log10 of f
   const std::vector<double>& gain_db;
   const std::vector<double>& phase_deg;
 };

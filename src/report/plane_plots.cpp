@@ -4,9 +4,12 @@
 #include <cmath>
 #include <complex>
 #include <numbers>
+#include <string>
+#include <utility>
 
 #include "loopaudit/format.hpp"
 #include "loopaudit/units.hpp"
+#include "report/margin_marks.hpp"
 #include "report/plot_parts.hpp"
 #include "report/svg.hpp"
 
@@ -32,10 +35,14 @@ std::vector<Point> in_view(const Panel& p, const std::vector<Point>& points) {
   return out;
 }
 
-// Runs of reliable lines in the complex plane, broken at non-finite points.
+// Runs of reliable lines in the complex plane, broken at non-finite points:
+// across one or two noisy lines, or any number that leave a gap no eye would see.
 std::vector<Point> trusted_runs(const std::vector<Point>& points, const std::vector<bool>& reliable) {
   std::vector<Point> out;
-  const auto bridges = [](std::size_t a, std::size_t b) { return b - a - 1 <= kMostBridgedLines; };
+  const auto bridges = [&](std::size_t a, std::size_t b) {
+    return b - a - 1 <= kMostBridgedLines ||
+           std::hypot(points[b].x - points[a].x, points[b].y - points[a].y) <= kUnseenPixels;
+  };
   for (const auto& [first, last] : reliable_runs(reliable, bridges)) {
     for (std::size_t k = first; k <= last; ++k) {
       if (reliable[k]) out.push_back(points[k]);
@@ -45,18 +52,31 @@ std::vector<Point> trusted_runs(const std::vector<Point>& points, const std::vec
   return out;
 }
 
+bool shows(const Panel& p, const Point& q) {
+  return q.x > p.left - 2.0 && q.x < p.right() + 2.0 && q.y > p.top - 2.0 && q.y < p.bottom() + 2.0;
+}
+
+// A curve of runs thinned by screen distance; the runs it has no room for
+// (thousands of short ones) as dots in the same colour.
+void draw_plane_runs(Canvas& canvas, const Panel& p, const std::vector<Point>& runs, double spacing,
+                     const svg::Stroke& stroke) {
+  std::vector<Point> left_out, dots;
+  canvas.path(svg::thin_path(in_view(p, runs), spacing, svg::kMostPathPoints, &left_out), stroke);
+  for (const Point& q : left_out) {
+    if (shows(p, q)) dots.push_back(q);
+  }
+  canvas.dots(dots, {stroke.colour, stroke.width, "", stroke.opacity});
+}
+
 // L in the complex plane: the reliable lines solid, each noisy one a faint dot.
 void draw_plane_curve(Canvas& canvas, const Panel& p, const std::vector<Point>& points,
                       const std::vector<bool>& reliable) {
   std::vector<Point> noisy;
   for (std::size_t k = 0; k < points.size(); ++k) {
-    const Point& q = points[k];
-    if (!reliable[k] && q.x > p.left - 2.0 && q.x < p.right() + 2.0 && q.y > p.top - 2.0 && q.y < p.bottom() + 2.0) {
-      noisy.push_back(q);
-    }
+    if (!reliable[k] && shows(p, points[k])) noisy.push_back(points[k]);
   }
   canvas.dots(noisy, kNoiseDots);
-  canvas.path(svg::thin_path(in_view(p, trusted_runs(points, reliable))), kCurveStroke);
+  draw_plane_runs(canvas, p, trusted_runs(points, reliable), 0.75, kCurveStroke);
 }
 
 struct ComplexView {
@@ -71,7 +91,7 @@ Panel square_panel(const ComplexView& v, double top, double size) {
 // can be read off the complex plane.
 void decade_marks(Canvas& canvas, const Panel& p, const Drawable& d, const std::vector<Point>& points) {
   for (std::size_t k = 1; k < d.f.size(); ++k) {
-    const double decade = std::pow(10.0, std::floor(std::log10(d.f[k])));
+    const double decade = std::pow(10.0, std::floor(d.log_f[k]));
     if (!(d.f[k - 1] < decade && d.f[k] >= decade)) continue;
     const Point at = points[k];
     if (at.x < p.left || at.x > p.right() || at.y < p.top || at.y > p.bottom()) continue;
@@ -84,8 +104,8 @@ void decade_marks(Canvas& canvas, const Panel& p, const Drawable& d, const std::
 // -1 to it; gain margin: the stretch of the negative real axis from -1 to the
 // crossing.
 void plane_margins(Canvas& canvas, const Panel& p, const Margins& m) {
-  for (const auto& c : m.gain_crossovers) {
-    const double pm = phase_margin(c).value;
+  for (std::size_t k = 0; k < std::min(m.gain_crossovers.size(), kMostMarkedEach); ++k) {
+    const double pm = phase_margin(m.gain_crossovers[k]).value;
     const double angle = rad_from_deg(pm - 180.0);  // of L at the crossover
     const Point on_circle = p.at(std::cos(angle), std::sin(angle));
     canvas.line(p.at(0.0, 0.0), on_circle, {kMarker, 1.2});
@@ -98,8 +118,8 @@ void plane_margins(Canvas& canvas, const Panel& p, const Margins& m) {
     canvas.circle(on_circle, 3.5, {kMarker, 1.5}, "#ffffff");
     canvas.text({on_circle.x + 6.0, on_circle.y + 14.0}, "PM " + deg(pm), marker_text("start"));
   }
-  for (const auto& c : m.phase_crossovers) {
-    const double gm = gain_margin(c).value;
+  for (std::size_t k = 0; k < std::min(m.phase_crossovers.size(), kMostMarkedEach); ++k) {
+    const double gm = gain_margin(m.phase_crossovers[k]).value;
     const double re = -ratio_from_db(-gm);  // the crossing lies on the negative real axis
     if (re < -2.5) continue;
     const Point at = p.at(re, 0.0);
@@ -151,6 +171,13 @@ Plot nyquist_near(const AnalysisResult& result, const Drawable& d) {
                         : "no modulus margin",
               {11.0});
   if (d.f.empty()) empty_message(canvas, p, "no finite lines to draw");
+  for (const auto& [count, kind] : {std::pair{m.gain_crossovers.size(), "phase margins"},
+                                    std::pair{m.phase_crossovers.size(), "gain margins"}}) {
+    if (count > kMostMarkedEach) {
+      plot.notes.push_back("Only the first " + std::to_string(kMostMarkedEach) + " of " + std::to_string(count) + " " +
+                           kind + " are marked; the margins table lists them all.");
+    }
+  }
   plot.svg = canvas.finish();
   return plot;
 }
@@ -163,7 +190,7 @@ Plot nyquist_whole(const Drawable& d) {
   double reach = std::log10(2.0) * 1.3;
   const bool any_reliable = std::find(d.reliable.begin(), d.reliable.end(), true) != d.reliable.end();
   for (std::size_t k = 0; k < d.value.size(); ++k) {
-    if (d.reliable[k] || !any_reliable) reach = std::max(reach, std::abs(squash(d.value[k])) * 1.05);
+    if (d.reliable[k] || !any_reliable) reach = std::max(reach, std::log10(1.0 + std::abs(d.value[k])) * 1.05);
   }
   const Panel p = square_panel({-reach, reach, -reach, reach}, 44.0, 440.0);
   canvas.rect(p.left, p.top, p.width, p.height, {kInk, 1.0}, "none");
@@ -184,7 +211,7 @@ Plot nyquist_whole(const Drawable& d) {
     points.push_back(p.at(s.real(), s.imag()));
     mirror.push_back(p.at(s.real(), -s.imag()));
   }
-  canvas.path(svg::thin_path(in_view(p, trusted_runs(mirror, d.reliable)), 1.5), {kCurve, 1.0, "3 3", 0.5});
+  draw_plane_runs(canvas, p, trusted_runs(mirror, d.reliable), 1.5, {kCurve, 1.0, "3 3", 0.5});
   draw_plane_curve(canvas, p, points, d.reliable);
   canvas.end_clip();
   decade_marks(canvas, p, d, points);

@@ -61,6 +61,7 @@ inline Reading peak_sensitivity(const ModulusPoint& m) { return {m.peak_sensitiv
 // ---- the lines that can be drawn: positive frequency and a finite, non-zero value
 struct Drawable {
   std::vector<double> f;
+  std::vector<double> log_f;  // log10 of f, which the frequency axes map (svg::Scale::at_log10)
   std::vector<std::complex<double>> value;
   std::vector<double> sigma;      // relative; 0 when unknown
   std::vector<double> coherence;  // may be empty
@@ -79,6 +80,7 @@ Drawable drawable(const Response& r, double most_trusted_sigma);
 // lines always join; a run goes on across noisy lines when
 // `bridges(last reliable, next reliable)` allows.
 inline constexpr std::size_t kMostBridgedLines = 2;  // across this many noisy lines at most, unless unseen
+inline constexpr double kUnseenPixels = 1.5;         // a gap of at most this many px: across any number
 std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
     const std::vector<bool>& reliable, const std::function<bool(std::size_t, std::size_t)>& bridges);
 std::vector<double> unwrapped_phase_deg(const Drawable& d);
@@ -86,10 +88,11 @@ void place_phase_branch(std::vector<double>& phase, const Drawable& d, const Mar
 std::pair<double, double> value_range(const std::vector<double>& values, const std::vector<bool>& reliable);
 
 // ---- drawing against frequency
-void draw_band(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& f,
+// `log_f`: log10 of the lines' frequencies, on the panel's (logarithmic) x scale.
+void draw_band(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& log_f,
                const std::vector<double>& values, const std::vector<double>& half_width,
                const std::vector<bool>& reliable);
-void draw_curve(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& f,
+void draw_curve(svg::Canvas& canvas, const svg::Panel& p, const std::vector<double>& log_f,
                 const std::vector<double>& values, const std::vector<bool>& reliable);
 svg::Scale frequency_scale(const std::vector<double>& f);
 std::vector<svg::Tick> frequency_ticks(const svg::Scale& fx);

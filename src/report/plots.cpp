@@ -1,6 +1,7 @@
 #include "loopaudit/report/plots.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <complex>
 #include <functional>
@@ -56,7 +57,6 @@ std::string interval_suffix(const std::optional<Interval>& i, std::string (*form
 namespace {
 constexpr std::size_t kSigmaMedianHalfWidth = 2;  // the line and two on each side
 constexpr double kMostBridgedPixels = 6.0;
-constexpr double kUnseenPixels = 1.5;
 constexpr std::size_t kMostDottedLines = 80;
 }  // namespace
 
@@ -69,10 +69,12 @@ std::vector<bool> reliable_lines(const std::vector<double>& sigma, double most_s
   for (std::size_t k = 0; k < sigma.size(); ++k) {
     const std::size_t first = k > kSigmaMedianHalfWidth ? k - kSigmaMedianHalfWidth : 0;
     const std::size_t end = std::min(sigma.size(), k + kSigmaMedianHalfWidth + 1);
-    std::vector<double> around(sigma.begin() + static_cast<std::ptrdiff_t>(first),
-                               sigma.begin() + static_cast<std::ptrdiff_t>(end));
-    std::nth_element(around.begin(), around.begin() + static_cast<std::ptrdiff_t>(around.size() / 2), around.end());
-    out.push_back(!(sigma[k] > most_sigma) && !(around[around.size() / 2] > most_sigma));
+    std::array<double, 2 * kSigmaMedianHalfWidth + 1> around{};
+    std::copy(sigma.begin() + static_cast<std::ptrdiff_t>(first), sigma.begin() + static_cast<std::ptrdiff_t>(end),
+              around.begin());
+    const auto middle = around.begin() + static_cast<std::ptrdiff_t>((end - first) / 2);
+    std::nth_element(around.begin(), middle, around.begin() + static_cast<std::ptrdiff_t>(end - first));
+    out.push_back(!(sigma[k] > most_sigma) && !(*middle > most_sigma));
   }
   return out;
 }
@@ -88,6 +90,7 @@ Drawable drawable(const Response& r, double most_trusted_sigma) {
       continue;
     }
     d.f.push_back(r.frequency_hz[k]);
+    d.log_f.push_back(std::log10(r.frequency_hz[k]));
     d.value.push_back(v);
     const double s = k < r.relative_sigma.size() ? r.relative_sigma[k] : 0.0;
     d.sigma.push_back(std::isfinite(s) ? s : 0.0);
@@ -151,9 +154,14 @@ std::pair<double, double> value_range(const std::vector<double>& values, const s
   for (std::size_t k = 0; k < values.size(); ++k) {
     if (use_all || reliable[k]) kept.push_back(values[k]);
   }
-  std::sort(kept.begin(), kept.end());
   const std::size_t trim = use_all && kept.size() >= 200 ? kept.size() / 200 : 0;
-  return {kept[trim], kept[kept.size() - 1 - trim]};
+  const auto low = kept.begin() + static_cast<std::ptrdiff_t>(trim);
+  const auto high = kept.end() - 1 - static_cast<std::ptrdiff_t>(trim);
+  // In linear time (plots of many lines call this often): the low end, then the high end among the rest.
+  std::nth_element(kept.begin(), low, kept.end());
+  const double low_value = *low;
+  std::nth_element(low, high, kept.end());
+  return {low_value, *high};
 }
 
 std::vector<std::pair<std::size_t, std::size_t>> reliable_runs(
@@ -176,26 +184,27 @@ namespace {
 // Against frequency, a run goes on across the noisy lines reliable_runs
 // allows only while they span at most kMostBridgedPixels, and across any
 // number of them that span at most kUnseenPixels (a gap no eye would see).
-std::vector<std::pair<std::size_t, std::size_t>> frequency_runs(const Panel& p, const std::vector<double>& f,
+std::vector<std::pair<std::size_t, std::size_t>> frequency_runs(const Panel& p, const std::vector<double>& log_f,
                                                                 const std::vector<bool>& reliable) {
   return reliable_runs(reliable, [&](std::size_t a, std::size_t b) {
-    const double gap = p.x(f[b]) - p.x(f[a]);
+    const double gap = p.x.at_log10(log_f[b]) - p.x.at_log10(log_f[a]);
     return gap <= kUnseenPixels || (b - a - 1 <= kMostBridgedLines && gap <= kMostBridgedPixels);
   });
 }
 }  // namespace
 
 // The interval band of a curve over the reliable lines, one area a run.
-void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
+void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& log_f, const std::vector<double>& values,
                const std::vector<double>& half_width, const std::vector<bool>& reliable) {
   const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
   std::vector<Point> bands;
-  for (const auto& [first, last] : frequency_runs(p, f, reliable)) {
+  for (const auto& [first, last] : frequency_runs(p, log_f, reliable)) {
     std::vector<Point> upper, lower;
     for (std::size_t k = first; k <= last; ++k) {
       if (!reliable[k] || !(half_width[k] > 0.0)) continue;
-      upper.push_back(p.at(f[k], std::clamp(values[k] + half_width[k], far_low, far_high)));
-      lower.push_back(p.at(f[k], std::clamp(values[k] - half_width[k], far_low, far_high)));
+      const double x = p.x.at_log10(log_f[k]);
+      upper.push_back({x, p.y(std::clamp(values[k] + half_width[k], far_low, far_high))});
+      lower.push_back({x, p.y(std::clamp(values[k] - half_width[k], far_low, far_high))});
     }
     if (upper.size() < 2) continue;
     const auto high_side = svg::thin(upper);
@@ -209,26 +218,31 @@ void draw_band(Canvas& canvas, const Panel& p, const std::vector<double>& f, con
 
 // The curve: the reliable lines solid (through a noisy line or two, broken
 // where a noisy stretch is longer or wide), each noisy line a faint dot.
-void draw_curve(Canvas& canvas, const Panel& p, const std::vector<double>& f, const std::vector<double>& values,
+void draw_curve(Canvas& canvas, const Panel& p, const std::vector<double>& log_f, const std::vector<double>& values,
                 const std::vector<bool>& reliable) {
   const double far_low = p.y.low - (p.y.high - p.y.low), far_high = p.y.high + (p.y.high - p.y.low);
-  const auto at = [&](std::size_t k) { return p.at(f[k], std::clamp(values[k], far_low, far_high)); };
+  const auto at = [&](std::size_t k) {
+    return Point{p.x.at_log10(log_f[k]), p.y(std::clamp(values[k], far_low, far_high))};
+  };
   std::vector<Point> trusted, noisy;
-  for (const auto& [first, last] : frequency_runs(p, f, reliable)) {
+  for (const auto& [first, last] : frequency_runs(p, log_f, reliable)) {
     for (std::size_t k = first; k <= last; ++k) {
       if (reliable[k]) trusted.push_back(at(k));
     }
     trusted.push_back({NAN, NAN});
   }
-  const bool few = f.size() <= kMostDottedLines;
-  for (std::size_t k = 0; k < f.size() && !few; ++k) {
-    if (!reliable[k]) noisy.push_back(at(k));
+  const bool few = log_f.size() <= kMostDottedLines;
+  const auto shows = [&](const Point& q) { return q.y >= p.top - 1.0 && q.y <= p.bottom() + 1.0; };
+  for (std::size_t k = 0; k < log_f.size() && !few; ++k) {
+    if (reliable[k]) continue;
+    const Point q = at(k);
+    if (shows(q)) noisy.push_back(q);
   }
   canvas.begin_clip(p.left, p.top, p.width, p.height);
   canvas.dots(noisy, kNoiseDots);
   canvas.path(svg::thin(trusted), kCurveStroke);
   // Few lines (a stepped sine): a dot on each, so that the measured points show; hollow and faint when noisy.
-  for (std::size_t k = 0; k < f.size() && few; ++k) {
+  for (std::size_t k = 0; k < log_f.size() && few; ++k) {
     canvas.circle(at(k), 2.2, {kCurve, 1.0, "", reliable[k] ? 1.0 : 0.5}, reliable[k] ? kCurve : kPaper);
   }
   canvas.end_clip();

@@ -1,10 +1,12 @@
 #include "report/svg.hpp"
 
 #include <algorithm>
+#include <charconv>
 #include <cmath>
 #include <cstdio>
-#include <map>
-#include <set>
+#include <cstdint>
+#include <numeric>
+#include <unordered_set>
 #include <utility>
 
 namespace loopaudit::svg {
@@ -15,8 +17,11 @@ const char* kGrid = "#e2e5e9";
 const char* kMinorGrid = "#f1f3f5";
 const char* kInk = "#222831";
 
+// As printf's "%.1f" (the same digits), but several times faster: plots write many of them.
 std::string number(double v) {
   char text[32];
+  const auto [end, error] = std::to_chars(text, text + sizeof text, v, std::chars_format::fixed, 1);
+  if (error == std::errc{}) return std::string(text, end);
   std::snprintf(text, sizeof text, "%.1f", v);
   return text;
 }
@@ -47,10 +52,19 @@ double nice_step(double span, int count, double unit) {
 }  // namespace
 
 double Scale::operator()(double value) const {
-  const double a = log ? std::log10(low) : low;
-  const double b = log ? std::log10(high) : high;
-  const double v = log ? std::log10(value) : value;
-  return from_px + (v - a) / (b - a) * (to_px - from_px);
+  if (!log) return from_px + (value - low) / (high - low) * (to_px - from_px);
+  return at_log10(std::log10(value));
+}
+
+double Scale::at_log10(double log10_value) const {
+  if (!logs_taken_ || logs_for_low_ != low || logs_for_high_ != high) {
+    logs_for_low_ = low;
+    logs_for_high_ = high;
+    log_low_ = std::log10(low);
+    log_high_ = std::log10(high);
+    logs_taken_ = true;
+  }
+  return from_px + (log10_value - log_low_) / (log_high_ - log_low_) * (to_px - from_px);
 }
 
 bool Scale::contains(double value) const {
@@ -152,13 +166,33 @@ void Canvas::path(const std::vector<Point>& points, const Stroke& stroke) {
   body_ << "<path fill=\"none\" stroke-linejoin=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
 }
 
-void Canvas::dots(const std::vector<Point>& points, const Stroke& stroke) {
-  std::set<std::pair<long, long>> taken;
-  std::string d;
+namespace {
+constexpr double kOffEveryCanvas = 1e6;  // px: a point this far out is drawn nowhere
+
+// The first finite point in each cell of `cell` px (centred on multiples of it), in their order.
+std::vector<Point> one_a_cell(const std::vector<Point>& points, double cell) {
+  std::unordered_set<std::uint64_t> taken;
+  std::vector<Point> out;
   for (const Point& p : points) {
-    if (!finite(p) || !taken.insert({std::lround(p.x), std::lround(p.y)}).second) continue;
-    d += 'M' + number(p.x) + ',' + number(p.y) + "h0";
+    if (!finite(p) || std::abs(p.x) > kOffEveryCanvas || std::abs(p.y) > kOffEveryCanvas) continue;
+    const auto column = static_cast<std::uint32_t>(static_cast<std::int32_t>(std::lround(p.x / cell)));
+    const auto row = static_cast<std::uint32_t>(static_cast<std::int32_t>(std::lround(p.y / cell)));
+    if (taken.insert(static_cast<std::uint64_t>(column) << 32 | row).second) out.push_back(p);
   }
+  return out;
+}
+}  // namespace
+
+void Canvas::dots(const std::vector<Point>& points, const Stroke& stroke, std::size_t most_dots) {
+  double cell = 1.0;
+  std::vector<Point> kept = one_a_cell(points, cell);
+  while (kept.size() > most_dots && cell < kOffEveryCanvas) {
+    cell *= 1.5;
+    kept = one_a_cell(points, cell);
+  }
+  kept.resize(std::min(kept.size(), most_dots));  // only when most_dots is below the few cells left
+  std::string d;
+  for (const Point& p : kept) d += 'M' + number(p.x) + ',' + number(p.y) + "h0";
   if (d.empty()) return;
   body_ << "<path fill=\"none\" stroke-linecap=\"round\"" << stroke_attributes(stroke) << " d=\"" << d << "\"/>\n";
 }
@@ -285,6 +319,10 @@ std::vector<Point> thin(const std::vector<Point>& points) {
 
 namespace {
 std::vector<Point> spaced(const std::vector<Point>& points, double spacing) {
+  const double spacing_squared = spacing * spacing;  // squares: thin_path calls this often, over every line
+  const auto far_enough = [&](const Point& p, const Point& q) {
+    return (p.x - q.x) * (p.x - q.x) + (p.y - q.y) * (p.y - q.y) >= spacing_squared;
+  };
   std::vector<Point> out;
   for (std::size_t k = 0; k < points.size(); ++k) {
     const Point& p = points[k];
@@ -293,8 +331,7 @@ std::vector<Point> spaced(const std::vector<Point>& points, double spacing) {
       continue;
     }
     const bool end = k + 1 == points.size() || !finite(points[k + 1]);
-    if (out.empty() || !finite(out.back()) || end ||
-        std::hypot(p.x - out.back().x, p.y - out.back().y) >= spacing) {
+    if (out.empty() || !finite(out.back()) || end || far_enough(p, out.back())) {
       out.push_back(p);
     }
   }
@@ -302,14 +339,85 @@ std::vector<Point> spaced(const std::vector<Point>& points, double spacing) {
 }
 }  // namespace
 
-std::vector<Point> thin_path(const std::vector<Point>& points, double spacing, std::size_t most_points) {
-  std::vector<Point> out = spaced(points, spacing);
-  // Breaks and run ends always stay, so the spacing grows only as far as the view is wide.
-  while (out.size() > most_points && spacing < 2000.0) {
-    spacing *= 1.5;
-    out = spaced(points, spacing);
+namespace {
+// Runs of finite points as [first, end) index ranges; those of two or more
+// points when `drawn_only` (what Canvas::path writes).
+std::vector<std::pair<std::size_t, std::size_t>> runs_of(const std::vector<Point>& points, bool drawn_only) {
+  std::vector<std::pair<std::size_t, std::size_t>> runs;
+  std::size_t k = 0;
+  while (k < points.size()) {
+    if (!finite(points[k])) {
+      ++k;
+      continue;
+    }
+    const std::size_t first = k;
+    while (k < points.size() && finite(points[k])) ++k;
+    if (!drawn_only || k - first >= 2) runs.push_back({first, k});
+  }
+  return runs;
+}
+
+std::size_t drawn_points(const std::vector<Point>& points) {
+  std::size_t n = 0;
+  for (const auto& [first, end] : runs_of(points, true)) n += end - first;
+  return n;
+}
+
+// At most `most_runs` runs of two or more points: the longest on screen, in
+// their order; the points of the others go to `left_out`.
+std::vector<Point> longest_runs(const std::vector<Point>& points, std::size_t most_runs, std::vector<Point>* left_out) {
+  const auto runs = runs_of(points, true);
+  if (runs.size() <= most_runs) return points;
+  std::vector<double> length(runs.size(), 0.0);
+  for (std::size_t r = 0; r < runs.size(); ++r) {
+    for (std::size_t k = runs[r].first + 1; k < runs[r].second; ++k) {
+      length[r] += std::hypot(points[k].x - points[k - 1].x, points[k].y - points[k - 1].y);
+    }
+  }
+  std::vector<std::size_t> order(runs.size());
+  std::iota(order.begin(), order.end(), 0);
+  std::stable_sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return length[a] > length[b]; });
+  std::vector<bool> kept(runs.size(), false);
+  for (std::size_t i = 0; i < most_runs; ++i) kept[order[i]] = true;
+  std::vector<Point> out;
+  for (std::size_t r = 0; r < runs.size(); ++r) {
+    if (!kept[r] && left_out == nullptr) continue;
+    auto& to = kept[r] ? out : *left_out;
+    to.insert(to.end(), points.begin() + static_cast<std::ptrdiff_t>(runs[r].first),
+              points.begin() + static_cast<std::ptrdiff_t>(runs[r].second));
+    if (kept[r]) out.push_back({NAN, NAN});
   }
   return out;
+}
+
+// The first `most_points` drawn points, for curves the widest spacing cannot
+// thin (points far outside the view, each far from the last).
+std::vector<Point> first_points(const std::vector<Point>& points, std::size_t most_points) {
+  std::vector<Point> out;
+  std::size_t used = 0;
+  for (const auto& [first, end] : runs_of(points, true)) {
+    const std::size_t take = std::min(end - first, most_points - used);
+    if (take < 2) break;
+    out.insert(out.end(), points.begin() + static_cast<std::ptrdiff_t>(first),
+               points.begin() + static_cast<std::ptrdiff_t>(first + take));
+    out.push_back({NAN, NAN});
+    used += take;
+  }
+  return out;
+}
+}  // namespace
+
+std::vector<Point> thin_path(const std::vector<Point>& points, double spacing, std::size_t most_points,
+                             std::vector<Point>* left_out) {
+  // Each run keeps its ends whatever the spacing: at most a quarter of the
+  // budget in runs leaves room for them and for the points between.
+  const std::vector<Point> runs = longest_runs(points, std::max<std::size_t>(most_points / 4, 1), left_out);
+  std::vector<Point> out = spaced(runs, spacing);
+  while (drawn_points(out) > most_points && spacing < 2000.0) {
+    spacing *= 1.5;
+    out = spaced(runs, spacing);
+  }
+  return drawn_points(out) > most_points ? first_points(out, most_points) : out;
 }
 
 }  // namespace loopaudit::svg

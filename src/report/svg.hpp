@@ -3,6 +3,7 @@
 // pixels with y downward; Scale maps data to pixels.
 #pragma once
 
+#include <cstddef>
 #include <functional>
 #include <sstream>
 #include <string>
@@ -22,7 +23,15 @@ struct Scale {
   double to_px = 1.0;
   bool log = false;
   double operator()(double value) const;
+  // A log scale's pixel for the value whose log10 is given: lines mapped
+  // many times take their logarithms once.
+  double at_log10(double log10_value) const;
   bool contains(double value) const;
+
+  // The logarithms of the ends, taken once for the range they were taken
+  // for: a plot maps every line through its scales, several times.
+  mutable double logs_for_low_ = 0.0, logs_for_high_ = 0.0, log_low_ = 0.0, log_high_ = 0.0;
+  mutable bool logs_taken_ = false;
 };
 
 struct Tick {
@@ -59,6 +68,11 @@ struct Text {
 
 std::string escape(const std::string& text);
 
+// The most dots one call of Canvas::dots writes (about 14 bytes each).
+inline constexpr std::size_t kMostDots = 10000;
+// The most points thin_path keeps (about 12 bytes each).
+inline constexpr std::size_t kMostPathPoints = 3000;
+
 // Every id the canvas writes (clip paths) begins with `id_prefix` and a
 // hyphen: SVGs set inline in one page share one id space, so each of them
 // needs a prefix of its own (the plots use their file stem).
@@ -70,8 +84,10 @@ class Canvas {
   // One path element, broken at non-finite points into runs; a run of fewer than two points is left out.
   void path(const std::vector<Point>& points, const Stroke& stroke);
   // A round dot of diameter `stroke.width` at each finite point, at most one
-  // a pixel (one path: overlapping dots do not darken each other).
-  void dots(const std::vector<Point>& points, const Stroke& stroke);
+  // a pixel (one path: overlapping dots do not darken each other); where more
+  // than `most_dots` pixels would hold one, one a cell of 1.5, 2.25, ... px,
+  // so that a cloud of any number of lines costs at most `most_dots` dots.
+  void dots(const std::vector<Point>& points, const Stroke& stroke, std::size_t most_dots = kMostDots);
   void polygon(const std::vector<Point>& points, const std::string& fill, double opacity);
   // Filled areas, one path element: the points of each, broken at non-finite
   // points (the areas should wind the same way, so that overlaps stay filled).
@@ -118,7 +134,12 @@ std::vector<Point> thin(const std::vector<Point>& points);
 // For curves that are not functions of x (the complex plane): drops each
 // point closer than `spacing` px to the last one kept; keeps the ends and
 // the breaks at non-finite points. Widens the spacing until at most
-// `most_points` remain, which bounds the file whatever the line count.
-std::vector<Point> thin_path(const std::vector<Point>& points, double spacing = 0.75, std::size_t most_points = 3000);
+// `most_points` remain in runs of two or more (what Canvas::path draws).
+// Each run keeps its ends at any spacing, so of more than `most_points` / 4
+// runs (thousands of short ones between breaks) it keeps that many, the
+// longest on screen, and puts the points of the others in `left_out` (when
+// given) to be drawn as dots; so the file is bounded whatever the line count.
+std::vector<Point> thin_path(const std::vector<Point>& points, double spacing = 0.75,
+                             std::size_t most_points = kMostPathPoints, std::vector<Point>* left_out = nullptr);
 
 }  // namespace loopaudit::svg

@@ -7,12 +7,17 @@
 // renders, with the reason in its middle.
 #pragma once
 
+#include <cstddef>
 #include <string>
 #include <vector>
 
 #include "loopaudit/pipeline/result.hpp"
 
 namespace loopaudit {
+
+// Every plot's SVG document is shorter than this, whatever the number of
+// lines: what is drawn is bounded by the plot's pixels (see draw_plots).
+inline constexpr std::size_t kMostPlotBytes = 1000000;
 
 struct Plot {
   std::string name;                // file stem: bode, nyquist-near, nyquist-whole, coherence, sensitivity

@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cmath>
 #include <complex>
+#include <cstdint>
 #include <iterator>
 #include <map>
 #include <numbers>
@@ -58,6 +59,7 @@ struct ValueAxis {
   double low = 0.0, high = 0.0;
   double value_a = 0.0, px_a = 0.0, value_b = 0.0, px_b = 0.0;
   double value(double y) const { return value_a + (y - px_a) / (px_b - px_a) * (value_b - value_a); }
+  double px(double v) const { return px_a + (v - value_a) / (value_b - value_a) * (px_b - px_a); }
   double px_per_unit() const { return std::abs(px_b - px_a) / std::abs(value_b - value_a); }
 };
 
@@ -92,6 +94,59 @@ std::vector<std::vector<svg::Point>> drawn(const std::string& svg, const std::st
 }
 
 constexpr double kMagTop = 44.0, kMagBottom = 274.0, kPhaseTop = 300.0, kPhaseBottom = 530.0;  // bode_plot.cpp
+
+// 131072 lines (as --segment 262144 gives) on a log grid from 0.1 Hz to 10
+// kHz: L = K/s w0^2/(s^2 + s w0/Q + w0^2) with its gain crossover at 20 Hz
+// and a resonance at 1 kHz, Q = 30, whose peak (-4.4 dB, 30 dB above the
+// curve beside it) is under 2 px wide. `noisy_share` of the lines (picked at
+// random) are too noisy to trust, and scattered: gain +-40 dB (one sigma),
+// phase anywhere.
+constexpr std::size_t kDenseLines = 131072;
+constexpr double kResonanceHz = 1000.0;
+
+std::uint64_t splitmix(std::uint64_t& state) {
+  std::uint64_t z = (state += 0x9E3779B97F4A7C15ULL);
+  z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ULL;
+  z = (z ^ (z >> 27)) * 0x94D049BB133111EBULL;
+  return z ^ (z >> 31);
+}
+double uniform(std::uint64_t& state) { return static_cast<double>(splitmix(state) >> 11) * 0x1.0p-53; }
+
+Response dense_lines(double noisy_share) {
+  const double w0 = 2.0 * std::numbers::pi * kResonanceHz, q = 30.0, k = 2.0 * std::numbers::pi * 20.0;
+  std::uint64_t state = 11;
+  Response r;
+  for (std::size_t n = 0; n < kDenseLines; ++n) {
+    const double f = 0.1 * std::pow(1e5, static_cast<double>(n) / (kDenseLines - 1));
+    const std::complex<double> s{0.0, 2.0 * std::numbers::pi * f};
+    std::complex<double> value = k / s * w0 * w0 / (s * s + s * w0 / q + w0 * w0);
+    double sigma = kQuiet;
+    if (uniform(state) < noisy_share) {
+      sigma = kNoisy + uniform(state);
+      const double radius = std::sqrt(-2.0 * std::log(1.0 - uniform(state)));
+      const double normal = radius * std::cos(2.0 * std::numbers::pi * uniform(state));  // Box-Muller
+      value = std::polar(std::abs(value) * std::pow(10.0, 2.0 * normal), 2.0 * std::numbers::pi * uniform(state));
+    }
+    r.frequency_hz.push_back(f);
+    r.value.push_back(value);
+    r.relative_sigma.push_back(sigma);
+  }
+  return r;
+}
+
+// The smallest distance from `at` to the polylines.
+double distance_to(const std::vector<std::vector<svg::Point>>& runs, svg::Point at) {
+  double nearest = 1e9;
+  for (const auto& run : runs) {
+    for (std::size_t k = 0; k + 1 < run.size(); ++k) {
+      const svg::Point a = run[k], b = run[k + 1];
+      const double dx = b.x - a.x, dy = b.y - a.y, length2 = dx * dx + dy * dy;
+      const double t = length2 > 0.0 ? std::clamp(((at.x - a.x) * dx + (at.y - a.y) * dy) / length2, 0.0, 1.0) : 0.0;
+      nearest = std::min(nearest, std::hypot(a.x + t * dx - at.x, a.y + t * dy - at.y));
+    }
+  }
+  return nearest;
+}
 
 }  // namespace
 
@@ -193,7 +248,18 @@ TEST_CASE("the phase branch is continuous and noisy lines sit by the trusted cur
   }
   REQUIRE(dot_paths.size() == 2);
   const auto dots = subpaths(dot_paths[1].get("d"));
-  CHECK(dots.size() > 50);  // the first line and most of the top 60 (some share a pixel)
+  // A dot for each noisy line inside the pane, up to those that share a
+  // pixel (the top lines are 0.4 px apart); none for one outside it, which
+  // the clip would hide.
+  std::vector<double> drawn_phase = phase;
+  plotting::place_phase_branch(drawn_phase, d, result_of(lines).margins);
+  std::size_t inside = 0;
+  for (std::size_t k = 0; k < d.f.size(); ++k) {
+    inside += !d.reliable[k] && axis.low <= drawn_phase[k] && drawn_phase[k] <= axis.high;
+  }
+  INFO(inside << " noisy lines inside the phase pane");
+  CHECK(dots.size() <= inside);
+  CHECK(dots.size() >= inside * 9 / 10);
   for (const auto& dot : dots) {
     const auto nearest = std::min_element(solid.begin(), solid.end(), [&](const svg::Point& a, const svg::Point& b) {
       return std::abs(a.x - dot.front().x) < std::abs(b.x - dot.front().x);
@@ -231,4 +297,65 @@ TEST_CASE("the ids of the plots are unique in a page and each reference finds it
     CHECK(n == 1);
   }
   CHECK(page_ids.size() > 6 * 2);  // the figures' ids and each plot's clip paths
+}
+
+TEST_CASE("plots of 131072 lines stay within their size limit whatever the noise", "[report]") {
+  // All noisy, and a random mixture (most crossings there are noise, each
+  // with its marks): the faint dots, the runs of the solid curve and the
+  // marks must be bounded by the plots' pixels, not by the line count.
+  for (const double noisy_share : {1.0, 0.5}) {
+    AnalysisResult r = result_of(dense_lines(noisy_share));
+    r.loop.convention = Convention::kSeriesInjection;  // all six plots
+    const auto plots = draw_plots(r);
+    REQUIRE(plots.size() == 6);
+    for (const auto& p : plots) {
+      INFO(p.name << " with " << noisy_share << " of the lines noisy: " << p.svg.size() << " bytes");
+      CHECK(p.svg.size() < kMostPlotBytes);
+    }
+  }
+}
+
+TEST_CASE("plots of 131072 lines keep the resonance peak and the crossover", "[report]") {
+  const Response lines = dense_lines(0.0);
+  const AnalysisResult r = result_of(lines);
+  REQUIRE(r.margins.gain_crossovers.size() == 1);
+  const auto plots = draw_plots(r);
+  const std::string& bode = plots[0].svg;
+  CHECK(bode.size() < kMostPlotBytes);
+  const ValueAxis mag = value_axis(bode, kMagTop, kMagBottom);
+  const auto solid = drawn(bode, plotting::kCurve, "1.6", kMagTop, kMagBottom);
+  const svg::Scale fx = plotting::frequency_scale(lines.frequency_hz);
+  // The peak's pixel column holds the peak's own height (to the 0.1 px the file writes).
+  double peak_db = -1e9;
+  for (std::size_t k = 0; k < lines.size(); ++k) {
+    if (std::abs(lines.frequency_hz[k] / kResonanceHz - 1.0) < 0.05) {
+      peak_db = std::max(peak_db, 20.0 * std::log10(std::abs(lines.value[k])));
+    }
+  }
+  const double peak_x = fx(kResonanceHz);
+  double top_y = 1e9;
+  for (const auto& run : solid) {
+    for (const auto& p : run) {
+      if (std::abs(p.x - peak_x) <= 2.0) top_y = std::min(top_y, p.y);
+    }
+  }
+  CHECK(mag.value(top_y) == Approx(peak_db).margin(0.15 / mag.px_per_unit()));
+  // The curve meets 0 dB at the gain crossover, on the Bode plot and on the unit circle.
+  const auto& crossover = r.margins.gain_crossovers.front();
+  CHECK(distance_to(solid, {fx(crossover.frequency_hz.value), mag.px(0.0)}) < kPixel);
+  const std::string& near = plots[1].svg;
+  std::vector<std::vector<svg::Point>> plane;
+  for (const auto& p : elements(near, "path")) {
+    if (p.get("stroke") != plotting::kCurve || p.get("stroke-width") != "1.6") continue;
+    for (auto& run : subpaths(p.get("d"))) plane.push_back(run);
+  }
+  // The phase-margin mark: the hollow circle on the unit circle.
+  std::vector<svg::Point> pm_marks;
+  for (const auto& c : elements(near, "circle")) {
+    if (c.get("stroke") == plotting::kMarker && c.get("fill") == "#ffffff") {
+      pm_marks.push_back({c.number("cx"), c.number("cy")});
+    }
+  }
+  REQUIRE(pm_marks.size() == 1);
+  CHECK(distance_to(plane, pm_marks.front()) < kPixel);
 }

@@ -1,6 +1,7 @@
 // The report's pieces: the settings hash, the axis ticks, the thinning of
 // curves, and plots of awkward responses.
 #include <catch2/catch.hpp>
+#include <algorithm>
 #include <cmath>
 #include <limits>
 #include <map>
@@ -32,6 +33,20 @@ std::size_t count(const std::string& text, const std::string& what) {
   std::size_t n = 0;
   for (auto at = text.find(what); at != std::string::npos; at = text.find(what, at + 1)) ++n;
   return n;
+}
+
+// The points Canvas::path draws: those in runs of two or more.
+std::size_t drawn_points(const std::vector<svg::Point>& points) {
+  std::size_t n = 0, run = 0;
+  for (const auto& p : points) {
+    if (std::isfinite(p.x) && std::isfinite(p.y)) {
+      ++run;
+      continue;
+    }
+    n += run >= 2 ? run : 0;
+    run = 0;
+  }
+  return n + (run >= 2 ? run : 0);
 }
 
 // A text's box, from its size and length: DejaVu Sans averages under 0.62
@@ -243,12 +258,53 @@ TEST_CASE("complex-plane thinning keeps within its point budget even between man
   }
   const auto thin = svg::thin_path(scribble, 0.75, 3000);
   CHECK(thin.size() <= 3000 + 3 * 1000);
+  CHECK(drawn_points(thin) <= 3000);
   std::vector<svg::Point> smooth;
   for (int i = 0; i < 50000; ++i) smooth.push_back({i * 0.01, 100.0 * std::sin(i * 1e-4)});
   const auto thin_smooth = svg::thin_path(smooth, 0.75, 3000);
   CHECK(thin_smooth.size() <= 3000);
   CHECK(thin_smooth.front().x == smooth.front().x);
   CHECK(thin_smooth.back().x == smooth.back().x);
+}
+
+TEST_CASE("complex-plane thinning keeps the longest runs when short ones are too many and hands back the rest",
+          "[report]") {
+  // 20000 runs of three points 0.9 px apart (a trusted line among noisy ones,
+  // over and over) and one long run: the runs' ends alone are over the budget.
+  std::vector<svg::Point> runs;
+  for (int r = 0; r < 20000; ++r) {
+    for (int i = 0; i < 3; ++i) runs.push_back({10.0 + (r % 400) + 0.9 * i, 10.0 + (r / 400) * 4.0});
+    runs.push_back({NAN, NAN});
+  }
+  for (int i = 0; i < 400; ++i) runs.push_back({i * 1.0, 300.0 + 50.0 * std::sin(i * 0.05)});
+  std::vector<svg::Point> left_out;
+  const auto thin = svg::thin_path(runs, 0.75, 3000, &left_out);
+  CHECK(drawn_points(thin) <= 3000);
+  // The long run is drawn, end to end; every run not drawn is handed back whole.
+  CHECK(std::any_of(thin.begin(), thin.end(), [](const svg::Point& p) { return p.y > 299.0 && p.x == 0.0; }));
+  CHECK(std::any_of(thin.begin(), thin.end(), [](const svg::Point& p) { return p.y > 200.0 && p.x == 399.0; }));
+  std::size_t drawn_runs = 0;
+  for (std::size_t k = 1; k < thin.size(); ++k) drawn_runs += std::isfinite(thin[k].x) && !std::isfinite(thin[k - 1].x);
+  drawn_runs += std::isfinite(thin.front().x);
+  CHECK(left_out.size() == 3 * (20001 - drawn_runs));
+}
+
+TEST_CASE("faint dots stay one a pixel and at most their budget in a dense cloud", "[report]") {
+  // A cloud of 200000 points over a 640 x 230 px pane: one a pixel would be
+  // 147200 dots; the cells widen until at most kMostDots remain.
+  std::vector<svg::Point> cloud;
+  for (int i = 0; i < 200000; ++i) {
+    cloud.push_back({78.0 + std::fmod(i * 0.6180339887, 640.0), 44.0 + std::fmod(i * 0.7548776662, 230.0)});
+  }
+  svg::Canvas dense(760.0, 330.0, "cloud", "cloud");
+  dense.dots(cloud, {"#0b5d7a", 1.8, "", 0.3});
+  const auto dense_dots = count(dense.finish(), "h0");
+  CHECK(dense_dots <= svg::kMostDots);
+  CHECK(dense_dots > svg::kMostDots / 3);  // the cell widens by 1.5 at a time, so the cloud keeps a fair share
+  // Few points: one a pixel, as before (two points in one pixel give one dot).
+  svg::Canvas sparse(760.0, 330.0, "few", "few");
+  sparse.dots({{100.2, 50.2}, {100.4, 50.3}, {120.0, 50.0}, {NAN, 1.0}}, {"#0b5d7a", 1.8, "", 0.3});
+  CHECK(count(sparse.finish(), "h0") == 2);
 }
 
 TEST_CASE("a series-injection result also shows the ratio as measured and labels it", "[report]") {
