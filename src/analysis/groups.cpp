@@ -182,7 +182,8 @@ std::vector<LineRun> hidden_runs(const LineTable& table, const Curve& curve, Cro
   constexpr double kNearSigmas = 2.0;  // as clear_side: closer than this, the line shows no side
   std::vector<bool> in_group(table.size(), false);
   for (const Group& g : groups) {
-    for (std::size_t k = g.members.front().bracket.index; k <= g.members.back().bracket.index + 1; ++k) in_group[k] = true;
+    for (std::size_t k = g.members.front().bracket.index; k <= g.members.back().bracket.index + 1; ++k)
+      in_group[k] = true;
   }
   // Within its noise of the level: for the phase, two sigmas from -180 deg
   // (mod 360); for the gain, two sigmas of dB below 0 dB, or above it by
@@ -194,7 +195,8 @@ std::vector<LineRun> hidden_runs(const LineTable& table, const Curve& curve, Cro
     if (level == CrossingLevel::kPhase) {
       return std::abs(v + 180.0 - 360.0 * std::round((v + 180.0) / 360.0)) <= kNearSigmas * curve.sigmas[k];
     }
-    return v - kNearSigmas * curve.sigmas[k] <= 0.0 && v + db_from_ratio(1.0 + kNearSigmas * table.relative_sigma[k]) >= 0.0;
+    return v - kNearSigmas * curve.sigmas[k] <= 0.0 &&
+           v + db_from_ratio(1.0 + kNearSigmas * table.relative_sigma[k]) >= 0.0;
   };
   std::vector<LineRun> runs;
   for (std::size_t k = 0; k < table.size();) {

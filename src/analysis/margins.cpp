@@ -1,3 +1,5 @@
+#include "loopaudit/analysis/margins.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -7,7 +9,6 @@
 #include "analysis/crossings.hpp"
 #include "analysis/groups.hpp"
 #include "analysis/peaks.hpp"
-#include "loopaudit/analysis/margins.hpp"
 #include "loopaudit/error.hpp"
 #include "loopaudit/format.hpp"
 #include "loopaudit/units.hpp"
@@ -140,7 +141,8 @@ struct Stretch {
 
 // One stretch for each run of unresolved groups and hidden runs (lines too
 // noisy to show a crossing) between resolved groups, in line order.
-std::vector<Stretch> unresolved_stretches(const std::vector<Group>& groups, const std::vector<detail::LineRun>& hidden) {
+std::vector<Stretch> unresolved_stretches(const std::vector<Group>& groups,
+                                          const std::vector<detail::LineRun>& hidden) {
   struct Item {
     Stretch lines;
     bool resolved = false;
@@ -153,7 +155,8 @@ std::vector<Stretch> unresolved_stretches(const std::vector<Group>& groups, cons
                      !unresolved(g.verdict)});
   }
   for (const detail::LineRun& run : hidden) items.push_back({{run.first, run.last}, false});
-  std::stable_sort(items.begin(), items.end(), [](const Item& a, const Item& b) { return a.lines.first < b.lines.first; });
+  std::stable_sort(items.begin(), items.end(),
+                   [](const Item& a, const Item& b) { return a.lines.first < b.lines.first; });
   std::vector<Stretch> out;
   bool open = false;
   for (const Item& item : items) {
@@ -201,9 +204,11 @@ void report_unresolved(const std::vector<Group>& groups, const LineTable& table,
   const auto hidden = detail::hidden_runs(table, curve, level, groups, options);
   for (const Stretch& s : unresolved_stretches(groups, hidden)) {
     const Location band{.low_hz = std::pow(10.0, table.log_f[s.first]), .high_hz = std::pow(10.0, table.log_f[s.last])};
-    margins.unresolved.push_back({level, *band.low_hz, *band.high_hz, s.count, other_range(table, level, s.first, s.last)});
+    margins.unresolved.push_back(
+        {level, *band.low_hz, *band.high_hz, s.count, other_range(table, level, s.first, s.last)});
     const std::string range = format_frequency_range(*band.low_hz, *band.high_hz);
-    margins.findings.push_back(make_warning("margins.unresolved-crossings", unresolved_message(s, range, level, options), band));
+    margins.findings.push_back(
+        make_warning("margins.unresolved-crossings", unresolved_message(s, range, level, options), band));
   }
 }
 
@@ -403,7 +408,8 @@ std::string near_critical(const UnresolvedStretch& u) {
            " deg: L may pass -1 there, on either side, and the lines cannot tell which (margins.unresolved-crossings)";
   }
   return "phase crossings " + where + " are unresolved and |L| there ranges from " + format_signed(u.other.low, 1) +
-         " to " + format_signed(u.other.high, 1) + " dB: L may cross the negative real axis there on either side of "
+         " to " + format_signed(u.other.high, 1) +
+         " dB: L may cross the negative real axis there on either side of "
          "-1, and the lines cannot tell which (margins.unresolved-crossings)";
 }
 

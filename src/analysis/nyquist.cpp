@@ -93,7 +93,8 @@ std::string on_margin_text(double frequency_hz, double gain_db) {
   std::snprintf(tolerance, sizeof tolerance, "%.0e", kOnMarginRelative);
   return "L meets the negative real axis near " + format_frequency(frequency_hz) + " with |L| = 1 " +
          (deviation[0] == '-' ? "- " + std::string(deviation + 1) : "+ " + std::string(deviation)) +
-         ", within rounding (" + tolerance + " relative) of -1: the loop sits on the stability margin, and whether "
+         ", within rounding (" + tolerance +
+         " relative) of -1: the loop sits on the stability margin, and whether "
          "the closed loop is stable cannot be told";
 }
 
@@ -149,8 +150,9 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
     if (side == Side::kUnclear) {
       result.unclear = clear_sigmas * sigma > kOnMarginRelative
                            ? "L meets the negative real axis near " + format_frequency(std::pow(10.0, table.log_f[i])) +
-                                 " at " + gain_text(gain_db) + ", within the lines' noise of -1 (relative uncertainty " +
-                                 format_fixed(sigma, 2) + "): which side of -1 it passes cannot be told"
+                                 " at " + gain_text(gain_db) +
+                                 ", within the lines' noise of -1 (relative uncertainty " + format_fixed(sigma, 2) +
+                                 "): which side of -1 it passes cannot be told"
                            : on_margin_text(std::pow(10.0, table.log_f[i]), gain_db);
       return result;
     }

@@ -84,7 +84,8 @@ void QualityMonitor::TopValues::add(double x, std::size_t sample) {
   size_ = std::min(size_ + 1, kKept);
 }
 
-void QualityMonitor::TopValues::push(std::span<const double> v, double sign, double block_top, std::size_t first_sample) {
+void QualityMonitor::TopValues::push(std::span<const double> v, double sign, double block_top,
+                                     std::size_t first_sample) {
   const auto threshold = [&] { return size_ == kKept ? values_[kKept - 1] : -INFINITY; };
   double below = threshold();
   if (block_top < below) return;
@@ -181,7 +182,8 @@ std::optional<Diagnostic> QualityMonitor::clipping_finding(std::size_t index) co
   }
   // Over half the samples at the extremes is a two-level signal (a PRBS, a
   // square wave), not clipping.
-  if (clipped == 0 || static_cast<double>(clipped) < kClipFraction * n || static_cast<double>(clipped) >= kTwoLevel * n) {
+  if (clipped == 0 || static_cast<double>(clipped) < kClipFraction * n ||
+      static_cast<double>(clipped) >= kTwoLevel * n) {
     return std::nullopt;
   }
   std::ostringstream message;
@@ -190,7 +192,8 @@ std::optional<Diagnostic> QualityMonitor::clipping_finding(std::size_t index) co
           << " %) sit at them or within one quantisation step, " << std::lround(ratio)
           << " times as many per value as at the values just inside: the acquisition may be clipping or "
              "saturating; the response is distorted where it does";
-  return Diagnostic{Severity::kWarning, "ingest.clipping", message.str(), {.channel = names_[index], .first_sample = first}};
+  return Diagnostic{
+      Severity::kWarning, "ingest.clipping", message.str(), {.channel = names_[index], .first_sample = first}};
 }
 
 Diagnostics QualityMonitor::channel_findings(std::size_t index, double injection_rms) const {

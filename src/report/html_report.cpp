@@ -181,12 +181,12 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
         << interval_text(c.gain_margin_db, db) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
   }
   if (m.gain_crossovers.empty()) {
-    out << "<tr><td>gain crossover</td><td colspan=\"4\">"
-        << escape(detail::empty_list_text(m, CrossingLevel::kGain)) << "</td></tr>\n";
+    out << "<tr><td>gain crossover</td><td colspan=\"4\">" << escape(detail::empty_list_text(m, CrossingLevel::kGain))
+        << "</td></tr>\n";
   }
   if (m.phase_crossovers.empty()) {
-    out << "<tr><td>phase crossover</td><td colspan=\"4\">"
-        << escape(detail::empty_list_text(m, CrossingLevel::kPhase)) << "</td></tr>\n";
+    out << "<tr><td>phase crossover</td><td colspan=\"4\">" << escape(detail::empty_list_text(m, CrossingLevel::kPhase))
+        << "</td></tr>\n";
   }
   if (m.modulus) {
     out << "<tr><td>modulus margin</td><td class=\"num\">" << hz(m.modulus->frequency_hz) << "</td><td class=\"num\">"
@@ -231,8 +231,8 @@ void write_truth(std::ostream& out, const AnalysisResult& r, const MarginSummary
     const std::string range = ci ? format_interval(style, ci->low, ci->high) : "";
     out << "<tr><td>" << shown.label << "</td><td class=\"num\">"
         << (c.measured ? style(c.measured->value) : detail::absence_text(r.margins.summary.status(shown.key)))
-        << "</td><td class=\"num\">" << range
-        << "</td><td class=\"num\">" << (c.reference ? style(*c.reference) : "none in band") << "</td><td>"
+        << "</td><td class=\"num\">" << range << "</td><td class=\"num\">"
+        << (c.reference ? style(*c.reference) : "none in band") << "</td><td>"
         << (c.inside ? (*c.inside ? "yes" : "no") : "") << "</td></tr>\n";
   }
   out << "</table>\n";

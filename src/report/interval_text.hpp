@@ -58,8 +58,8 @@ inline std::string empty_list_text(const Margins& m, CrossingLevel level) {
   }
   if (!any) return "none in band";
   const std::string range = format_frequency_range(low_hz, high_hz);
-  return "none resolved: crossings unresolved " + std::string(range.find(" to ") != std::string::npos ? "from " : "at ") +
-         range + " (see the findings)";
+  return "none resolved: crossings unresolved " +
+         std::string(range.find(" to ") != std::string::npos ? "from " : "at ") + range + " (see the findings)";
 }
 
 // The summary quantities the terminal table and the report's truth table

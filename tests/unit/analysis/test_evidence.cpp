@@ -44,7 +44,8 @@ void add_noise(Response& r, std::size_t first, std::size_t last, double sigma, u
 
 }  // namespace
 
-TEST_CASE("lines too noisy to show a crossing leave the crossover unresolved and not none in band", "[analysis][evidence]") {
+TEST_CASE("lines too noisy to show a crossing leave the crossover unresolved and not none in band",
+          "[analysis][evidence]") {
   // |L| = 1.25 (+1.9 dB) over three decades, phase -60 to -100 deg: no line
   // crosses 0 dB, but with a relative sigma of 0.3 (2.6 dB) every line lies
   // within two sigmas of it. The phase stays 80 deg (4 sigmas) from -180.
@@ -173,8 +174,8 @@ TEST_CASE("a table through -1 within rounding is on the margin and undecided", "
     CHECK_FALSE(has(m, "margins.closed-loop-unstable"));
   }
   // A gain 1e-6 off the margin is a verdict either way (Routh-Hurwitz: stable below 6).
-  for (const auto& [factor, verdict] : {std::pair{1.0 - 1e-6, StabilityVerdict::kStable},
-                                        std::pair{1.0 + 1e-6, StabilityVerdict::kUnstable}}) {
+  for (const auto& [factor, verdict] :
+       {std::pair{1.0 - 1e-6, StabilityVerdict::kStable}, std::pair{1.0 + 1e-6, StabilityVerdict::kUnstable}}) {
     Response scaled = r;
     for (auto& v : scaled.value) v *= factor;
     const Margins m = find_margins(scaled);

@@ -1,10 +1,10 @@
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <numbers>
 #include <random>
 #include <regex>
 #include <utility>
-#include <algorithm>
 
 #include "loopaudit/error.hpp"
 #include "loopaudit/ingest/quality.hpp"
@@ -82,9 +82,8 @@ Diagnostics screen_in_blocks(const Channels& c, std::size_t block) {
   QualityMonitor monitor({"z", "x", "y"}, 0, "test.csv");
   for (std::size_t first = 0; first < kSamples; first += block) {
     const std::size_t n = std::min(block, kSamples - first);
-    const std::vector<std::span<const double>> views = {std::span(c.z).subspan(first, n),
-                                                        std::span(c.x).subspan(first, n),
-                                                        std::span(c.y).subspan(first, n)};
+    const std::vector<std::span<const double>> views = {
+        std::span(c.z).subspan(first, n), std::span(c.x).subspan(first, n), std::span(c.y).subspan(first, n)};
     monitor.push(views, first);
   }
   return monitor.findings();
@@ -167,10 +166,10 @@ TEST_CASE("sines and multisines whose samples crowd near their peaks are not cli
     }
     return clipping(screen(c), "y") == nullptr;
   };
-  CHECK(sine(1.0 / 50.0, 0.5, false));      // whole periods: every value repeats exactly
-  CHECK(sine(0.0123457, 0.5, false));       // no period in samples
-  CHECK(sine(1.0 / 2000.0, 0.9, true));     // slow, on ADC codes: the top code held about 40 samples a cycle
-  CHECK(sine(0.0123457, 0.001, true));      // 66 codes from peak to peak
+  CHECK(sine(1.0 / 50.0, 0.5, false));   // whole periods: every value repeats exactly
+  CHECK(sine(0.0123457, 0.5, false));    // no period in samples
+  CHECK(sine(1.0 / 2000.0, 0.9, true));  // slow, on ADC codes: the top code held about 40 samples a cycle
+  CHECK(sine(0.0123457, 0.001, true));   // 66 codes from peak to peak
   // A periodic multisine (16 tones, random phases, period 8192): its values
   // repeat once a period, the extremes no more often than the rest.
   std::mt19937_64 rng(3);
