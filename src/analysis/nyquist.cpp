@@ -145,15 +145,16 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
     const double k = to > from ? std::ceil(ray_index(from)) : std::floor(ray_index(from));
     const double w = std::clamp((360.0 * k - 180.0 - from) / (to - from), 0.0, 1.0);
     const double gain_db = table.gain_db[i] + w * (table.gain_db[i + 1] - table.gain_db[i]);
+    const double frequency_hz = std::pow(10.0, table.log_f[i] + w * (table.log_f[i + 1] - table.log_f[i]));
     const double sigma = std::max(table.relative_sigma[i], table.relative_sigma[i + 1]);
     const Side side = side_of_unity(gain_db, sigma, clear_sigmas);
     if (side == Side::kUnclear) {
       result.unclear = clear_sigmas * sigma > kOnMarginRelative
-                           ? "L meets the negative real axis near " + format_frequency(std::pow(10.0, table.log_f[i])) +
+                           ? "L meets the negative real axis near " + format_frequency(frequency_hz) +
                                  " at " + gain_text(gain_db) +
                                  ", within the lines' noise of -1 (relative uncertainty " + format_fixed(sigma, 2) +
                                  "): which side of -1 it passes cannot be told"
-                           : on_margin_text(std::pow(10.0, table.log_f[i]), gain_db);
+                           : on_margin_text(frequency_hz, gain_db);
       return result;
     }
     if (side == Side::kOutside) result.count += c;
