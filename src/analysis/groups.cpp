@@ -4,6 +4,8 @@
 #include <cmath>
 #include <numbers>
 
+#include "loopaudit/units.hpp"
+
 namespace loopaudit::detail {
 
 double bracket_sigma(const std::vector<double>& sigmas, const Bracket& bracket) {
@@ -173,6 +175,44 @@ std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const L
     groups.push_back(std::move(g));
   }
   return groups;
+}
+
+std::vector<LineRun> hidden_runs(const LineTable& table, const Curve& curve, CrossingLevel level,
+                                 const std::vector<Group>& groups, const MarginOptions& options) {
+  constexpr double kNearSigmas = 2.0;  // as clear_side: closer than this, the line shows no side
+  std::vector<bool> in_group(table.size(), false);
+  for (const Group& g : groups) {
+    for (std::size_t k = g.members.front().bracket.index; k <= g.members.back().bracket.index + 1; ++k)
+      in_group[k] = true;
+  }
+  // Within its noise of the level: for the phase, two sigmas from -180 deg
+  // (mod 360); for the gain, two sigmas of dB below 0 dB, or above it by
+  // less than |L| (1 + 2 sigma) reaches, the bound of the lines' error model
+  // (circular complex Gaussian of standard deviation |L| sigma), which a
+  // tiny, very noisy value stays under.
+  const auto near_level = [&](std::size_t k) {
+    const double v = curve.values[k];
+    if (level == CrossingLevel::kPhase) {
+      return std::abs(v + 180.0 - 360.0 * std::round((v + 180.0) / 360.0)) <= kNearSigmas * curve.sigmas[k];
+    }
+    return v - kNearSigmas * curve.sigmas[k] <= 0.0 &&
+           v + db_from_ratio(1.0 + kNearSigmas * table.relative_sigma[k]) >= 0.0;
+  };
+  std::vector<LineRun> runs;
+  for (std::size_t k = 0; k < table.size();) {
+    if (in_group[k] || !(table.relative_sigma[k] > options.max_line_sigma)) {
+      ++k;
+      continue;
+    }
+    LineRun run{k, k};
+    bool near = false;
+    for (; k < table.size() && !in_group[k] && table.relative_sigma[k] > options.max_line_sigma; ++k) {
+      run.last = k;
+      near = near || near_level(k);
+    }
+    if (near) runs.push_back(run);
+  }
+  return runs;
 }
 
 }  // namespace loopaudit::detail

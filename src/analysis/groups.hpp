@@ -57,4 +57,18 @@ bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_m
 std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
                                    const MarginOptions& options);
 
+// Lines first..last (inclusive).
+struct LineRun {
+  std::size_t first = 0;
+  std::size_t last = 0;
+};
+
+// Runs of lines too noisy to place a crossing among (relative sigma above
+// options.max_line_sigma) where no crossing was seen, outside every group's
+// lines, that hold a line within two of its sigmas of a level (0 dB, or
+// -180 deg mod 360 for the phase): the curve may cross there unseen, so "no
+// crossing" is not a claim those lines support.
+std::vector<LineRun> hidden_runs(const LineTable& table, const Curve& curve, CrossingLevel level,
+                                 const std::vector<Group>& groups, const MarginOptions& options);
+
 }  // namespace loopaudit::detail

@@ -1,12 +1,14 @@
+#include "loopaudit/analysis/margins.hpp"
+
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <numbers>
 #include <sstream>
 
 #include "analysis/crossings.hpp"
 #include "analysis/groups.hpp"
 #include "analysis/peaks.hpp"
-#include "loopaudit/analysis/margins.hpp"
 #include "loopaudit/error.hpp"
 #include "loopaudit/format.hpp"
 #include "loopaudit/units.hpp"
@@ -128,36 +130,85 @@ Interval other_range(const LineTable& table, CrossingLevel level, std::size_t fi
   return range;
 }
 
-// One stretch and one finding for each run of unresolved groups between
-// resolved ones.
-void report_unresolved(const std::vector<Group>& groups, const LineTable& table, CrossingLevel level,
-                       const MarginOptions& options, Margins& margins) {
-  const char* what = level == CrossingLevel::kGain ? "gain crossing" : "phase crossing";
-  for (std::size_t i = 0; i < groups.size();) {
-    if (!unresolved(groups[i].verdict)) {
-      ++i;
+// Lines first..last where crossings of one level are unresolved, with the
+// noise crossings seen there (0 for lines too noisy to show a crossing at all).
+struct Stretch {
+  std::size_t first = 0;
+  std::size_t last = 0;
+  std::size_t count = 0;
+  std::size_t wide = 0;  // of them placed with intervals too wide to use
+};
+
+// One stretch for each run of unresolved groups and hidden runs (lines too
+// noisy to show a crossing) between resolved groups, in line order.
+std::vector<Stretch> unresolved_stretches(const std::vector<Group>& groups,
+                                          const std::vector<detail::LineRun>& hidden) {
+  struct Item {
+    Stretch lines;
+    bool resolved = false;
+  };
+  std::vector<Item> items;
+  for (const Group& g : groups) {
+    const std::size_t count = g.members.size();
+    items.push_back({{g.members.front().bracket.index, g.members.back().bracket.index + 1, count,
+                      g.verdict == Verdict::kTooWide ? count : 0},
+                     !unresolved(g.verdict)});
+  }
+  for (const detail::LineRun& run : hidden) items.push_back({{run.first, run.last}, false});
+  std::stable_sort(items.begin(), items.end(),
+                   [](const Item& a, const Item& b) { return a.lines.first < b.lines.first; });
+  std::vector<Stretch> out;
+  bool open = false;
+  for (const Item& item : items) {
+    if (item.resolved) {
+      open = false;
       continue;
     }
-    std::size_t end = i, count = 0, wide = 0;
-    for (; end < groups.size() && unresolved(groups[end].verdict); ++end) {
-      count += groups[end].members.size();
-      if (groups[end].verdict == Verdict::kTooWide) wide += groups[end].members.size();
+    if (!open) {
+      out.push_back(item.lines);
+      open = true;
+      continue;
     }
-    const std::size_t first = groups[i].members.front().bracket.index;
-    const std::size_t last = groups[end - 1].members.back().bracket.index + 1;
-    const Location band{.low_hz = std::pow(10.0, table.log_f[first]), .high_hz = std::pow(10.0, table.log_f[last])};
-    margins.unresolved.push_back({level, *band.low_hz, *band.high_hz, count, other_range(table, level, first, last)});
-    std::ostringstream message;
-    const std::string range = format_frequency_range(*band.low_hz, *band.high_hz);
-    message << count << " " << what << (count == 1 ? " " : "s ") << (range.find(" to ") != std::string::npos ? "from " : "at ") << range
-            << (count == 1 ? " is" : " are")
-            << " not listed: the lines there are too noisy to place " << (count == 1 ? "it" : "them")
+    Stretch& s = out.back();
+    s.last = std::max(s.last, item.lines.last);
+    s.count += item.lines.count;
+    s.wide += item.lines.wide;
+  }
+  return out;
+}
+
+std::string unresolved_message(const Stretch& s, const std::string& range, CrossingLevel level,
+                               const MarginOptions& options) {
+  const char* what = level == CrossingLevel::kGain ? "gain crossing" : "phase crossing";
+  const std::string where = (range.find(" to ") != std::string::npos ? "from " : "at ") + range;
+  std::ostringstream message;
+  if (s.count == 0) {
+    message << "no " << what << " is seen " << where << ", but the lines there are too noisy (relative uncertainty "
+            << "above " << options.max_line_sigma << ") and come within their noise of "
+            << (level == CrossingLevel::kGain ? "0 dB" : "-180 deg") << ": a crossing there can be neither placed "
+            << "nor ruled out";
+  } else {
+    message << s.count << " " << what << (s.count == 1 ? " " : "s ") << where << (s.count == 1 ? " is" : " are")
+            << " not listed: the lines there are too noisy to place " << (s.count == 1 ? "it" : "them")
             << " (relative uncertainty above " << options.max_line_sigma << "), to show that the curve really "
             << "crosses, or to give an interval that means anything";
-    if (wide > 0) message << " (" << wide << " placed with intervals too wide to use)";
-    message << ". Raise the injection or average longer if a crossover may lie there";
-    margins.findings.push_back(make_warning("margins.unresolved-crossings", message.str(), band));
-    i = end;
+    if (s.wide > 0) message << " (" << s.wide << " placed with intervals too wide to use)";
+  }
+  message << ". Raise the injection or average longer if a crossover may lie there";
+  return message.str();
+}
+
+// One stretch and one finding for each unresolved stretch (see above).
+void report_unresolved(const std::vector<Group>& groups, const LineTable& table, const Curve& curve,
+                       CrossingLevel level, const MarginOptions& options, Margins& margins) {
+  const auto hidden = detail::hidden_runs(table, curve, level, groups, options);
+  for (const Stretch& s : unresolved_stretches(groups, hidden)) {
+    const Location band{.low_hz = std::pow(10.0, table.log_f[s.first]), .high_hz = std::pow(10.0, table.log_f[s.last])};
+    margins.unresolved.push_back(
+        {level, *band.low_hz, *band.high_hz, s.count, other_range(table, level, s.first, s.last)});
+    const std::string range = format_frequency_range(*band.low_hz, *band.high_hz);
+    margins.findings.push_back(
+        make_warning("margins.unresolved-crossings", unresolved_message(s, range, level, options), band));
   }
 }
 
@@ -219,7 +270,7 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
     }
     result.push_back(c);
   }
-  report_unresolved(groups, table, CrossingLevel::kGain, options, margins);
+  report_unresolved(groups, table, gain, CrossingLevel::kGain, options, margins);
   return result;
 }
 
@@ -249,7 +300,7 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
     }
     result.push_back(c);
   }
-  report_unresolved(groups, table, CrossingLevel::kPhase, options, margins);
+  report_unresolved(groups, table, phase, CrossingLevel::kPhase, options, margins);
   std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz.value < b.frequency_hz.value; });
   return result;
 }
@@ -321,6 +372,70 @@ void report_possible(const MarginSummary& summary, Diagnostics& findings) {
   }
 }
 
+// A verdict the lines cannot support becomes undecided, with the reason;
+// the count stays, the closed-loop poles it implied go.
+void withdraw_verdict(StabilityAssessment& st, std::string reason) {
+  st.verdict = StabilityVerdict::kUndecided;
+  st.closed_loop_rhp_poles.reset();
+  st.reason = std::move(reason);
+}
+
+// A listed crossover where L meets -1 within rounding (kOnMarginRelative):
+// the gain margin or the phase margin there is zero as far as the numbers tell.
+std::optional<double> on_margin_at(const Margins& m) {
+  const double gain_tolerance_db = db_from_ratio(1.0 + kOnMarginRelative);
+  const double phase_tolerance_deg = deg_from_rad(kOnMarginRelative);
+  for (const PhaseCrossover& c : m.phase_crossovers) {
+    if (std::abs(c.gain_margin_db.value) <= gain_tolerance_db) return c.frequency_hz.value;
+  }
+  for (const GainCrossover& c : m.gain_crossovers) {
+    if (std::abs(c.phase_margin_deg.value) <= phase_tolerance_deg) return c.frequency_hz.value;
+  }
+  return std::nullopt;
+}
+
+// Why an unresolved stretch may hide a pass of L by -1, or "": phase
+// crossings where |L| ranges across 0 dB may cross the negative real axis on
+// either side of -1; gain crossings where the phase margin ranges across 0
+// may pass through it.
+std::string near_critical(const UnresolvedStretch& u) {
+  if (!(u.other.low <= 0.0 && u.other.high >= 0.0)) return "";
+  const std::string range = format_frequency_range(u.low_hz, u.high_hz);
+  const std::string where = (range.find(" to ") != std::string::npos ? "from " : "at ") + range;
+  if (u.level == CrossingLevel::kGain) {
+    return "gain crossings " + where + " are unresolved and the phase margin there ranges from " +
+           format_fixed(u.other.low, 1) + " to " + format_fixed(u.other.high, 1) +
+           " deg: L may pass -1 there, on either side, and the lines cannot tell which (margins.unresolved-crossings)";
+  }
+  return "phase crossings " + where + " are unresolved and |L| there ranges from " + format_signed(u.other.low, 1) +
+         " to " + format_signed(u.other.high, 1) +
+         " dB: L may cross the negative real axis there on either side of "
+         "-1, and the lines cannot tell which (margins.unresolved-crossings)";
+}
+
+// The Nyquist count is withdrawn where the margins show that L meets -1
+// within rounding, or that an unresolved stretch may hide a pass by -1.
+void doubt_verdict(Margins& m) {
+  StabilityAssessment& st = m.stability;
+  if (const auto f = on_margin_at(m)) {
+    char tolerance[32];
+    std::snprintf(tolerance, sizeof tolerance, "%.0e", kOnMarginRelative);
+    const std::string text = "L meets -1 within rounding (" + std::string(tolerance) + " relative) at " +
+                             format_frequency(*f) +
+                             ": the loop sits on the stability margin, so it is neither stable nor unstable as far "
+                             "as the lines can tell";
+    m.findings.push_back(make_warning("margins.on-margin", text, {.low_hz = *f, .high_hz = *f}));
+    if (st.verdict != StabilityVerdict::kUndecided) withdraw_verdict(st, text);
+  }
+  if (st.verdict == StabilityVerdict::kUndecided) return;
+  for (const UnresolvedStretch& u : m.unresolved) {
+    if (std::string why = near_critical(u); !why.empty()) {
+      withdraw_verdict(st, std::move(why));
+      return;
+    }
+  }
+}
+
 }  // namespace
 
 double two_sided_z(double confidence) {
@@ -350,6 +465,7 @@ Margins find_margins(const Response& all_lines, const MarginOptions& options) {
   margins.modulus = detail::modulus_point(table, options);
   margins.disk = detail::disk_point(table, options);
   margins.stability = assess_stability(loop, {.open_loop_rhp_poles = options.open_loop_rhp_poles, .sign_doubted = options.sign_doubted});
+  doubt_verdict(margins);
   if (margins.stability.verdict == StabilityVerdict::kUnstable) {
     margins.findings.push_back(make_warning(
         "margins.closed-loop-unstable",

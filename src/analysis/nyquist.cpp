@@ -75,14 +75,28 @@ Side side_of_unity(double gain_db, double relative_sigma, double clear_sigmas) {
   // relative_sigma is the standard deviation of ln |L|: the clear band is
   // |L| e^(+-clear_sigmas sigma), which a first-order 1 +- spread would make
   // empty on the low side for sigma of 0.5 whatever |L|.
+  // Exact lines still leave rounding: within it, |L| is on the unit circle.
   const double log_magnitude = std::log(ratio_from_db(gain_db));
-  const double spread = clear_sigmas * relative_sigma;
+  const double spread = std::max(clear_sigmas * relative_sigma, kOnMarginRelative);
   if (log_magnitude + spread < 0.0) return Side::kInside;
   if (log_magnitude - spread > 0.0) return Side::kOutside;
   return Side::kUnclear;
 }
 
 std::string gain_text(double gain_db) { return format_signed(gain_db, 1) + " dB"; }
+
+// L passes -1 itself, as far as rounding can tell.
+std::string on_margin_text(double frequency_hz, double gain_db) {
+  char deviation[32];
+  std::snprintf(deviation, sizeof deviation, "%.1e", ratio_from_db(gain_db) - 1.0);
+  char tolerance[32];
+  std::snprintf(tolerance, sizeof tolerance, "%.0e", kOnMarginRelative);
+  return "L meets the negative real axis near " + format_frequency(frequency_hz) + " with |L| = 1 " +
+         (deviation[0] == '-' ? "- " + std::string(deviation + 1) : "+ " + std::string(deviation)) +
+         ", within rounding (" + tolerance +
+         " relative) of -1: the loop sits on the stability margin, and whether "
+         "the closed loop is stable cannot be told";
+}
 
 std::string counted(long count, const char* noun) {
   return std::to_string(count) + " " + noun + (count == 1 || count == -1 ? "" : "s");
@@ -131,12 +145,16 @@ BandCrossings band_crossings(const detail::LineTable& table, double shift, doubl
     const double k = to > from ? std::ceil(ray_index(from)) : std::floor(ray_index(from));
     const double w = std::clamp((360.0 * k - 180.0 - from) / (to - from), 0.0, 1.0);
     const double gain_db = table.gain_db[i] + w * (table.gain_db[i + 1] - table.gain_db[i]);
-    const Side side = side_of_unity(gain_db, std::max(table.relative_sigma[i], table.relative_sigma[i + 1]), clear_sigmas);
+    const double frequency_hz = std::pow(10.0, table.log_f[i] + w * (table.log_f[i + 1] - table.log_f[i]));
+    const double sigma = std::max(table.relative_sigma[i], table.relative_sigma[i + 1]);
+    const Side side = side_of_unity(gain_db, sigma, clear_sigmas);
     if (side == Side::kUnclear) {
-      result.unclear = "L meets the negative real axis near " + format_frequency(std::pow(10.0, table.log_f[i])) +
-                       " at " + gain_text(gain_db) + ", within the lines' noise of -1 (relative uncertainty " +
-                       format_fixed(std::max(table.relative_sigma[i], table.relative_sigma[i + 1]), 2) +
-                       "): which side of -1 it passes cannot be told";
+      result.unclear = clear_sigmas * sigma > kOnMarginRelative
+                           ? "L meets the negative real axis near " + format_frequency(frequency_hz) +
+                                 " at " + gain_text(gain_db) +
+                                 ", within the lines' noise of -1 (relative uncertainty " + format_fixed(sigma, 2) +
+                                 "): which side of -1 it passes cannot be told"
+                           : on_margin_text(frequency_hz, gain_db);
       return result;
     }
     if (side == Side::kOutside) result.count += c;
@@ -224,6 +242,13 @@ StabilityAssessment count_encirclements(const Response& loop, const StabilityOpt
                             " lines have a relative uncertainty at or below " + relative_text(options.max_relative_sigma) +
                             ": too few to count encirclements");
   }
+  const std::size_t left_out = loop.size() - lines.size();
+  if (2 * left_out > loop.size()) {
+    return undecided(a, std::to_string(left_out) + " of the " + std::to_string(loop.size()) +
+                            " lines have a relative uncertainty above " + relative_text(options.max_relative_sigma) +
+                            ": a count from the few lines left cannot show that L stays clear of -1 between them. "
+                            "Raise the injection or average longer");
+  }
   const auto table = detail::make_line_table(lines.frequency_hz, lines.value, lines.relative_sigma);
   const std::size_t top = table.size() - 1;
   const double f_low = lines.frequency_hz.front();
@@ -231,7 +256,7 @@ StabilityAssessment count_encirclements(const Response& loop, const StabilityOpt
   const Bottom low_end = bottom_of_band(table);
   a.low_frequency_integrators = low_end.integrators;
   const int n = a.low_frequency_integrators;
-  a.assumptions = assumptions(a.open_loop_rhp_poles, n, f_low, f_high, loop.size() - lines.size(), options);
+  a.assumptions = assumptions(a.open_loop_rhp_poles, n, f_low, f_high, left_out, options);
   if (side_of_unity(table.gain_db[top], table.relative_sigma[top], options.clear_sigmas) != Side::kInside) {
     return undecided(a, "|L| is " + gain_text(table.gain_db[top]) + " at the top of the band (" +
                             format_frequency(f_high) + "), not clearly below 0 dB: encirclements above the band "

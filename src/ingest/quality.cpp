@@ -3,7 +3,9 @@
 #include <Eigen/Core>
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <numeric>
+#include <optional>
 #include <sstream>
 
 #include "loopaudit/error.hpp"
@@ -11,7 +13,15 @@
 namespace loopaudit {
 namespace {
 
-constexpr std::size_t kClipRun = 3;            // equal samples at an extreme that make a flat top
+// Clipping: the samples at an extreme value (with the next value inside
+// when it lies within one quantisation step) against the mean count of the
+// values just inside it. A sine's samples crowd near its peaks (arcsine
+// density), so on ADC codes its top two codes hold up to 3 times the mean
+// of the next six per code; Gaussian noise thins out towards its extremes
+// and a periodic signal repeats every value alike. A clipped signal stacks
+// every excursion beyond the clip level on one value: hundreds of times.
+constexpr double kPileRatio = 10.0;
+constexpr double kStepSlack = 1.5;             // a gap up to 1.5 steps is the next code
 constexpr double kClipFraction = 1e-5;         // of all samples, before it is reported
 constexpr double kTwoLevel = 0.5;
 constexpr double kDriftOverInjection = 1.0;    // trend over the record against the injection's RMS
@@ -54,24 +64,37 @@ BlockStats stats_of(std::span<const double> v, const std::vector<double>& ramp) 
 
 }  // namespace
 
-// Runs of equal samples at `extreme`, continuing the run carried over from
-// the previous block; returns the samples that count (runs of kClipRun or more).
-std::size_t count_runs_at(std::span<const double> v, double extreme, double carried_value, std::size_t carried_length,
-                          std::size_t first_sample, std::size_t& first_run_sample) {
-  std::size_t counted = 0;
-  std::size_t length = carried_value == extreme ? carried_length : 0;
-  for (std::size_t i = 0; i < v.size(); ++i) {
-    if (v[i] != extreme) {
-      length = 0;
-      continue;
+void QualityMonitor::TopValues::add(double x, std::size_t sample) {
+  std::size_t i = 0;
+  for (; i < size_ && values_[i] >= x; ++i) {
+    if (values_[i] == x) {
+      ++counts_[i];
+      return;
     }
-    ++length;
-    if (length < kClipRun) continue;
-    const std::size_t added = length == kClipRun ? kClipRun : 1;
-    if (counted == 0 && first_run_sample == 0) first_run_sample = first_sample + i + 1 - length;
-    counted += added;
   }
-  return counted;
+  if (i == kKept) return;  // below every kept value, and they are kKept
+  for (std::size_t j = std::min(size_, kKept - 1); j > i; --j) {
+    values_[j] = values_[j - 1];
+    counts_[j] = counts_[j - 1];
+    first_[j] = first_[j - 1];
+  }
+  values_[i] = x;
+  counts_[i] = 1;
+  first_[i] = sample;
+  size_ = std::min(size_ + 1, kKept);
+}
+
+void QualityMonitor::TopValues::push(std::span<const double> v, double sign, double block_top,
+                                     std::size_t first_sample) {
+  const auto threshold = [&] { return size_ == kKept ? values_[kKept - 1] : -INFINITY; };
+  double below = threshold();
+  if (block_top < below) return;
+  for (std::size_t i = 0; i < v.size(); ++i) {
+    const double x = sign * v[i];
+    if (x < below) continue;
+    add(x, first_sample + i);
+    below = threshold();
+  }
 }
 
 void QualityMonitor::scan(Channel& c, std::span<const double> v, std::size_t first_sample, const std::string& name) const {
@@ -89,21 +112,10 @@ void QualityMonitor::scan(Channel& c, std::span<const double> v, std::size_t fir
       throw InputError(message.str());
     }
   }
-  if (s.max > c.max) {
-    c.max = s.max;
-    c.at_max_in_runs = 0;
-  }
-  if (s.min < c.min) {
-    c.min = s.min;
-    c.at_min_in_runs = 0;
-  }
-  if (s.max == c.max) c.at_max_in_runs += count_runs_at(v, c.max, c.run_value, c.run_length, first_sample, c.first_run_sample);
-  if (s.min == c.min) c.at_min_in_runs += count_runs_at(v, c.min, c.run_value, c.run_length, first_sample, c.first_run_sample);
-  // The run of equal samples that ends this block, for the next one.
-  std::size_t tail = 0;
-  while (tail < v.size() && v[v.size() - 1 - tail] == v.back()) ++tail;
-  c.run_length = (tail == v.size() && v.back() == c.run_value) ? c.run_length + tail : tail;
-  c.run_value = v.back();
+  c.max = std::max(c.max, s.max);
+  c.min = std::min(c.min, s.min);
+  c.top.push(v, 1.0, s.max, first_sample);
+  c.bottom.push(v, -1.0, -s.min, first_sample);
   c.sum += s.sum;
   c.sum_squares += s.sum_squares;
   c.sum_index_weighted += s.sum_index_weighted + static_cast<double>(first_sample) * s.sum;
@@ -116,21 +128,80 @@ void QualityMonitor::push(std::span<const std::span<const double>> channels, std
   if (!channels.empty()) samples_ += channels[0].size();
 }
 
+namespace {
+
+// The samples piled up at one extreme: those at the extreme value and, when
+// the next value inside lies within one quantisation step of it (the
+// smallest gap between the values further inside), at that value too.
+struct Pile {
+  std::size_t samples = 0;
+  double ratio = 0.0;  // per value, against the mean count of the values just inside
+  std::size_t first_sample = 0;
+};
+
+template <typename Top>
+Pile pile_of(const Top& t) {
+  const std::size_t m = t.size();
+  if (m < 4) return {};  // too few values to compare with
+  double step = INFINITY;
+  for (std::size_t i = 1; i + 1 < m; ++i) step = std::min(step, t.value(i) - t.value(i + 1));
+  const std::size_t piled = t.value(0) - t.value(1) <= kStepSlack * step ? 2 : 1;
+  Pile p{0, 0.0, t.first_sample(0)};
+  for (std::size_t i = 0; i < piled; ++i) {
+    p.samples += t.count(i);
+    p.first_sample = std::min(p.first_sample, t.first_sample(i));
+  }
+  double inside = 0.0;
+  for (std::size_t i = piled; i < m; ++i) inside += static_cast<double>(t.count(i));
+  inside /= static_cast<double>(m - piled);
+  p.ratio = static_cast<double>(p.samples) / static_cast<double>(piled) / inside;
+  return p;
+}
+
+// "1.9", "10.3", "0.015": one decimal from 1 % up, two significant digits below.
+std::string percent_text(double fraction) {
+  char text[32];
+  std::snprintf(text, sizeof text, fraction >= 0.01 ? "%.1f" : "%.2g", 100.0 * fraction);
+  return text;
+}
+
+}  // namespace
+
+std::optional<Diagnostic> QualityMonitor::clipping_finding(std::size_t index) const {
+  const Channel& c = channels_[index];
+  const double n = static_cast<double>(samples_);
+  const Pile top = pile_of(c.top);
+  const Pile bottom = pile_of(c.bottom);
+  std::size_t clipped = 0, first = samples_;
+  double ratio = INFINITY;
+  for (const Pile& p : {top, bottom}) {
+    if (!(p.ratio >= kPileRatio)) continue;
+    clipped += p.samples;
+    first = std::min(first, p.first_sample);
+    ratio = std::min(ratio, p.ratio);
+  }
+  // Over half the samples at the extremes is a two-level signal (a PRBS, a
+  // square wave), not clipping.
+  if (clipped == 0 || static_cast<double>(clipped) < kClipFraction * n ||
+      static_cast<double>(clipped) >= kTwoLevel * n) {
+    return std::nullopt;
+  }
+  std::ostringstream message;
+  message << "channel '" << names_[index] << "' piles up at its extreme values (" << c.min << " and " << c.max
+          << "): " << clipped << " samples (" << percent_text(static_cast<double>(clipped) / n)
+          << " %) sit at them or within one quantisation step, " << std::lround(ratio)
+          << " times as many per value as at the values just inside: the acquisition may be clipping or "
+             "saturating; the response is distorted where it does";
+  return Diagnostic{
+      Severity::kWarning, "ingest.clipping", message.str(), {.channel = names_[index], .first_sample = first}};
+}
+
 Diagnostics QualityMonitor::channel_findings(std::size_t index, double injection_rms) const {
   Diagnostics out;
   const Channel& c = channels_[index];
   const std::string& name = names_[index];
   const double n = static_cast<double>(samples_);
-  const std::size_t clipped = c.at_max_in_runs + c.at_min_in_runs;
-  // Over half the samples at the extremes is a two-level signal (a PRBS, a
-  // square wave), not clipping.
-  if (clipped > 0 && static_cast<double>(clipped) >= kClipFraction * n && static_cast<double>(clipped) < kTwoLevel * n) {
-    std::ostringstream message;
-    message << "channel '" << name << "' sits at its extreme value (" << c.min << " or " << c.max << ") in runs for "
-            << clipped << " samples (" << 100.0 * clipped / n
-            << " %): the acquisition may be saturating or clipping; the response is distorted where it does";
-    out.push_back({Severity::kWarning, "ingest.clipping", message.str(), {.channel = name, .first_sample = c.first_run_sample}});
-  }
+  if (auto clipped = clipping_finding(index)) out.push_back(std::move(*clipped));
   if (injection_rms > 0.0 && index != injection_) {
     const double mean = c.sum / n;
     const double trend = trend_over_record(c.sum, c.sum_index_weighted, samples_);

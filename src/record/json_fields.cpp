@@ -33,6 +33,9 @@ Json summary_json(const MarginSummary& s) {
     out["possible"].push_back({{"key", p.key}, {"low_hz", p.low_hz}, {"high_hz", p.high_hz},
                                {"range", {{"low", finite_or_null(p.range.low)}, {"high", finite_or_null(p.range.high)}}}});
   }
+  // Why each value is set or null: "measured", "none-in-band" or "unresolved".
+  out["status"] = Json::object();
+  for (const SummaryField& field : summary_fields()) out["status"][field.key] = status_name(s.status(field.key));
   return out;
 }
 

@@ -21,6 +21,36 @@ std::span<const SummaryField> summary_fields() {
   return kFields;
 }
 
+namespace {
+
+// The possible margins (PossibleMargin::key) that stand for a summary key
+// when it is unset: a crossover frequency and the delay margin come with the
+// phase margin read there, the smallest gain margin and its crossover with
+// either directed one.
+bool named_by_possible(std::string_view key, std::string_view possible) {
+  if (key == "gain_crossover_hz" || key == "delay_margin_s") return possible == "phase_margin_deg";
+  if (key == "gain_margin_db" || key == "phase_crossover_hz") {
+    return possible == "gain_increase_margin_db" || possible == "gain_reduction_margin_db";
+  }
+  return key == possible;
+}
+
+}  // namespace
+
+SummaryStatus MarginSummary::status(std::string_view key) const {
+  for (const SummaryField& field : summary_fields()) {
+    if (key != field.key) continue;
+    if (this->*field.member) return SummaryStatus::kMeasured;
+    for (const PossibleMargin& p : possible) {
+      if (named_by_possible(key, p.key)) return SummaryStatus::kUnresolved;
+    }
+    return SummaryStatus::kNoneInBand;
+  }
+  return SummaryStatus::kNoneInBand;
+}
+
+const char* status_name(SummaryStatus status) { return name_of(kSummaryStatusNames, status); }
+
 const char* direction_name(GainDirection direction) { return name_of(kDirectionNames, direction); }
 
 const char* verdict_name(StabilityVerdict verdict) { return name_of(kVerdictNames, verdict); }

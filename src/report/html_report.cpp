@@ -106,7 +106,8 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
     first.insert(first.end(), more.begin(), more.end());
     return first;
   };
-  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, Quantity::kAngle, "none in band"),
+  const auto absent = [&](const char* key) { return detail::absence_text(s.status(key)); };
+  tile(out, "phase margin (smallest)", value(s.phase_margin_deg, Quantity::kAngle, absent("phase_margin_deg")),
        with({range(s.phase_margin_deg, Quantity::kAngle)}, possible(true)));
   // A conditionally stable loop has margins both ways: the tile shows the
   // smaller and names the other.
@@ -117,9 +118,9 @@ void write_glance(std::ostream& out, const AnalysisResult& r) {
       s.gain_margin_db && other ? other_name + value(other, Quantity::kSignedGain, "") +
                                       (other->interval ? " (" + range(other, Quantity::kSignedGain) + ")" : std::string())
                                 : "";
-  tile(out, "gain margin (smallest)", value(s.gain_margin_db, Quantity::kSignedGain, "none in band"),
+  tile(out, "gain margin (smallest)", value(s.gain_margin_db, Quantity::kSignedGain, absent("gain_margin_db")),
        with({range(s.gain_margin_db, Quantity::kSignedGain), other_line}, possible(false)));
-  tile(out, "gain crossover", value(s.gain_crossover_hz, Quantity::kFrequency, "none in band"),
+  tile(out, "gain crossover", value(s.gain_crossover_hz, Quantity::kFrequency, absent("gain_crossover_hz")),
        {range(s.gain_crossover_hz, Quantity::kFrequency)});
   const auto& mm = s.modulus_margin;
   tile(out, "peak sensitivity", value(s.peak_sensitivity_db, Quantity::kGain, "none"),
@@ -179,8 +180,14 @@ void write_margins(std::ostream& out, const AnalysisResult& r) {
         << "<br><small>limits gain " << direction_name(c.limits) << "</small></td><td class=\"num\">"
         << interval_text(c.gain_margin_db, db) << "</td><td>" << flags_html(c.trust_flags) << "</td></tr>\n";
   }
-  if (m.gain_crossovers.empty()) out << "<tr><td>gain crossover</td><td colspan=\"4\">none in band</td></tr>\n";
-  if (m.phase_crossovers.empty()) out << "<tr><td>phase crossover</td><td colspan=\"4\">none in band</td></tr>\n";
+  if (m.gain_crossovers.empty()) {
+    out << "<tr><td>gain crossover</td><td colspan=\"4\">" << escape(detail::empty_list_text(m, CrossingLevel::kGain))
+        << "</td></tr>\n";
+  }
+  if (m.phase_crossovers.empty()) {
+    out << "<tr><td>phase crossover</td><td colspan=\"4\">" << escape(detail::empty_list_text(m, CrossingLevel::kPhase))
+        << "</td></tr>\n";
+  }
   if (m.modulus) {
     out << "<tr><td>modulus margin</td><td class=\"num\">" << hz(m.modulus->frequency_hz) << "</td><td class=\"num\">"
         << ratio(m.modulus->modulus_margin.value) << "<br>peak |S| " << plain_db(m.modulus->peak_sensitivity_db.value)
@@ -223,8 +230,9 @@ void write_truth(std::ostream& out, const AnalysisResult& r, const MarginSummary
     const auto& ci = c.measured ? c.measured->interval : std::nullopt;
     const std::string range = ci ? format_interval(style, ci->low, ci->high) : "";
     out << "<tr><td>" << shown.label << "</td><td class=\"num\">"
-        << (c.measured ? style(c.measured->value) : "none in band") << "</td><td class=\"num\">" << range
-        << "</td><td class=\"num\">" << (c.reference ? style(*c.reference) : "none in band") << "</td><td>"
+        << (c.measured ? style(c.measured->value) : detail::absence_text(r.margins.summary.status(shown.key)))
+        << "</td><td class=\"num\">" << range << "</td><td class=\"num\">"
+        << (c.reference ? style(*c.reference) : "none in band") << "</td><td>"
         << (c.inside ? (*c.inside ? "yes" : "no") : "") << "</td></tr>\n";
   }
   out << "</table>\n";

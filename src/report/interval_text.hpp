@@ -4,6 +4,7 @@
 // format.hpp). Shared by the terminal table and the HTML report.
 #pragma once
 
+#include <algorithm>
 #include <optional>
 #include <string>
 #include <vector>
@@ -36,6 +37,29 @@ inline NumberStyle estimate_style(Quantity quantity, const Estimate& e, std::vec
 inline std::string interval_text(const Estimate& e, Quantity quantity) {
   if (!e.interval) return "";
   return format_interval(estimate_style(quantity, e), e.interval->low, e.interval->high);
+}
+
+// What stands in for an unset summary value: "none in band", or
+// "unresolved" when an unresolved stretch may hold it.
+inline const char* absence_text(SummaryStatus status) {
+  return status == SummaryStatus::kUnresolved ? "unresolved" : "none in band";
+}
+
+// What stands in for an empty list of crossovers of one level: "none in
+// band", or where its crossings are unresolved.
+inline std::string empty_list_text(const Margins& m, CrossingLevel level) {
+  double low_hz = 0.0, high_hz = 0.0;
+  bool any = false;
+  for (const UnresolvedStretch& u : m.unresolved) {
+    if (u.level != level) continue;
+    low_hz = any ? std::min(low_hz, u.low_hz) : u.low_hz;
+    high_hz = any ? std::max(high_hz, u.high_hz) : u.high_hz;
+    any = true;
+  }
+  if (!any) return "none in band";
+  const std::string range = format_frequency_range(low_hz, high_hz);
+  return "none resolved: crossings unresolved " +
+         std::string(range.find(" to ") != std::string::npos ? "from " : "at ") + range + " (see the findings)";
 }
 
 // The summary quantities the terminal table and the report's truth table

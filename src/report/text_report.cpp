@@ -48,7 +48,7 @@ std::vector<Row> summary_rows(const MarginSummary& m, const MarginSummary& t) {
     if (c.reference) beside.push_back(*c.reference);
     const NumberStyle style = c.measured ? estimate_style(r.quantity, *c.measured, beside)
                                          : value_style(r.quantity, c.reference.value_or(0.0));
-    rows.push_back({r.label, c.measured ? style(c.measured->value) : "none in band",
+    rows.push_back({r.label, c.measured ? style(c.measured->value) : detail::absence_text(m.status(r.key)),
                     c.reference ? style(*c.reference) : "none in band", c.measured ? range(style, *c.measured) : ""});
   }
   return rows;
@@ -139,7 +139,7 @@ void write_capped(std::ostream& out, const std::vector<T>& items, const std::vec
 
 void write_gain_crossovers(std::ostream& out, const Margins& m, const FullLists& lists) {
   out << "  gain crossovers (|L| = 1)\n";
-  if (m.gain_crossovers.empty()) out << "    none in band\n";
+  if (m.gain_crossovers.empty()) out << "    " << detail::empty_list_text(m, CrossingLevel::kGain) << "\n";
   const MarginSummary& s = m.summary;
   std::vector<std::size_t> always =
       chosen_by_summary(m.gain_crossovers, &GainCrossover::frequency_hz, {s.gain_crossover_hz});
@@ -164,7 +164,7 @@ void write_gain_crossovers(std::ostream& out, const Margins& m, const FullLists&
 
 void write_phase_crossovers(std::ostream& out, const Margins& m, const FullLists& lists) {
   out << "  phase crossovers (angle L = -180 deg)\n";
-  if (m.phase_crossovers.empty()) out << "    none in band\n";
+  if (m.phase_crossovers.empty()) out << "    " << detail::empty_list_text(m, CrossingLevel::kPhase) << "\n";
   const auto& list = m.phase_crossovers;
   const MarginSummary& s = m.summary;
   const std::vector<std::size_t> always = chosen_by_summary(

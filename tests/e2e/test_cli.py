@@ -132,6 +132,7 @@ class DemoScenarios(unittest.TestCase):
         first = dict(self.results["servo_velocity"][0]["summary"])
         intervals = first.pop("intervals")
         self.assertEqual(again.pop("possible"), first.pop("possible"))
+        self.assertEqual(again.pop("status"), first.pop("status"))
         for key, value in first.items():
             if value is None:
                 self.assertIsNone(again[key], key)

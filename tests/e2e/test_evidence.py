@@ -182,6 +182,140 @@ class ConditionallyStable(unittest.TestCase, Meaningful):
                 self.assertTrue(inside(truth["summary"]["gain_increase_margin_db"], interval, 0.5))
 
 
+# A type-0 loop whose gain rises above 1 between its two crossovers (24.0 Hz
+# and 382 Hz in its truth file; at most +4.9 dB) and stays clear of -1
+# (phase crossover at 1.18 kHz, +12.1 dB), measured with an injection so
+# weak against the sensor noise on x that every line has coherence below
+# 0.05 and most a relative uncertainty above 0.5.
+LOW_GAIN = """
+name = "low_gain"
+description = "low-gain type-0 loop, weak injection (test scenario, invented values)"
+[recording]
+sample_rate_hz = 8000
+duration_s = 20
+seed = 5
+[injection]
+kind = "noise"
+rms = 0.05
+[noise]
+x_rms = 1.0
+y_rms = 0.005
+[loop]
+delay_samples = 1
+[[loop.stage]]
+name = "band-pass"
+gain = 0.2
+zeros = [{ hz = 4 }]
+poles = [{ hz = 35 }, { hz = 300 }, { hz = 1000 }]
+discretize = "bilinear"
+"""
+
+
+class UnresolvedIsNotAbsent(unittest.TestCase):
+    """Crossovers the lines are too noisy to place are unresolved, not
+    "none in band", and the verdict does not call the loop stable."""
+
+    @classmethod
+    def setUpClass(cls):
+        cls.folder = tempfile.mkdtemp(prefix="loopaudit_evidence_")
+        scenario = os.path.join(cls.folder, "low_gain.toml")
+        with open(scenario, "w") as f:
+            f.write(LOW_GAIN)
+        run("synth", scenario, "--out-dir", cls.folder)
+        cls.stem = os.path.join(cls.folder, "low_gain")
+        cls.text = run("analyze", cls.stem + ".csv", "--json", cls.stem + ".json", "--report",
+                       cls.stem + ".html", "--quiet").stdout
+        cls.result, cls.truth = load(cls.stem + ".json"), load(cls.stem + ".truth.json")
+
+    @classmethod
+    def tearDownClass(cls):
+        shutil.rmtree(cls.folder, ignore_errors=True)
+
+    def test_truth_has_two_gain_crossovers(self):
+        self.assertEqual(len(self.truth["gain_crossovers"]), 2)
+        coherence = self.result["response"]["coherence"]
+        self.assertLess(max(coherence), 0.1)
+
+    def test_summary_says_unresolved(self):
+        self.assertEqual(self.result["gain_crossovers"], [])
+        summary = self.result["summary"]
+        self.assertIsNone(summary["gain_crossover_hz"])
+        for key in ("gain_crossover_hz", "phase_margin_deg", "delay_margin_s", "phase_crossover_hz", "gain_margin_db"):
+            self.assertEqual(summary["status"][key], "unresolved", key)
+        self.assertEqual(summary["status"]["modulus_margin"], "measured")
+        self.assertIn("margins.unresolved-crossings", codes(self.result))
+
+    def test_verdict_is_undecided(self):
+        stability = self.result["stability"]
+        self.assertEqual(stability["verdict"], "undecided")
+        self.assertIsNone(stability["closed_loop_rhp_poles"])
+
+    def test_table_and_report_say_unresolved(self):
+        rows = {line[2:20].strip(): line[20:].split() for line in self.text.splitlines() if line.startswith("  ")}
+        self.assertEqual(rows["gain crossover"][0], "unresolved", self.text)
+        self.assertEqual(rows["phase margin"][0], "unresolved", self.text)
+        self.assertNotIn("none in band", self.text)
+        with open(self.stem + ".html") as f:
+            self.assertNotIn("none in band", f.read())
+
+    def test_the_demos_keep_their_verdict(self):
+        # Noisy lines where |L| is far from 1 (the top of the servo's band)
+        # leave the verdict and the summary as they were.
+        run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", self.folder)
+        out = os.path.join(self.folder, "servo.json")
+        run("analyze", os.path.join(self.folder, "servo_velocity.csv"), "--json", out)
+        result = load(out)
+        self.assertEqual(result["stability"]["verdict"], "stable")
+        self.assertTrue(all(v == "measured" for k, v in result["summary"]["status"].items()
+                            if k != "gain_reduction_margin_db"), result["summary"]["status"])
+        self.assertEqual(result["summary"]["status"]["gain_reduction_margin_db"], "none-in-band")
+
+
+class OnTheMargin(unittest.TestCase):
+    """A table through -1 within rounding is undecided, said to sit on the margin."""
+
+    @classmethod
+    def setUpClass(cls):
+        cls.folder = tempfile.mkdtemp(prefix="loopaudit_evidence_")
+
+    @classmethod
+    def tearDownClass(cls):
+        shutil.rmtree(cls.folder, ignore_errors=True)
+
+    def table(self, name, values, freqs):
+        path = os.path.join(self.folder, name + ".csv")
+        with open(path, "w") as f:
+            f.write("freq_hz,re,im\n")
+            for fr, v in zip(freqs, values):
+                f.write(f"{fr!r},{v.real!r},{v.imag!r}\n")
+        out = os.path.join(self.folder, name + ".json")
+        run("table", path, "--json", out)
+        return load(out)
+
+    def test_through_minus_one_is_undecided(self):
+        # K/(s(s+1)(s+2)) with K = 6 passes through -1 at sqrt 2 rad/s
+        # (Routh-Hurwitz: stable for K < 6, two right-half-plane poles above).
+        # One line sits at sqrt 2 rad/s; the table is scaled so that it holds
+        # exactly -1, then multiplied by 1 - 1e-10 and 1 + 1e-10.
+        omega = math.sqrt(2.0) * 10.0 ** (np.arange(-150, 151) / 100.0)
+        s = 1j * omega
+        loop = 6.0 / (s * (s + 1.0) * (s + 2.0))
+        loop = loop * (-1.0 / loop[150])
+        loop[150] = -1.0
+        freqs = omega / (2.0 * math.pi)
+        for name, factor in (("exact", 1.0), ("below", 1.0 - 1e-10), ("above", 1.0 + 1e-10)):
+            with self.subTest(name=name):
+                result = self.table(name, loop * factor, freqs)
+                self.assertEqual(result["stability"]["verdict"], "undecided")
+                self.assertIn("sits on the stability margin", result["stability"]["reason"])
+                self.assertIn("margins.on-margin", codes(result))
+        for name, factor, verdict in (("stable", 0.5, "stable"), ("unstable", 2.0, "unstable")):
+            with self.subTest(name=name):
+                result = self.table(name, loop * factor, freqs)
+                self.assertEqual(result["stability"]["verdict"], verdict)
+                self.assertNotIn("margins.on-margin", codes(result))
+
+
 class WeakData(unittest.TestCase, Meaningful):
     """Too few averages: refused with the way out; few: no meaningless crossing."""
 

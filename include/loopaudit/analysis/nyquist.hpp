@@ -26,6 +26,18 @@
 
 namespace loopaudit {
 
+// |L| within this relative distance of 1 where L meets the negative real
+// axis is on the margin: the curve passes through -1 as far as the numbers
+// can tell, and the verdict is undecided even for exact lines. Double
+// arithmetic from a table's columns to |L| and angle L (dB or a ratio and
+// degrees to re and im, 20 log10, the unwrapped phase) loses about 1e-15;
+// a table printed with 10 significant digits, as frequency-response exports
+// with full resolution are, is rounded by up to 5e-10. 1e-9 covers both with
+// room and lies far below any margin an engineer would accept. A table
+// printed with fewer digits is uncertain to its last digit, which this does
+// not see.
+inline constexpr double kOnMarginRelative = 1e-9;
+
 struct StabilityOptions {
   int open_loop_rhp_poles = 0;
   // A crossing or band end this many standard deviations from |L| = 1 is

@@ -8,6 +8,7 @@
 #include <optional>
 #include <span>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "loopaudit/record/diagnostic.hpp"
@@ -134,8 +135,18 @@ struct PossibleMargin {
   const char* what() const;   // "a phase margin", "a gain reduction margin", "a gain increase margin"
 };
 
+// Why a summary value is what it is: measured (set), none in the band (the
+// curve clearly stays on one side of its level), or unresolved (unset, but
+// an unresolved stretch may hold it: the data cannot tell).
+enum class SummaryStatus { kMeasured, kNoneInBand, kUnresolved };
+inline constexpr NameTable<SummaryStatus, 3> kSummaryStatusNames{{{SummaryStatus::kMeasured, "measured"},
+                                                                  {SummaryStatus::kNoneInBand, "none-in-band"},
+                                                                  {SummaryStatus::kUnresolved, "unresolved"}}};
+static_assert(one_to_one(kSummaryStatusNames));
+const char* status_name(SummaryStatus status);
+
 // The loop's margins in a few numbers, each from the crossing it came from.
-// Unset: none in the band.
+// Unset: none in the band, or unresolved (status() says which).
 struct MarginSummary {
   std::optional<Estimate> gain_crossover_hz;   // the crossover with the smallest phase margin
   std::optional<Estimate> phase_margin_deg;    // the smallest over gain crossovers
@@ -150,6 +161,11 @@ struct MarginSummary {
   // Where the values above may not be the loop's: unresolved stretches that
   // could hold a smaller margin or one in the other direction.
   std::vector<PossibleMargin> possible;
+
+  // The status of the quantity of a summary key (summary_fields()): unset
+  // and named by a possible margin (or, for a crossover frequency and the
+  // smallest gain margin, by one of the margins read there) is unresolved.
+  SummaryStatus status(std::string_view key) const;
 };
 
 // The summary's quantities by the names that the JSON results (and limits)
