@@ -237,6 +237,9 @@ class WideFiles(Base):
     def test_a_recording_header_of_millions_of_columns_is_refused(self):
         self.refused_quickly("analyze", self.recording, "--sample-rate", RATE,
                              contains=(self.recording, "line 1", f"{self.COLUMNS} columns", "at most 1024"))
+        # The header named by --skip-rows is checked the same way.
+        self.refused_quickly("analyze", self.recording, "--sample-rate", RATE, "--skip-rows", 0,
+                             contains=("line 1", f"{self.COLUMNS} columns", "at most 1024"))
 
     def test_a_table_header_of_millions_of_columns_is_refused(self):
         self.refused_quickly("table", self.table, contains=(self.table, "line 1", f"{self.COLUMNS + 3} columns",
