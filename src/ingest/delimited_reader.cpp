@@ -1,12 +1,13 @@
 #include <algorithm>
 #include <array>
-#include <charconv>
 #include <cctype>
+#include <charconv>
 #include <cmath>
 #include <initializer_list>
 #include <iomanip>
 #include <sstream>
 
+#include "ingest/channel_setup.hpp"
 #include "ingest/header_search.hpp"
 #include "ingest/line_reader.hpp"
 #include "ingest/number_text.hpp"
@@ -316,12 +317,13 @@ bool DelimitedReader::next(SampleBlock& block) {
   if (finished_) return false;
   block.first_sample = rows_;
   block.channels.resize(channel_names_.size());
+  const std::size_t rows = detail::rows_per_block(options_.block_size, channel_names_.size());
   for (auto& samples : block.channels) {
     samples.clear();
-    samples.reserve(options_.block_size);
+    samples.reserve(rows);
   }
   std::string_view line;
-  while (block.size() < options_.block_size && next_line(line)) {
+  while (block.size() < rows && next_line(line)) {
     if (is_skipped(line)) continue;
     parse_row(line, block);
     ++rows_;

@@ -209,6 +209,11 @@ void Hdf5Reader::open_matrix(const std::string& name) {
 }
 
 void Hdf5Reader::open_columns(const std::vector<std::string>& names) {
+  if (names.size() > kMaxChannels) {
+    throw ConfigError(path_ + ": " + std::to_string(names.size()) +
+                      " datasets named (datasets under [input]); a recording may have at most " +
+                      std::to_string(kMaxChannels) + " channels");
+  }
   for (const auto& name : names) {
     datasets_.push_back(open_dataset(name));
     const auto dims = dimensions(datasets_.back().get());
@@ -222,7 +227,16 @@ void Hdf5Reader::open_columns(const std::vector<std::string>& names) {
   if (length_ == 0) throw InputError(path_ + ": the datasets are empty");
   RecordingOptions named = options_;
   if (named.channel_names.empty()) {
-    for (const auto& name : names) named.channel_names.push_back(last_component(name));
+    for (const auto& name : names) {
+      const std::string channel = last_component(name);
+      for (std::size_t j = 0; j < named.channel_names.size(); ++j) {
+        if (named.channel_names[j] != channel) continue;
+        throw ConfigError(
+            path_ + ": datasets '" + names[j] + "' and '" + name + "' would both be channel '" + channel +
+            "' (the last part of their paths); name the channels with --channels (or channels under [input])");
+      }
+      named.channel_names.push_back(channel);
+    }
   }
   setup_ = channel_setup(named, names.size(), path_);
 }
@@ -251,9 +265,9 @@ void Hdf5Reader::read_slab(hid_t dataset, std::vector<hsize_t> offset, std::vect
 }
 
 bool Hdf5Reader::next(SampleBlock& block) {
-  const std::size_t n = std::min(options_.block_size, length_ - read_);
-  if (n == 0) return false;
   const std::size_t channels = setup_.names.size();
+  const std::size_t n = std::min(rows_per_block(options_.block_size, channels), length_ - read_);
+  if (n == 0) return false;
   block.first_sample = read_;
   block.channels.resize(channels);
   if (datasets_.size() == 1 && options_.hdf5.datasets.empty()) {

@@ -13,10 +13,13 @@ namespace {
 // Rows of numbers checked under a header candidate.
 constexpr std::size_t kRowsChecked = 3;
 
+// The cells of a line, at most kMaxColumns + 2 of them: enough to compare a
+// candidate header with the rows under it, and to tell a line too wide.
 std::vector<std::string_view> cells_of(std::string_view line, char delimiter) {
   std::vector<std::string_view> cells;
   std::size_t start = 0;
   for (;;) {
+    if (cells.size() > kMaxColumns + 1) return cells;
     const auto stop = line.find(delimiter, start);
     cells.push_back(line.substr(start, stop == std::string_view::npos ? std::string_view::npos : stop - start));
     if (stop == std::string_view::npos) return cells;
@@ -96,13 +99,26 @@ std::string without_last_cell(const std::string& line, char delimiter) {
   return line.substr(0, line.rfind(delimiter));
 }
 
+// Whether the line ends with a delimiter and blanks (an empty last cell),
+// and its number of columns without that cell; counted, not split.
+std::pair<std::size_t, bool> columns_of(std::string_view line, char delimiter) {
+  const auto delimiters = static_cast<std::size_t>(std::count(line.begin(), line.end(), delimiter));
+  const bool trailing = delimiters > 0 && blank(line.substr(line.rfind(delimiter) + 1));
+  return {delimiters + 1 - (trailing ? 1 : 0), trailing};
+}
+
 FoundHeader split_at(std::vector<NumberedLine>& lines, std::size_t header, std::optional<char> delimiter,
-                     std::optional<std::size_t> units = std::nullopt) {
+                     const std::string& path, std::optional<std::size_t> units = std::nullopt) {
   FoundHeader found;
   found.header = std::move(lines[header]);
   found.delimiter = delimiter.value_or(detect_delimiter(found.header.text));
-  const auto cells = cells_of(found.header.text, found.delimiter);
-  found.trailing_delimiter = cells.size() > 1 && blank(cells.back());
+  const auto [columns, trailing] = columns_of(found.header.text, found.delimiter);
+  if (columns > kMaxColumns) {
+    throw InputError(
+        path + ": line " + std::to_string(found.header.number) + ": the header has " + std::to_string(columns) +
+        " columns; a text recording or a frequency-response table may have at most " + std::to_string(kMaxColumns));
+  }
+  found.trailing_delimiter = trailing;
   if (found.trailing_delimiter) found.header.text = without_last_cell(found.header.text, found.delimiter);
   if (units) {
     found.units = std::move(lines[*units]);
@@ -122,14 +138,15 @@ bool read_line(LineReader& lines, std::vector<NumberedLine>& into) {
 }
 
 // The header is the last line read; a line of units may follow it.
-FoundHeader split_at_given(LineReader& lines, std::vector<NumberedLine>& read, std::optional<char> delimiter) {
+FoundHeader split_at_given(LineReader& lines, std::vector<NumberedLine>& read, std::optional<char> delimiter,
+                           const std::string& path) {
   const std::size_t header = read.size() - 1;
   const char d = delimiter.value_or(detect_delimiter(read[header].text));
   const std::size_t width = cells_of(read[header].text, d).size();
   while (read_line(lines, read) && is_skipped_line(read.back().text)) {
   }
   const bool units = read.size() > header + 1 && units_only(read.back().text, d, width);
-  return split_at(read, header, delimiter, units ? std::optional(read.size() - 1) : std::nullopt);
+  return split_at(read, header, delimiter, path, units ? std::optional(read.size() - 1) : std::nullopt);
 }
 
 }  // namespace
@@ -165,20 +182,28 @@ FoundHeader find_header(LineReader& lines, const std::string& path, std::optiona
                          " lines skipped (--skip-rows, lines_before_header)");
       }
     } while (is_skipped_line(read.back().text));
-    return split_at_given(lines, read, delimiter);
+    return split_at_given(lines, read, delimiter, path);
   }
-  while (read.size() < kHeaderSearchLines && read_line(lines, read)) {
+  bool at_end = false;
+  for (std::size_t bytes = 0; read.size() < kHeaderSearchLines && bytes < kHeaderSearchBytes;) {
+    if (!read_line(lines, read)) {
+      at_end = true;
+      break;
+    }
+    bytes += read.back().text.size();
   }
-  if (const auto header = confirmed_header(read, delimiter)) return split_at(read, header->header, delimiter, header->units);
+  if (const auto header = confirmed_header(read, delimiter)) {
+    return split_at(read, header->header, delimiter, path, header->units);
+  }
   const auto first = std::find_if(read.begin(), read.end(), [](const NumberedLine& l) { return !is_skipped_line(l.text); });
-  if (first == read.end() && read.size() < kHeaderSearchLines) {
+  if (first == read.end() && at_end) {
     throw InputError(path + ": the file is empty; a header line naming the columns is needed");
   }
   if (first == read.end()) {
-    throw InputError(path + ": the first " + std::to_string(kHeaderSearchLines) +
+    throw InputError(path + ": the first " + std::to_string(read.size()) +
                      " lines are blank or comments; a header line naming the columns is needed");
   }
-  FoundHeader found = split_at(read, static_cast<std::size_t>(first - read.begin()), delimiter);
+  FoundHeader found = split_at(read, static_cast<std::size_t>(first - read.begin()), delimiter, path);
   found.searched = true;
   return found;
 }

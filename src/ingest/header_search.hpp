@@ -13,8 +13,16 @@
 
 namespace loopaudit::detail {
 
-// The most lines read while looking for the header.
+// The most lines read while looking for the header, and the most bytes
+// they may hold together (the search stops at whichever comes first).
 inline constexpr std::size_t kHeaderSearchLines = 100;
+inline constexpr std::size_t kHeaderSearchBytes = std::size_t{16} << 20;
+
+// The most columns a text recording or a frequency-response table may have
+// (a delimiter at the end of every line aside). A wider header is refused
+// (InputError naming the file, the line, the count and this limit) before
+// any per-column storage is taken; rows are split no further than this.
+inline constexpr std::size_t kMaxColumns = 1024;
 
 struct NumberedLine {
   std::size_t number = 0;  // 1-based line number in the file
@@ -43,7 +51,8 @@ struct FoundHeader {
 // it is taken as such). An empty last cell in the header, as a delimiter at
 // the end of every line leaves, is allowed when the rows end the same way.
 // Blank lines and lines starting with '#' or '%' are never the header. Throws
-// InputError for a file with no such line.
+// InputError for a file with no such line, or a header of more than
+// kMaxColumns columns.
 FoundHeader find_header(LineReader& lines, const std::string& path, std::optional<std::size_t> lines_before_header,
                         std::optional<char> delimiter);
 

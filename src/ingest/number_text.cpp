@@ -130,10 +130,10 @@ std::pair<std::string, std::string> split_unit(const std::string& column) {
   return {std::string(trim(column.substr(0, open))), std::string(trim(column.substr(open + 1, column.size() - open - 2)))};
 }
 
-std::vector<std::string> split_names(std::string_view header, char delimiter) {
+std::vector<std::string> split_names(std::string_view header, char delimiter, std::size_t max_cells) {
   std::vector<std::string> names;
   std::size_t start = 0;
-  for (;;) {
+  while (names.size() < max_cells) {
     const auto stop = header.find(delimiter, start);
     names.emplace_back(trim(header.substr(start, stop - start)));
     if (stop == std::string_view::npos) break;

@@ -37,7 +37,8 @@ char detect_delimiter(std::string_view header);
 // "vout [V]", "vout (V)" or "vout / V" -> name "vout", unit "V"; no unit: "".
 std::pair<std::string, std::string> split_unit(const std::string& column);
 
-// Cells of a header line, trimmed.
-std::vector<std::string> split_names(std::string_view header, char delimiter);
+// Cells of a header line, trimmed; no more than the first max_cells.
+std::vector<std::string> split_names(std::string_view header, char delimiter,
+                                     std::size_t max_cells = static_cast<std::size_t>(-1));
 
 }  // namespace loopaudit::detail

@@ -128,7 +128,8 @@ void RawReader::describe_layout() {
 }
 
 bool RawReader::next(SampleBlock& block) {
-  const std::size_t frames = std::min(options_.block_size, frames_total_ - frames_read_);
+  const std::size_t frames =
+      std::min(rows_per_block(options_.block_size, setup_.names.size()), frames_total_ - frames_read_);
   if (frames == 0) {
     summary_.sample_rate_hz = *options_.sample_rate_hz;
     summary_.sample_count = frames_read_;

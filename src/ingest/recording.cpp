@@ -1,10 +1,12 @@
 #include "loopaudit/ingest/recording.hpp"
 
 #include <algorithm>
-#include <sstream>
 #include <cctype>
 #include <cmath>
 #include <filesystem>
+#include <map>
+#include <sstream>
+#include <string_view>
 
 #include "ingest/channel_setup.hpp"
 #include "ingest/readers.hpp"
@@ -87,6 +89,35 @@ class CalibratedSource final : public SampleSource {
   std::string scaled_;  // "'y' multiplied by -10", for the summary
 };
 
+// A pipe, a terminal or a socket: it is read as it comes, once, and says so.
+class OnePassSource final : public SampleSource {
+ public:
+  OnePassSource(std::unique_ptr<SampleSource> inner, std::string kind)
+      : inner_(std::move(inner)), kind_(std::move(kind)) {}
+  const std::vector<std::string>& channel_names() const override { return inner_->channel_names(); }
+  std::vector<std::string> channel_units() const override { return inner_->channel_units(); }
+  const std::string& origin() const override { return inner_->origin(); }
+  SourceSummary summary() const override { return inner_->summary(); }
+  bool next(SampleBlock& block) override { return inner_->next(block); }
+  std::string one_pass_kind() const override { return kind_; }
+
+ private:
+  std::unique_ptr<SampleSource> inner_;
+  std::string kind_;
+};
+
+// What a path is when it cannot be opened again at its start; empty for a
+// file (or a path that does not exist: the reader says so).
+std::string one_pass_kind(const std::string& path) {
+  std::error_code ec;
+  const auto status = std::filesystem::status(path, ec);
+  if (ec) return {};
+  if (std::filesystem::is_fifo(status)) return "a pipe";
+  if (std::filesystem::is_character_file(status)) return "a character device (a terminal or a stream)";
+  if (std::filesystem::is_socket(status)) return "a socket";
+  return {};
+}
+
 std::unique_ptr<SampleSource> open_format(const std::string& path, const RecordingOptions& options) {
   const RecordingFormat format = options.format == RecordingFormat::kAuto ? format_from_extension(path) : options.format;
   switch (format) {
@@ -142,19 +173,51 @@ void ChannelSetup::calibrate(std::size_t c, std::vector<double>& samples) const 
 }
 
 ChannelSetup channel_setup(const RecordingOptions& options, std::size_t count, const std::string& path) {
+  if (count > kMaxChannels) {
+    throw InputError(path + ": " + std::to_string(count) + " channels; a recording may have at most " +
+                     std::to_string(kMaxChannels));
+  }
   ChannelSetup setup;
   setup.names = default_channel_names(count);
-  if (options.channel_names.size() > count) {
-    throw ConfigError(path + ": " + std::to_string(options.channel_names.size()) + " channel names given but the file has " +
-                      std::to_string(count) + " channels");
+  // Fewer names than channels would leave the rest to the default names,
+  // which may silently give a role to the wrong channel.
+  if (!options.channel_names.empty() && options.channel_names.size() != count) {
+    throw ConfigError(path + ": " + std::to_string(options.channel_names.size()) +
+                      " channel names given but the file has " + std::to_string(count) +
+                      " channels (--channels, or channels under [input]); name every channel, in file order");
   }
-  std::copy(options.channel_names.begin(), options.channel_names.end(), setup.names.begin());
+  if (!options.channel_names.empty()) setup.names = options.channel_names;
   setup.scale = expand(options.scale, count, 1.0, "scale", path);
   setup.offset = expand(options.offset, count, 0.0, "offset", path);
   return setup;
 }
 
 }  // namespace detail
+
+namespace {
+
+// A role could only ever reach the first of two channels of one name; a
+// raw file's frame is as wide as the names say, so their count is capped.
+void check_channel_names(const std::vector<std::string>& names) {
+  const std::string where = " (--channels, or channels under [input])";
+  if (names.size() > kMaxChannels) {
+    throw ConfigError(std::to_string(names.size()) + " channel names given" + where +
+                      "; a recording may have at most " + std::to_string(kMaxChannels) + " channels");
+  }
+  std::map<std::string_view, std::size_t> seen;  // name -> its place, from 1
+  for (std::size_t i = 0; i < names.size(); ++i) {
+    if (names[i].empty()) {
+      throw ConfigError("channel name " + std::to_string(i + 1) + " of " + std::to_string(names.size()) + where +
+                        " is empty; give every channel a name");
+    }
+    const auto [it, added] = seen.emplace(names[i], i + 1);
+    if (added) continue;
+    throw ConfigError("the channel name '" + names[i] + "' is given twice (names " + std::to_string(it->second) +
+                      " and " + std::to_string(i + 1) + where + "); give each channel its own name");
+  }
+}
+
+}  // namespace
 
 void RecordingOptions::validate() const {
   if (sample_rate_hz && !plausible_sample_rate(*sample_rate_hz)) {
@@ -163,6 +226,7 @@ void RecordingOptions::validate() const {
   if (block_size < 1 || block_size > kMaxBlockSize) {
     throw setting_out_of_range("block_size", block_size, "1 to " + std::to_string(kMaxBlockSize) + " samples");
   }
+  check_channel_names(channel_names);
   for (const double v : scale) {
     if (!std::isfinite(v)) throw setting_out_of_range("scale", v, "finite numbers");
   }
@@ -178,8 +242,13 @@ std::unique_ptr<SampleSource> open_recording(const std::string& path, const Reco
   options.validate();
   auto source = open_format(path, options);
   const bool text = dynamic_cast<CalibratedSource*>(source.get()) != nullptr;
-  if (text || options.named_scale.empty()) return source;
-  return std::make_unique<CalibratedSource>(std::move(source), options, false);
+  if (!text && !options.named_scale.empty()) {
+    source = std::make_unique<CalibratedSource>(std::move(source), options, false);
+  }
+  if (auto kind = one_pass_kind(path); !kind.empty()) {
+    source = std::make_unique<OnePassSource>(std::move(source), std::move(kind));
+  }
+  return source;
 }
 
 }  // namespace loopaudit

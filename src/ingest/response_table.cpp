@@ -172,7 +172,7 @@ Layout layout_of(const Header& h, const TableColumns& c) {
 // cells each hold one complex value, "(20.5dB,-90.3°)" or "(re,im)".
 // nullopt when the first row has no such cell.
 std::optional<Layout> complex_layout(const Header& h, const TableColumns& c, std::string_view first_row, char delimiter) {
-  std::vector<std::string> cells = detail::split_names(first_row, delimiter);
+  std::vector<std::string> cells = detail::split_names(first_row, delimiter, h.cells.size());
   std::vector<std::size_t> complex;
   for (std::size_t i = 0; i < cells.size() && i < h.cells.size(); ++i) {
     if (detail::parse_complex_cell(cells[i])) complex.push_back(i);
@@ -208,6 +208,10 @@ class RowParser {
   void split(std::string_view line, std::size_t line_number) {
     cells_.clear();
     line_number_ = line_number;
+    // Counted before splitting: a row of millions of cells takes no storage.
+    const std::size_t expected = header_.cells.size() + (header_.trailing_delimiter ? 1 : 0);
+    const auto counted = static_cast<std::size_t>(std::count(line.begin(), line.end(), delimiter_)) + 1;
+    if (counted > expected) fail_width(counted);
     std::size_t start = 0;
     while (start <= line.size()) {
       const auto stop = std::min(line.find(delimiter_, start), line.size());
@@ -215,12 +219,14 @@ class RowParser {
       start = stop + 1;
     }
     if (header_.trailing_delimiter) drop_last_cell();
-    if (cells_.size() != header_.cells.size()) {
-      std::ostringstream message;
-      message << header_.path << ": line " << line_number << ": " << cells_.size() << " cells where the header (line "
-              << header_.line << ") names " << header_.cells.size();
-      throw InputError(message.str());
-    }
+    if (cells_.size() != header_.cells.size()) fail_width(cells_.size());
+  }
+
+  [[noreturn]] void fail_width(std::size_t cells) const {
+    std::ostringstream message;
+    message << header_.path << ": line " << line_number_ << ": " << cells << " cells where the header (line "
+            << header_.line << ") names " << header_.cells.size();
+    throw InputError(message.str());
   }
 
   double number(std::size_t column) const {

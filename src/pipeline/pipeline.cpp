@@ -114,32 +114,53 @@ bool sign_doubted(const Diagnostics& findings) {
   return std::any_of(findings.begin(), findings.end(), [](const Diagnostic& d) { return d.code == "loop.sign-suspect"; });
 }
 
-// Blocks already read, then the rest of a source: lets the analysis start
-// from what detection read, in the same pass over the file.
+// Blocks already read, then the rest of a source (none when it has ended):
+// lets the analysis start from what detection read, in the same pass.
 class ReplaySource final : public SampleSource {
  public:
-  ReplaySource(std::vector<SampleBlock> blocks, SampleSource& rest) : blocks_(std::move(blocks)), rest_(rest) {}
+  ReplaySource(std::vector<SampleBlock> blocks, SampleSource& rest, bool rest_ended)
+      : blocks_(std::move(blocks)), rest_(rest), rest_ended_(rest_ended) {}
   const std::vector<std::string>& channel_names() const override { return rest_.channel_names(); }
   std::vector<std::string> channel_units() const override { return rest_.channel_units(); }
   const std::string& origin() const override { return rest_.origin(); }
   SourceSummary summary() const override { return rest_.summary(); }
+  std::string one_pass_kind() const override { return rest_.one_pass_kind(); }
   bool next(SampleBlock& block) override {
     if (next_ < blocks_.size()) {
       block = std::move(blocks_[next_++]);
       return true;
     }
-    return rest_.next(block);
+    return !rest_ended_ && rest_.next(block);
   }
 
  private:
   std::vector<SampleBlock> blocks_;
   std::size_t next_ = 0;
   SampleSource& rest_;
+  bool rest_ended_;
 };
 
-// Blocks kept for replay: enough for the detection prefix with any reader's
-// block size (readers hand out at most 65536 samples a block).
-constexpr std::size_t kMaxPrefixBlocks = 64;
+// What is kept for replay: the detection prefix and more, in rows and in
+// values (rows times channels, 64 MiB of doubles). Past either the kept
+// blocks are let go and the record is analysed in a second pass; before,
+// every block read is kept, so that none is lost in the replay whatever the
+// reader's block size.
+constexpr std::size_t kMaxPrefixRows = 4 * ExcitationDetector::kPeriodSearchSamples;
+constexpr std::size_t kMaxPrefixValues = std::size_t{1} << 23;
+
+// A stream that cannot be opened again (a pipe): refused, before the pass
+// that would open it again, with what it is and why it would be read twice.
+void refuse_second_pass(const SampleSource& source, ExcitationKind kind) {
+  const std::string stream = source.one_pass_kind();
+  if (stream.empty()) return;
+  const std::string why = kind == ExcitationKind::kStepped
+                              ? "a stepped sine is read twice (once to find its dwells, then to fit them)"
+                          : kind == ExcitationKind::kChirp
+                              ? "a chirp is read twice (once to find its band, then to analyse it)"
+                              : "this recording is read twice (once to find its excitation, then to analyse it)";
+  throw InputError(source.origin() + " is " + stream + " and cannot be read twice; " + why +
+                   ": save it to a file first and analyse the file");
+}
 
 }  // namespace
 
@@ -309,12 +330,30 @@ AnalysisResult run_kind(SampleSource& source, const AnalysisOptions& options, Ex
 // A noise or periodic injection shows what it is within its first
 // ExcitationDetector::kPeriodSearchSamples samples: those are kept in
 // `prefix`, and the analysis goes on from them in the same pass. Tones
-// (stepped, chirp) and given dwells need the whole record (`whole` is set).
+// (stepped, chirp) and given dwells need the whole record (`whole` is set);
+// when it fits in the prefix's bounds, it is analysed from the prefix, else
+// read a second time.
 struct FirstPass {
   ExcitationDetector detector;
   MarkerDwells marker;
   std::vector<SampleBlock> prefix;
+  bool prefix_whole = true;  // `prefix` holds every block read so far
+  std::size_t prefix_rows = 0;
   std::optional<SourceSummary> whole;
+
+  // Keeps the block for replay while the prefix stays within its bounds;
+  // past them lets the prefix go. Returns whether the prefix is still whole.
+  bool keep(const SampleBlock& block) {
+    const std::size_t rows = prefix_rows + block.size();
+    if (prefix_whole && rows <= kMaxPrefixRows && rows * block.channels.size() <= kMaxPrefixValues) {
+      prefix.push_back(block);
+      prefix_rows = rows;
+      return true;
+    }
+    prefix_whole = false;
+    std::vector<SampleBlock>().swap(prefix);
+    return false;
+  }
 };
 
 FirstPass first_pass(SampleSource& source, const AnalysisOptions& options, bool needs_whole) {
@@ -329,8 +368,8 @@ FirstPass first_pass(SampleSource& source, const AnalysisOptions& options, bool 
       [&](const RoleChannels& selected, const SampleBlock& block) {
         pass.detector.push(selected[0]);
         if (has_marker) pass.marker.push(block.channels[marker_index], block.first_sample);
-        if (needs_whole) return true;
-        if (pass.prefix.size() < kMaxPrefixBlocks) pass.prefix.push_back(block);
+        const bool kept = pass.keep(block);
+        if (needs_whole || !kept) return true;
         decided = pass.detector.samples_seen() >= ExcitationDetector::kPeriodSearchSamples && !pass.detector.looks_tonal();
         return !decided;
       },
@@ -418,14 +457,15 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
     return run_kind(*source, options, *options.excitation, {}, 0.0, progress);
   }
   const bool dwells_given = !options.schedule_path.empty() || !options.marker_channel.empty();
+  const bool needs_whole = dwells_given || options.excitation == ExcitationKind::kStepped;
   auto source = open();
-  FirstPass pass = first_pass(*source, options, dwells_given || options.excitation == ExcitationKind::kStepped);
+  FirstPass pass = first_pass(*source, options, needs_whole);
   // Without the whole first pass the sample rate is known only at the end:
   // the plan is made in cycles per sample and rescaled then.
   const double sample_rate_hz = pass.whole ? pass.whole->sample_rate_hz : 1.0;
   ExcitationPlan plan = pass.detector.finish(sample_rate_hz);
   if (!pass.whole) {  // go on in the same pass: replay the prefix, then the rest
-    ReplaySource replay(std::move(pass.prefix), *source);
+    ReplaySource replay(std::move(pass.prefix), *source, false);
     AnalysisResult result =
         run_kind(replay, options, options.excitation.value_or(plan.kind), plan, sample_rate_hz, progress);
     plan.rescale_frequencies(result.record->sample_rate_hz);
@@ -439,8 +479,16 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
     plan.dwells = pass.marker.finish();
   }
   const ExcitationKind kind = dwells_given ? ExcitationKind::kStepped : options.excitation.value_or(plan.kind);
-  source = open();
-  AnalysisResult result = run_kind(*source, options, kind, plan, sample_rate_hz, progress);
+  // A record short enough to be kept whole is analysed from memory; any
+  // other is read again.
+  std::unique_ptr<SampleSource> replay;
+  if (pass.prefix_whole) {
+    replay = std::make_unique<ReplaySource>(std::move(pass.prefix), *source, true);
+  } else {
+    refuse_second_pass(*source, kind);
+    source = open();
+  }
+  AnalysisResult result = run_kind(replay ? *replay : *source, options, kind, plan, sample_rate_hz, progress);
   result.excitation = with_excited_lines(std::move(plan), result);
   return result;
 }

@@ -55,10 +55,18 @@ struct Hdf5Layout {
   std::size_t channels_needed = 3;
 };
 
+// The most channels a recording may have (raw, WAV, HDF5, and the columns
+// of a text recording besides the time): per-channel buffers are taken before
+// the first sample is read, so a wider file is refused (InputError; too many
+// channel names, ConfigError).
+inline constexpr std::size_t kMaxChannels = 1024;
+
 struct RecordingOptions {
   RecordingFormat format = RecordingFormat::kAuto;  // auto: by file extension
   // Channel names in file order for formats without names (raw, WAV,
-  // unlabelled HDF5); default z, x, y, then ch4, ch5, ...
+  // unlabelled HDF5); default z, x, y, then ch4, ch5, ... Given, they must be
+  // as many as the file's channels (a raw file: they set the count), none
+  // empty or repeated, at most kMaxChannels.
   std::vector<std::string> channel_names;
   std::optional<double> sample_rate_hz;  // required for raw; overrides what a file says
   std::vector<double> scale;             // per channel (one value: all channels); default 1
@@ -78,7 +86,8 @@ struct RecordingOptions {
 };
 
 // Throws InputError when the file cannot be opened or does not match its
-// format, ConfigError when the options do not fit the file.
+// format, ConfigError when the options do not fit the file. A pipe, a
+// character device or a socket gives a source whose one_pass_kind() says so.
 std::unique_ptr<SampleSource> open_recording(const std::string& path, const RecordingOptions& options);
 
 // The names channels get when the file and the options give none.

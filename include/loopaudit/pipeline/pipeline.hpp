@@ -27,7 +27,11 @@ using SourceOpener = std::function<std::unique_ptr<SampleSource>()>;
 // The full analysis: finds the excitation from the injection (one pass),
 // unless options.excitation says it, then runs its estimator (a second pass):
 // broadband and chirp by Welch averaging, periodic by averaging whole
-// periods, stepped by sine fits per dwell.
+// periods, stepped by sine fits per dwell. Noise and periodic injections are
+// analysed in the pass that finds them (from their first 65536 samples on),
+// and so is any record of at most 262144 samples (kept in memory); only a
+// longer stepped sine or chirp is opened and read again, and when the source
+// cannot be (one_pass_kind(): a pipe) that is an InputError saying so.
 AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options, const ProgressFunction& progress = {});
 
 // What a recording holds, without the analysis: the excitation and the

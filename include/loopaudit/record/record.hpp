@@ -47,6 +47,10 @@ class SampleSource {
   virtual SourceSummary summary() const = 0;
   // The file or stream the samples come from, for messages.
   virtual const std::string& origin() const = 0;
+  // Empty when the source can be opened again and read from its start (a
+  // file); otherwise what it is ("a pipe"), for the message of an analysis
+  // that would have to read it twice.
+  virtual std::string one_pass_kind() const { return {}; }
 };
 
 // A whole recording in memory (synthesis, tests, small files).
