@@ -6,11 +6,11 @@
 
 #include "loopaudit/error.hpp"
 #include "loopaudit/format.hpp"
-#include "loopaudit/units.hpp"
 #include "loopaudit/excitation/schedule.hpp"
 #include "loopaudit/ingest/quality.hpp"
 #include "loopaudit/loop/loop.hpp"
 #include "loopaudit/spectral/estimator.hpp"
+#include "pipeline/refusals.hpp"
 
 namespace loopaudit {
 namespace {
@@ -148,23 +148,6 @@ class ReplaySource final : public SampleSource {
 constexpr std::size_t kMaxPrefixRows = 4 * ExcitationDetector::kPeriodSearchSamples;
 constexpr std::size_t kMaxPrefixValues = std::size_t{1} << 23;
 
-// A stream that cannot be opened again (a pipe): refused, before the pass
-// that would open it again, with what it is and why it would be read twice.
-void refuse_second_pass(const SampleSource& source, ExcitationKind kind) {
-  const std::string stream = source.one_pass_kind();
-  if (stream.empty()) return;
-  const std::string why = kind == ExcitationKind::kStepped
-                              ? "a stepped sine is read twice (once to find its dwells, then to fit them)"
-                          : kind == ExcitationKind::kChirp
-                              ? "a chirp is read twice (once to find its band, then to analyse it)"
-                              : "this recording is read twice (once to find its excitation, then to analyse it)";
-  throw InputError(source.origin() + " is " + stream + " and cannot be read twice; " + why +
-                   ": save it to a file first and analyse the file");
-}
-
-}  // namespace
-
-namespace {
 
 // The block loop, the one place that reads a source: channel roles, the
 // screening (when given), then `consume` for each block of (injection, x, y)
@@ -182,71 +165,20 @@ void stream(SampleSource& source, const ChannelRoles& roles, QualityMonitor* qua
     if (progress) progress(samples);
     if (!consume(selected, block)) return;
   }
-  // The rate a file states or its time column gives is known only now.
-  const double rate_hz = source.summary().sample_rate_hz;
-  if (rate_hz != 0.0 && !plausible_sample_rate(rate_hz)) {
-    std::ostringstream message;
-    message << source.origin() << ": the file gives a sample rate of " << rate_hz << " Hz, outside the rates taken ("
-            << kSampleRateRangeText << "); if the file is wrong, give the rate with --sample-rate HZ";
-    throw InputError(message.str());
-  }
+  detail::refuse_implausible_rate(source);  // the rate a file states or its time column gives is known only now
 }
 
-// The largest and smallest peak a channel may have: the spectra square the
-// samples and sum them over a segment, and beyond these the sums would leave
-// double precision's range (come out 0 or infinite) and the run would end in
-// a message about a flat channel instead of the real problem.
-constexpr double kSmallestPeak = 1e-100;
-constexpr double kLargestPeak = 1e100;
-
-void refuse_out_of_scale(const QualityMonitor& quality, const ChannelRoles& roles, const std::string& origin) {
-  const std::string* names[] = {&roles.injection, &roles.x, &roles.y};
-  for (const std::size_t c : {1, 2, 0}) {  // x and y first: the injection may be their difference
-    const double peak = quality.peak_magnitude(c);
-    if (peak == 0.0 || (peak >= kSmallestPeak && peak <= kLargestPeak)) continue;
-    std::ostringstream message;
-    message << origin << ": channel '" << *names[c] << "' peaks at " << peak << ", outside " << kSmallestPeak
-            << " to " << kLargestPeak << ", where its spectra can be computed in double precision; give it a scale "
-            << "in the right units (--scale " << *names[c] << "=" << std::pow(10.0, -std::round(std::log10(peak)))
-            << ")";
-    throw NumericalError(message.str());
-  }
-}
 
 QualityMonitor quality_monitor(const SampleSource& source, const AnalysisOptions& options) {
   return QualityMonitor({options.roles.injection, options.roles.x, options.roles.y}, kReferenceChannel, source.origin());
 }
 
-// Refuses a response averaged too few times for its uncertainty to mean
-// anything, saying what to change.
-void refuse_weak(const Response& measured, const AnalysisOptions& options, std::size_t sample_count,
-                 const std::string& origin) {
-  const ResponseMethod& m = measured.method;
-  const bool averaged = m.kind == ResponseMethodKind::kWelch || m.kind == ResponseMethodKind::kPeriodic;
-  if (!averaged || m.effective_averages >= options.min_effective_averages) return;
-  std::ostringstream message;
-  message << origin << ": only " << format_fixed(m.effective_averages, 1) << " effective averages ("
-          << m.averages << (m.kind == ResponseMethodKind::kWelch ? " segment" : " period") << (m.averages == 1 ? "" : "s")
-          << "); at least "
-          << options.min_effective_averages << " are needed for the lines' uncertainty, and so the margins and "
-          << "their intervals, to mean anything. ";
-  if (m.kind == ResponseMethodKind::kWelch) {
-    const WelchOptions& w = options.welch;
-    const std::size_t segment = suggested_segment(sample_count, w.overlap, w.segment_length / 2);
-    const auto averages_at = [&](std::size_t length) { return segments_of(sample_count, w.overlap, length); };
-    message << "Use shorter segments (--segment " << segment << " gives " << std::lround(averages_at(segment))
-            << " segments) or a longer record";
-  } else {
-    message << "Record more periods, or skip fewer (skip_periods in the settings file)";
-  }
-  throw NumericalError(message.str());
-}
 
 // The stages after the response: loop, margins (from the excited band unless
 // a band is given), findings.
 AnalysisResult finish_result(SampleSource& source, const AnalysisOptions& options, SourceSummary summary,
                              const Response& measured, Diagnostics findings, std::optional<Interval> excited_hz) {
-  refuse_weak(measured, options, summary.sample_count, source.origin());
+  detail::refuse_weak(measured, options, summary.sample_count, source.origin());
   AnalysisResult result;
   result.origin = source.origin();
   result.options = options;
@@ -315,7 +247,7 @@ AnalysisResult run_kind(SampleSource& source, const AnalysisOptions& options, Ex
         return true;
       },
       progress);
-  refuse_out_of_scale(quality, options.roles, source.origin());
+  detail::refuse_out_of_scale(quality, options.roles, source.origin());
   SourceSummary summary = source.summary();
   Diagnostics findings = quality.findings();
   const Response measured =
@@ -485,7 +417,7 @@ AnalysisResult analyze(const SourceOpener& open, const AnalysisOptions& options,
   if (pass.prefix_whole) {
     replay = std::make_unique<ReplaySource>(std::move(pass.prefix), *source, true);
   } else {
-    refuse_second_pass(*source, kind);
+    detail::refuse_second_pass(*source, kind);
     source = open();
   }
   AnalysisResult result = run_kind(replay ? *replay : *source, options, kind, plan, sample_rate_hz, progress);
