@@ -2,40 +2,19 @@
 the message; sizes are checked before memory is taken; values whose spectra
 double precision cannot hold are refused for what they are."""
 import os
-import resource
-import shutil
-import subprocess
-import sys
-import tempfile
 import unittest
 
 import numpy as np
 
-from cli_common import BINARY, DEMO, INPUT, NO_RESULT, SETTINGS, USAGE, ExpectsFailure, run
+from cli_common import DEMO, INPUT, NO_RESULT, SETTINGS, USAGE, ExpectsFailure, TempFolder, run, run_measured
 
 
-def peak_rss_mib(*args):
-    """Runs loopaudit with args in a child of a fresh Python and returns (result, its peak RSS in MiB)."""
-    probe = ("import resource, subprocess, sys\n"
-             "r = subprocess.run(sys.argv[1:], capture_output=True, text=True)\n"
-             "sys.stderr.write(r.stderr)\n"
-             "print(resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss)\n"
-             "sys.exit(r.returncode)\n")
-    result = subprocess.run([sys.executable, "-c", probe, BINARY, *map(str, args)], capture_output=True, text=True,
-                            timeout=300)
-    return result, int(result.stdout.split()[-1]) / 1024
-
-
-class Bounds(ExpectsFailure, unittest.TestCase):
+class Bounds(TempFolder, ExpectsFailure, unittest.TestCase):
 
     @classmethod
     def setUpClass(cls):
-        cls.folder = tempfile.mkdtemp(prefix="loopaudit_e2e_")
+        super().setUpClass()
         cls.recording = cls.noise_recording("rec.csv", rows=40960)
-
-    @classmethod
-    def tearDownClass(cls):
-        shutil.rmtree(cls.folder, ignore_errors=True)
 
     @classmethod
     def noise_recording(cls, name, rows, scale=1.0):
@@ -112,13 +91,13 @@ class Bounds(ExpectsFailure, unittest.TestCase):
     def test_a_long_segment_on_a_short_record_takes_no_memory_for_it(self):
         # The lanes of a 2^22-sample segment take about 800 MB; a record of
         # 40960 samples never fills one, so none of it may be taken.
-        result, rss = peak_rss_mib("analyze", self.recording, "--segment", "4194304")
-        self.assertEqual(result.returncode, INPUT, result.stderr)
-        self.assertIn("fewer than one segment of 4194304", result.stderr)
+        code, stderr, _, rss = run_measured(("analyze", self.recording, "--segment", "4194304"))
+        self.assertEqual(code, INPUT, stderr)
+        self.assertIn("fewer than one segment of 4194304", stderr)
         self.assertLess(rss, 200, "peak RSS in MiB")
-        result, rss = peak_rss_mib("analyze", self.recording, "--excitation", "periodic", "--period", "4194304")
-        self.assertEqual(result.returncode, NO_RESULT, result.stderr)
-        self.assertIn("two whole periods", result.stderr)
+        code, stderr, _, rss = run_measured(("analyze", self.recording, "--excitation", "periodic", "--period", "4194304"))
+        self.assertEqual(code, NO_RESULT, stderr)
+        self.assertIn("two whole periods", stderr)
         self.assertLess(rss, 200, "peak RSS in MiB")
 
     def test_amplitudes_out_of_double_range_are_named(self):
@@ -142,9 +121,9 @@ class Bounds(ExpectsFailure, unittest.TestCase):
         self.assertNotEqual(periodic, good)
         for text, message in ((long, "at most 1e8 samples"), (periodic, "period_samples must be 16 to 4194304")):
             with self.subTest(message=message):
-                result, rss = peak_rss_mib("synth", self.settings(text), "--out-dir", self.folder)
-                self.assertEqual(result.returncode, SETTINGS, result.stderr)
-                self.assertIn(message, result.stderr)
+                code, stderr, _, rss = run_measured(("synth", self.settings(text), "--out-dir", self.folder))
+                self.assertEqual(code, SETTINGS, stderr)
+                self.assertIn(message, stderr)
                 self.assertLess(rss, 200, "peak RSS in MiB")
 
 

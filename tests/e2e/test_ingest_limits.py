@@ -8,21 +8,16 @@ simulated demo recordings (`loopaudit synth`).
 
 Environment: LOOPAUDIT (the binary) and LOOPAUDIT_DEMO (data/demo), set by CTest.
 """
-import json
 import os
 import shutil
-import signal
 import struct
 import subprocess
-import sys
-import tempfile
 import threading
-import time
 import unittest
 
 import numpy as np
 
-from cli_common import BINARY, DEMO, INPUT, SETTINGS, codes, load, run
+from cli_common import BINARY, DEMO, INPUT, SETTINGS, ExpectsFailure, TempFolder, codes, load, run, run_measured
 
 RATE = 8000  # the servo demos record at 8 kHz
 # Far above what a refusal needs, far below what splitting millions of cells
@@ -45,51 +40,14 @@ def data_chunk(wav_bytes):
     raise AssertionError("no data chunk")
 
 
-# Runs a command and prints its exit code and peak RSS (KiB). A small process
-# of its own starts it: a child forked from this test's interpreter would
-# count the interpreter's memory in its peak.
-LAUNCHER = """
-import json, os, subprocess, sys
-child = subprocess.Popen(sys.argv[1:], stdout=subprocess.DEVNULL)
-_, status, usage = os.wait4(child.pid, 0)
-print(json.dumps([os.waitstatus_to_exitcode(status), usage.ru_maxrss]))
-"""
+class Base(TempFolder, ExpectsFailure, unittest.TestCase):
+    one_line_message = False
 
 
-def run_measured(args, timeout):
-    """Runs loopaudit; returns (exit code, stderr, seconds, peak RSS in MiB)."""
-    start = time.monotonic()
-    process = subprocess.Popen([sys.executable, "-c", LAUNCHER, BINARY, *map(str, args)], stdout=subprocess.PIPE,
-                               stderr=subprocess.PIPE, text=True, start_new_session=True)
-    try:
-        out, err = process.communicate(timeout=timeout)
-    except subprocess.TimeoutExpired:
-        os.killpg(process.pid, signal.SIGKILL)
-        process.communicate()
-        raise AssertionError(f"loopaudit {' '.join(map(str, args))} ran over {timeout} s")
-    code, rss_kib = json.loads(out)
-    return code, err, time.monotonic() - start, rss_kib / 1024
-
-
-class Base(unittest.TestCase):
-    @classmethod
-    def setUpClass(cls):
-        cls.folder = tempfile.mkdtemp(prefix="loopaudit_limits_")
-
-    @classmethod
-    def tearDownClass(cls):
-        shutil.rmtree(cls.folder, ignore_errors=True)
-
-    @classmethod
-    def path(cls, name):
-        return os.path.join(cls.folder, name)
-
-    def expect(self, code, *args, contains=()):
-        result = run(*args, check=False)
-        self.assertEqual(result.returncode, code, result.stderr)
-        for text in contains:
-            self.assertIn(text, result.stderr)
-        return result
+def servo_samples(folder):
+    """z, x and y of the simulated servo demo (8 kHz), as the text reader parses them."""
+    run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", folder)
+    return np.loadtxt(os.path.join(folder, "servo_velocity.csv"), delimiter=",", skiprows=1)[:, 1:]
 
 
 class CutShortWav(Base):
@@ -97,8 +55,7 @@ class CutShortWav(Base):
     def setUpClass(cls):
         super().setUpClass()
         from scipy.io import wavfile
-        run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", cls.folder)
-        data = np.loadtxt(cls.path("servo_velocity.csv"), delimiter=",", skiprows=1)[:, 1:]
+        data = servo_samples(cls.folder)
         cls.clean = cls.path("clean.wav")
         wavfile.write(cls.clean, RATE, data.astype(np.float32))
         with open(cls.clean, "rb") as f:
@@ -154,8 +111,7 @@ class ChannelNames(Base):
         super().setUpClass()
         import h5py
         from scipy.io import wavfile
-        run("synth", os.path.join(DEMO, "servo_velocity.toml"), "--out-dir", cls.folder)
-        data = np.loadtxt(cls.path("servo_velocity.csv"), delimiter=",", skiprows=1)[:, 1:]
+        data = servo_samples(cls.folder)
         cls.wav = cls.path("three.wav")
         wavfile.write(cls.wav, RATE, data.astype(np.float32))
         cls.h5 = cls.path("three.h5")
