@@ -121,18 +121,48 @@ std::vector<std::vector<Crossing>> cluster(const std::vector<Crossing>& crossing
   return groups;
 }
 
-// The log frequency where a merged group crosses its level: a straight line
-// fitted to all lines the group spans.
-double merged_log_f(const std::vector<Crossing>& group, const LineTable& table, const Curve& curve,
-                    const MarginOptions& options) {
-  if (group.size() == 1) return group.front().log_f;
-  const Window w = window_around(group.front().bracket.index, group.back().bracket.index, options.fit_half_width,
-                                 table.size());
-  const LocalFit fit = detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 1);
-  const double level = group.front().bracket.level;
-  const double root = fit.slope() != 0.0 ? fit.centre + (level - fit.coefficients[0]) / fit.slope() : fit.centre;
-  return std::clamp(root, group.front().log_f, group.back().log_f);
+}  // namespace
+
+LocalFit group_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
+                   const MarginOptions& options) {
+  const std::size_t first = members.front().bracket.index;
+  const std::size_t last = members.back().bracket.index;
+  const Window w = window_around(first, last, options.fit_half_width, table.size());
+  const int degree = first == last ? detail::fit_degree(curve.sigmas, w.first, w.last) : 1;
+  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree);
 }
+
+// A merged group's crossing lies on a straight line fitted to all the lines
+// it spans, kept between its first and last member.
+double group_crossing(const std::vector<Crossing>& members, const LineTable& table, const Curve& curve,
+                      const MarginOptions& options) {
+  const LocalFit fit = group_fit(table, curve, members, options);
+  if (members.size() == 1) return detail::solve_in_bracket(fit, table.log_f, curve.values, members.front().bracket);
+  const double level = members.front().bracket.level;
+  const double root = fit.slope() != 0.0 ? fit.centre + (level - fit.coefficients[0]) / fit.slope() : fit.centre;
+  return std::clamp(root, members.front().log_f, members.back().log_f);
+}
+
+double group_root(const std::vector<Crossing>& members, const LineTable& table, const Curve& curve,
+                  const MarginOptions& options, double start) {
+  const LocalFit fit = group_fit(table, curve, members, options);
+  const Window w = window_around(members.front().bracket.index, members.back().bracket.index, options.fit_half_width,
+                                 table.size());
+  const double low = table.log_f[w.first], high = table.log_f[w.last];
+  const double level = members.front().bracket.level;
+  double u = start;
+  for (int i = 0; i < 50; ++i) {
+    const double slope = fit.derivative_at(u);
+    if (!(slope != 0.0)) return NAN;
+    const double step = (fit.at(u) - level) / slope;
+    u -= step;
+    if (!(u >= low && u <= high)) return NAN;
+    if (std::abs(step) <= 1e-13 * std::max(1.0, std::abs(u))) return u;
+  }
+  return NAN;
+}
+
+namespace {
 
 // The side of the level (+1 above, -1 below) that the curve is clearly on
 // next to a group: the first line, walking away from the group, that lies
@@ -171,7 +201,7 @@ std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const L
   for (auto& members : cluster(place_crossings(brackets, table, curve, options), table, curve, options.merge_sigmas)) {
     Group g{std::move(members)};
     g.verdict = verdict_of(g, table, curve);
-    g.log_f = merged_log_f(g.members, table, curve, options);
+    g.log_f = g.members.size() == 1 ? g.members.front().log_f : group_crossing(g.members, table, curve, options);
     groups.push_back(std::move(g));
   }
   return groups;

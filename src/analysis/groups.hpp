@@ -53,6 +53,26 @@ inline constexpr double kMaxPhaseIntervalDeg = 180.0;
 inline constexpr double kMaxGainIntervalDb = 40.0;
 bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_margin_width, double band_decades);
 
+// The local fit of a curve over the lines a group spans: the one that placed
+// a single crossing (degree from fit_degree), a straight line over a merged
+// group.
+LocalFit group_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
+                   const MarginOptions& options);
+
+// Where the group crosses its level on these lines (the table the group was
+// found on, or a replicate of it): a single crossing solved in its bracket,
+// a merged group on a straight line over its lines (Group::log_f).
+double group_crossing(const std::vector<Crossing>& members, const LineTable& table, const Curve& curve,
+                      const MarginOptions& options);
+
+// The root of the group's fit (group_fit) nearest to `start`, by Newton's
+// method: a smooth function of the lines, unlike group_crossing (which keeps
+// a crossing in its bracket or between its members), for the jackknife to
+// measure how far the lines' noise moves a crossing. NaN when the fit has no
+// root near `start` (within its window).
+double group_root(const std::vector<Crossing>& members, const LineTable& table, const Curve& curve,
+                  const MarginOptions& options, double start);
+
 // The crossings of `brackets`, grouped, each group with its verdict.
 std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const LineTable& table, const Curve& curve,
                                    const MarginOptions& options);

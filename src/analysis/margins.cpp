@@ -8,6 +8,7 @@
 
 #include "analysis/crossings.hpp"
 #include "analysis/groups.hpp"
+#include "analysis/jackknife_margins.hpp"
 #include "analysis/peaks.hpp"
 #include "loopaudit/error.hpp"
 #include "loopaudit/format.hpp"
@@ -32,17 +33,6 @@ using detail::Window;
 using detail::window_around;
 
 
-
-// The local fit of a curve over the lines a group spans (the one that placed
-// a single crossing; a straight line over a merged group).
-LocalFit fit_for(const LineTable& table, const Curve& curve, const std::vector<Crossing>& group,
-                 const MarginOptions& options) {
-  const std::size_t first = group.front().bracket.index;
-  const std::size_t last = group.back().bracket.index;
-  const Window w = window_around(first, last, options.fit_half_width, table.size());
-  const int degree = first == last ? detail::fit_degree(curve.sigmas, w.first, w.last) : 1;
-  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree);
-}
 
 // A crossing and the other curve's value there, with standard deviations:
 // the crossing moves by the fitted curve's sigma over its slope, and the
@@ -73,8 +63,8 @@ double curve_sigma(const LocalFit& fit, const Curve& curve, const Bracket& brack
 
 Placed place(const LineTable& table, const Curve& crossing_curve, const Curve& other_curve, const std::vector<Crossing>& group,
              double log_f, const MarginOptions& options) {
-  const LocalFit own = fit_for(table, crossing_curve, group, options);
-  const LocalFit other = fit_for(table, other_curve, group, options);
+  const LocalFit own = detail::group_fit(table, crossing_curve, group, options);
+  const LocalFit other = detail::group_fit(table, other_curve, group, options);
   const Bracket& nearest = group[group.size() / 2].bracket;
   const double slope = std::abs(wide_slope(table, crossing_curve, group, options));
   const double log_f_sigma = slope > 0.0 ? curve_sigma(own, crossing_curve, nearest, log_f) / slope : 0.0;
@@ -238,7 +228,8 @@ void report_near_miss(const Group& g, const LineTable& table, const std::string&
   findings.push_back(make_warning("margins.near-crossing", message.str(), group_band(g.members, table)));
 }
 
-std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginOptions& options, Margins& margins) {
+std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginOptions& options, Margins& margins,
+                                           std::vector<Group>& listed) {
   const Curve gain{table.gain_db, table.gain_sigma_db};
   const Curve phase{table.phase_deg, table.phase_sigma_deg};
   auto groups = crossing_groups(detail::gain_brackets(table), table, gain, options);
@@ -269,12 +260,14 @@ std::vector<GainCrossover> gain_crossovers(const LineTable& table, const MarginO
       continue;
     }
     result.push_back(c);
+    listed.push_back(g);
   }
   report_unresolved(groups, table, gain, CrossingLevel::kGain, options, margins);
   return result;
 }
 
-std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const MarginOptions& options, Margins& margins) {
+std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const MarginOptions& options, Margins& margins,
+                                             std::vector<Group>& listed) {
   const Curve gain{table.gain_db, table.gain_sigma_db};
   const Curve phase{table.phase_deg, table.phase_sigma_deg};
   auto groups = crossing_groups(detail::phase_brackets(table), table, phase, options);
@@ -299,10 +292,23 @@ std::vector<PhaseCrossover> phase_crossovers(const LineTable& table, const Margi
       continue;
     }
     result.push_back(c);
+    listed.push_back(g);
   }
   report_unresolved(groups, table, phase, CrossingLevel::kPhase, options, margins);
-  std::sort(result.begin(), result.end(), [](const auto& a, const auto& b) { return a.frequency_hz.value < b.frequency_hz.value; });
-  return result;
+  // Crossings of different levels (-180, -540 deg) come level by level: the
+  // list and its groups go out in frequency order together.
+  std::vector<std::size_t> order(result.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::stable_sort(order.begin(), order.end(),
+                   [&](std::size_t a, std::size_t b) { return result[a].frequency_hz.value < result[b].frequency_hz.value; });
+  std::vector<PhaseCrossover> sorted;
+  std::vector<Group> sorted_groups;
+  for (std::size_t i : order) {
+    sorted.push_back(result[i]);
+    sorted_groups.push_back(listed[i]);
+  }
+  listed = std::move(sorted_groups);
+  return sorted;
 }
 
 // One line or none: nothing can be bracketed. The result says so instead of
@@ -327,16 +333,11 @@ Margins too_few_lines(const Response& loop, const MarginOptions& options) {
 Response lines_in_band(const Response& loop, const MarginOptions& options, Diagnostics& findings) {
   if (!options.band_hz || loop.size() == 0) return loop;
   const Interval band = *options.band_hz;
-  Response inside;
-  inside.method = loop.method;
+  std::vector<std::size_t> lines;
   for (std::size_t k = 0; k < loop.size(); ++k) {
-    if (loop.frequency_hz[k] < band.low || loop.frequency_hz[k] > band.high) continue;
-    inside.frequency_hz.push_back(loop.frequency_hz[k]);
-    inside.value.push_back(loop.value[k]);
-    if (k < loop.coherence.size()) inside.coherence.push_back(loop.coherence[k]);
-    if (k < loop.relative_sigma.size()) inside.relative_sigma.push_back(loop.relative_sigma[k]);
-    if (k < loop.snr_db.size()) inside.snr_db.push_back(loop.snr_db[k]);
+    if (loop.frequency_hz[k] >= band.low && loop.frequency_hz[k] <= band.high) lines.push_back(k);
   }
+  const Response inside = select_lines(loop, lines);
   const std::string what = format_frequency(band.low) + " to " + format_frequency(band.high) + " (" +
                            options.band_source + ")";
   if (inside.size() < 2) {
@@ -460,10 +461,12 @@ Margins find_margins(const Response& all_lines, const MarginOptions& options) {
   margins.band_high_hz = loop.frequency_hz.back();
   margins.line_count = loop.size();
   margins.confidence = options.confidence;
-  margins.gain_crossovers = gain_crossovers(table, options, margins);
-  margins.phase_crossovers = phase_crossovers(table, options, margins);
+  detail::ListedGroups listed;
+  margins.gain_crossovers = gain_crossovers(table, options, margins, listed.gain);
+  margins.phase_crossovers = phase_crossovers(table, options, margins, listed.phase);
   margins.modulus = detail::modulus_point(table, options);
   margins.disk = detail::disk_point(table, options);
+  detail::jackknife_margins(loop, table, listed, options, margins);
   margins.stability = assess_stability(loop, {.open_loop_rhp_poles = options.open_loop_rhp_poles, .sign_doubted = options.sign_doubted});
   doubt_verdict(margins);
   if (margins.stability.verdict == StabilityVerdict::kUnstable) {

@@ -42,73 +42,104 @@ LocalLoop local_loop(const LineTable& table, std::size_t k, const MarginOptions&
           detail::fit_local(table.log_f, im, sigmas, w.first, w.last, degree)};
 }
 
-// The line where `measure` of L is largest, and the log frequency between its
-// neighbours where the local fit of L makes it largest.
+double closeness(std::complex<double> l) { return -std::abs(1.0 + l); }
+double spread(std::complex<double> l) { return std::abs((1.0 - l) / (1.0 + l)); }
+
+// The line where `measure` of L is largest.
 template <typename Measure>
-std::pair<std::size_t, double> peak_of(const LineTable& table, const MarginOptions& options, Measure measure,
-                                       LocalLoop* fitted) {
+std::size_t extreme_line(const LineTable& table, Measure measure) {
   std::size_t k = 0;
   for (std::size_t i = 1; i < table.size(); ++i) {
     if (measure(table.value[i]) > measure(table.value[k])) k = i;
   }
-  if (k == 0 || k + 1 == table.size() || table.size() < 4) return {k, table.log_f[k]};
-  *fitted = local_loop(table, k, options);
-  const auto negative = [&](double u) { return -measure(fitted->at(u)); };
-  return {k, detail::golden_minimum(negative, table.log_f[k - 1], table.log_f[k + 1])};
+  return k;
+}
+
+bool at_edge(const LineTable& table, std::size_t k) { return k == 0 || k + 1 == table.size() || table.size() < 4; }
+
+// A peak at line k: the log frequency between its neighbours where the local
+// fit of L makes `measure` largest, and the fit.
+template <typename Measure>
+std::pair<double, LocalLoop> refined(const LineTable& table, std::size_t k, const MarginOptions& options,
+                                     Measure measure) {
+  LocalLoop fit = local_loop(table, k, options);
+  const auto negative = [&](double u) { return -measure(fit.at(u)); };
+  return {detail::golden_minimum(negative, table.log_f[k - 1], table.log_f[k + 1]), std::move(fit)};
+}
+
+// The largest `measure` near line k: a measured peak is read off the fit
+// alone, since the most extreme noisy line is biased; an exact table's
+// cannot lie below a line.
+template <typename Measure>
+double peak_value(const LineTable& table, std::size_t k, const MarginOptions& options, Measure measure) {
+  if (at_edge(table, k)) return measure(table.value[k]);
+  const auto [u, fit] = refined(table, k, options, measure);
+  const double fitted = measure(fit.at(u));
+  return table.relative_sigma[k] > 0.0 ? fitted : std::max(fitted, measure(table.value[k]));
 }
 
 }  // namespace
 
+std::size_t modulus_line(const LineTable& table) { return extreme_line(table, closeness); }
+std::size_t disk_line(const LineTable& table) { return extreme_line(table, spread); }
+double modulus_at(const LineTable& table, std::size_t k, const MarginOptions& options) {
+  return -peak_value(table, k, options, closeness);
+}
+double disk_alpha_at(const LineTable& table, std::size_t k, const MarginOptions& options) {
+  return 2.0 / peak_value(table, k, options, spread);
+}
+
 ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options) {
-  const auto closeness = [](std::complex<double> l) { return -std::abs(1.0 + l); };
-  LocalLoop fit;
-  const auto [k, u] = peak_of(table, options, closeness, &fit);
-  const bool edge = k == 0 || k + 1 == table.size() || table.size() < 4;
-  ModulusPoint point{std::pow(10.0, u), {std::abs(1.0 + table.value[k]), std::nullopt}, {}, edge};
+  const std::size_t k = modulus_line(table);
+  const bool edge = at_edge(table, k);
+  const double s_m = modulus_at(table, k, options);
+  ModulusPoint point{std::pow(10.0, table.log_f[k]), {s_m, std::nullopt}, {}, edge};
   if (!edge) {
+    const auto [u, fit] = refined(table, k, options, closeness);
+    point.frequency_hz = std::pow(10.0, u);
     const std::complex<double> l = fit.at(u);
-    // An exact table's minimum cannot lie above a line; a measured one is
-    // read off the fit alone, since the smallest noisy line is biased low.
-    const bool measured = table.relative_sigma[k] > 0.0;
-    const double s_m = measured ? std::abs(1.0 + l) : std::min(std::abs(1.0 + l), std::abs(1.0 + table.value[k]));
     const double sigma = fit.sigma_of_modulus(u, 1.0 + l, 1.0, line_sigma(table, k));
-    point.modulus_margin = {s_m, interval(s_m, sigma, two_sided_z(options.confidence))};
-    const auto& ci = point.modulus_margin.interval;
-    if (ci && ci->low > 0.0) point.peak_sensitivity_db.interval = Interval{-db_from_ratio(ci->high), -db_from_ratio(ci->low)};
+    point.modulus_margin.interval = interval(s_m, sigma, two_sided_z(options.confidence));
   }
-  point.peak_sensitivity_db.value = -db_from_ratio(point.modulus_margin.value);
+  set_peak_sensitivity(point);
   return point;
+}
+
+void set_peak_sensitivity(ModulusPoint& point) {
+  point.peak_sensitivity_db = {-db_from_ratio(point.modulus_margin.value), std::nullopt};
+  const auto& ci = point.modulus_margin.interval;
+  if (ci && ci->low > 0.0) point.peak_sensitivity_db.interval = Interval{-db_from_ratio(ci->high), -db_from_ratio(ci->low)};
 }
 
 // The largest |S - T| = |(1 - L)/(1 + L)| over the band.
 DiskMargin disk_point(const LineTable& table, const MarginOptions& options) {
-  const auto spread = [](std::complex<double> l) { return std::abs((1.0 - l) / (1.0 + l)); };
-  LocalLoop fit;
-  const auto [k, u] = peak_of(table, options, spread, &fit);
-  const bool edge = k == 0 || k + 1 == table.size() || table.size() < 4;
-  // As for the modulus margin: a measured peak is read off the fit alone.
-  const bool measured = table.relative_sigma[k] > 0.0;
-  const double peak = edge       ? spread(table.value[k])
-                      : measured ? spread(fit.at(u))
-                                 : std::max(spread(fit.at(u)), spread(table.value[k]));
-  DiskMargin disk = disk_margin_from_peak(peak, std::pow(10.0, u), edge);
-  if (edge) return disk;
-  // d/dL (1 - L)/(1 + L) = -2 / (1 + L)^2
+  const std::size_t k = disk_line(table);
+  const bool edge = at_edge(table, k);
+  const double alpha = disk_alpha_at(table, k, options);
+  if (edge) return disk_margin_from_peak(2.0 / alpha, std::pow(10.0, table.log_f[k]), edge);
+  const auto [u, fit] = refined(table, k, options, spread);
+  DiskMargin disk = disk_margin_from_peak(2.0 / alpha, std::pow(10.0, u), edge);
+  // d/dL (1 - L)/(1 + L) = -2 / (1 + L)^2; alpha = 2 / peak moves by 2/peak^2 times the peak's move.
   const std::complex<double> l = fit.at(u);
-  const double sigma =
+  const double peak_sigma =
       fit.sigma_of_modulus(u, (1.0 - l) / (1.0 + l), -2.0 / ((1.0 + l) * (1.0 + l)), line_sigma(table, k));
-  const auto peak_ci = interval(peak, sigma, two_sided_z(options.confidence));
-  if (peak_ci && peak_ci->low > 0.0) {
-    // alpha = 2 / peak, and the guaranteed ranges grow with alpha.
-    const DiskMargin least = disk_margin_from_peak(peak_ci->high, disk.frequency_hz, edge);
-    const DiskMargin most = disk_margin_from_peak(peak_ci->low, disk.frequency_hz, edge);
-    disk.alpha.interval = Interval{least.alpha.value, most.alpha.value};
-    disk.phase_deg.interval = Interval{least.phase_deg.value, most.phase_deg.value};
-    if (std::isfinite(least.gain_high_db.value)) {
-      disk.gain_high_db.interval = Interval{least.gain_high_db.value, most.gain_high_db.value};
-    }
-  }
+  const double peak = 2.0 / alpha;
+  const auto peak_ci = interval(peak, peak_sigma, two_sided_z(options.confidence));
+  if (peak_ci && peak_ci->low > 0.0) set_disk_interval(disk, Interval{2.0 / peak_ci->high, 2.0 / peak_ci->low});
   return disk;
+}
+
+void set_disk_interval(DiskMargin& disk, Interval alpha) {
+  if (!(alpha.low > 0.0)) return;
+  // The guaranteed ranges grow with alpha.
+  const DiskMargin least = disk_margin_from_peak(2.0 / alpha.low, disk.frequency_hz, disk.at_band_edge);
+  const DiskMargin most = disk_margin_from_peak(2.0 / alpha.high, disk.frequency_hz, disk.at_band_edge);
+  disk.alpha.interval = alpha;
+  disk.phase_deg.interval = Interval{least.phase_deg.value, most.phase_deg.value};
+  disk.gain_high_db.interval.reset();
+  if (std::isfinite(least.gain_high_db.value)) {
+    disk.gain_high_db.interval = Interval{least.gain_high_db.value, most.gain_high_db.value};
+  }
 }
 
 }  // namespace loopaudit::detail

@@ -111,19 +111,39 @@ const char* convention_formula(Convention convention) {
   return "";
 }
 
+namespace {
+
+// L from the measured ratio H, and H from L.
+std::complex<double> loop_from_ratio(std::complex<double> h, Convention convention) {
+  switch (convention) {
+    case Convention::kSeriesInjection: return -h;
+    case Convention::kDirect: return h;
+    case Convention::kClosedLoop: return h / (1.0 - h);
+  }
+  return h;
+}
+
+std::complex<double> ratio_from_loop(std::complex<double> l, Convention convention) {
+  switch (convention) {
+    case Convention::kSeriesInjection: return -l;
+    case Convention::kDirect: return l;
+    case Convention::kClosedLoop: return l / (1.0 + l);
+  }
+  return l;
+}
+
+}  // namespace
+
 LoopResponse to_loop(const Response& measured, Convention convention, Diagnostics& findings) {
   LoopResponse loop{measured, convention};
   for (std::size_t k = 0; k < measured.size(); ++k) {
     const std::complex<double> h = measured.value[k];
-    switch (convention) {
-      case Convention::kSeriesInjection: loop.lines.value[k] = -h; break;
-      case Convention::kDirect: break;
-      case Convention::kClosedLoop:
-        loop.lines.value[k] = h / (1.0 - h);
-        // d ln L = d ln T / (1 - T): the relative error grows near T = 1.
-        loop.lines.relative_sigma[k] = measured.relative_sigma[k] / std::abs(1.0 - h);
-        break;
-    }
+    loop.lines.value[k] = loop_from_ratio(h, convention);
+    // d ln L = d ln T / (1 - T): the relative error grows near T = 1.
+    if (convention == Convention::kClosedLoop) loop.lines.relative_sigma[k] = measured.relative_sigma[k] / std::abs(1.0 - h);
+  }
+  for (auto& replicate : loop.lines.replicates) {
+    for (auto& v : replicate) v = loop_from_ratio(v, convention);
   }
   check_sign(loop.lines, findings);
   return loop;
@@ -132,15 +152,13 @@ LoopResponse to_loop(const Response& measured, Convention convention, Diagnostic
 Response measured_ratio(const LoopResponse& loop) {
   Response measured = loop.lines;
   for (std::size_t k = 0; k < measured.size(); ++k) {
-    const std::complex<double> l = loop.lines.value[k];
-    switch (loop.convention) {
-      case Convention::kSeriesInjection: measured.value[k] = -l; break;
-      case Convention::kDirect: break;
-      case Convention::kClosedLoop:
-        measured.value[k] = l / (1.0 + l);
-        measured.relative_sigma[k] = loop.lines.relative_sigma[k] * std::abs(1.0 - measured.value[k]);
-        break;
+    measured.value[k] = ratio_from_loop(loop.lines.value[k], loop.convention);
+    if (loop.convention == Convention::kClosedLoop) {
+      measured.relative_sigma[k] = loop.lines.relative_sigma[k] * std::abs(1.0 - measured.value[k]);
     }
+  }
+  for (auto& replicate : measured.replicates) {
+    for (auto& v : replicate) v = ratio_from_loop(v, loop.convention);
   }
   return measured;
 }

@@ -52,6 +52,7 @@ SummaryStatus MarginSummary::status(std::string_view key) const {
 const char* status_name(SummaryStatus status) { return name_of(kSummaryStatusNames, status); }
 
 const char* direction_name(GainDirection direction) { return name_of(kDirectionNames, direction); }
+const char* interval_method_name(IntervalMethod method) { return name_of(kIntervalMethodNames, method); }
 
 const char* verdict_name(StabilityVerdict verdict) { return name_of(kVerdictNames, verdict); }
 

@@ -7,10 +7,20 @@
 namespace loopaudit {
 namespace {
 
+// The Welch options with the ratio's two cross-spectra kept per group of
+// segments, for the lines' jackknife replicates.
+WelchOptions grouped(WelchOptions welch, Estimator estimator) {
+  welch.grouped_pairs = ratio_pairs(estimator);
+  return welch;
+}
+
 class WelchEstimator final : public ResponseEstimator {
  public:
   WelchEstimator(const WelchOptions& welch, const ResponseOptions& response, std::array<std::string, 3> names)
-      : welch_options_(welch), response_options_(response), names_(std::move(names)), welch_(3, welch) {}
+      : welch_options_(welch),
+        response_options_(response),
+        names_(std::move(names)),
+        welch_(3, grouped(welch, response.estimator)) {}
 
   void push(const RoleChannels& channels, std::size_t) override { welch_.push(channels); }
 

@@ -9,6 +9,7 @@
 #include "loopaudit/format.hpp"
 #include "loopaudit/units.hpp"
 #include "fft/fft_plan.hpp"
+#include "spectral/group_sums.hpp"
 
 namespace loopaudit {
 namespace {
@@ -38,6 +39,9 @@ struct PeriodicAccumulator::Impl {
   std::size_t periods_seen = 0;
   std::size_t periods_used = 0;
   std::vector<Complex> spectrum[kChannels];
+  // X and Y summed over contiguous groups of periods, for the jackknife.
+  detail::GroupSums groups;
+  bool grouped = false;
 
   explicit Impl(const PeriodicOptions& o) : options(o) {}
 
@@ -46,6 +50,9 @@ struct PeriodicAccumulator::Impl {
     if (!fft) {  // made at the first period used: a short record never pays for a long period's buffers
       fft.emplace(p);
       lines.resize(p / 2 + 1);
+      const std::size_t most = detail::groups_within_budget(2, lines.size());
+      grouped = most > 0;
+      if (grouped) groups = detail::GroupSums(2, lines.size(), most);
     }
     for (std::size_t c = 0; c < kChannels; ++c) {
       const auto first = pending[c].begin() + static_cast<std::ptrdiff_t>(offset);
@@ -60,6 +67,14 @@ struct PeriodicAccumulator::Impl {
         l.power[c] += std::norm(spectrum[c][k]);
       }
       l.xy += spectrum[2][k] * std::conj(spectrum[1][k]);
+    }
+    if (grouped) {
+      groups.make_room(periods_used);
+      const std::size_t g = groups.group_of(periods_used);
+      for (std::size_t a = 0; a < 2; ++a) {
+        detail::GroupLines& sums = groups.at(g, a);
+        for (std::size_t k = 0; k < sums.size(); ++k) sums[k] += spectrum[a + 1][k];
+      }
     }
     ++periods_used;
   }
@@ -98,7 +113,7 @@ void PeriodicAccumulator::push(std::span<const std::span<const double>> channels
 }
 
 Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& findings) {
-  const Impl& s = *impl_;
+  Impl& s = *impl_;
   const double n = static_cast<double>(s.periods_used);
   if (s.periods_used < 2) {
     throw NumericalError("periodic averaging needs at least two whole periods after the " +
@@ -118,6 +133,15 @@ Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& finding
   const std::size_t last = (s.options.period_samples - 1) / 2;  // never DC or Nyquist
   Response r;
   r.method = {ResponseMethodKind::kPeriodic, s.periods_used, n};
+  const std::size_t per_group = s.grouped ? s.groups.per_group() : 0;
+  const auto groups = s.grouped ? s.groups.finish(s.periods_used) : std::vector<std::vector<detail::GroupLines>>{};
+  if (groups.size() >= 2) {
+    r.method.replicate_kind = ReplicateKind::kGroups;
+    r.method.per_replicate = per_group;
+    r.replicates.resize(groups.size());
+  } else {
+    r.method.no_replicates_reason = "the period is too long for the jackknife's group sums to fit their memory budget";
+  }
   double excited_power = 0.0, other_power = 0.0;
   std::size_t excited = 0, others = 0;
   for (std::size_t k = 1; k <= last; ++k) {
@@ -138,6 +162,10 @@ Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& finding
     // The share of each channel's power that repeats from period to period.
     r.coherence.push_back(std::min(std::norm(x) / (l.power[1] / n), std::norm(y) / (l.power[2] / n)));
     r.relative_sigma.push_back(std::sqrt(std::max(0.0, relative) / 2.0));
+    // Each group of periods left out in turn: the ratio of the other periods' sums.
+    for (std::size_t g = 0; g < r.replicates.size(); ++g) {
+      r.replicates[g].push_back((l.sum[2] - groups[g][1][k]) / (l.sum[1] - groups[g][0][k]));
+    }
   }
   if (r.size() == 0) throw NumericalError("no line of the period carries injection power above the floor");
   if (!s.pending[0].empty()) {

@@ -85,7 +85,32 @@ void report_low_coherence(const Response& r, Diagnostics& findings) {
                                   {.low_hz = r.frequency_hz[runs.front().first], .high_hz = r.frequency_hz[runs.back().second]}));
 }
 
+// The line's value with each group of segments left out in turn: the same
+// ratio of the cross-spectra, each less that group's sum.
+void add_replicates(const CrossSpectra& s, Estimator estimator, std::size_t k, Response& response) {
+  const auto pairs = ratio_pairs(estimator);
+  for (std::size_t g = 0; g < s.groups.size(); ++g) {
+    const Complex den = s.at(pairs[0].first, pairs[0].second)[k] - (*s.group_at(g, pairs[0].first, pairs[0].second))[k];
+    const Complex num = s.at(pairs[1].first, pairs[1].second)[k] - (*s.group_at(g, pairs[1].first, pairs[1].second))[k];
+    response.replicates[g].push_back(num / den);
+  }
+}
+
+// Whether the spectra hold the groups the estimator's replicates need.
+bool has_groups(const CrossSpectra& s, Estimator estimator) {
+  if (s.groups.size() < 2) return false;
+  for (const auto& [i, j] : ratio_pairs(estimator)) {
+    if (!s.group_at(0, i, j)) return false;
+  }
+  return true;
+}
+
 }  // namespace
+
+std::vector<std::pair<std::size_t, std::size_t>> ratio_pairs(Estimator estimator) {
+  if (estimator == Estimator::kReference) return {{kReferenceChannel, kInputChannel}, {kReferenceChannel, kOutputChannel}};
+  return {{kInputChannel, kInputChannel}, {kInputChannel, kOutputChannel}};
+}
 
 const char* estimator_name(Estimator estimator) { return name_of(kEstimatorNames, estimator); }
 
@@ -114,6 +139,15 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
 
   Response response;
   response.method = {ResponseMethodKind::kWelch, spectra.segments, spectra.effective_averages};
+  const bool grouped = has_groups(spectra, options.estimator);
+  if (grouped) {
+    response.method.replicate_kind = ReplicateKind::kGroups;
+    response.method.per_replicate = spectra.segments_per_group;
+    response.replicates.resize(spectra.groups.size());
+  } else {
+    response.method.no_replicates_reason = *spectra.no_groups_reason ? spectra.no_groups_reason
+                                                                     : "the segments were not kept in groups";
+  }
   for (std::size_t k = 1; k <= last_line; ++k) {
     if (reference_power[k].real() < floor) continue;
     const Line line = options.estimator == Estimator::kReference ? reference_line(spectra, k)
@@ -123,6 +157,7 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
     response.value.push_back(line.value);
     response.coherence.push_back(line.coherence);
     response.relative_sigma.push_back(line.relative_sigma);
+    if (grouped) add_replicates(spectra, options.estimator, k, response);
   }
   if (response.size() == 0) throw NumericalError("no line carries injection power above the floor");
   if (options.estimator == Estimator::kTwoChannel) {

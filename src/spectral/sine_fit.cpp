@@ -79,6 +79,48 @@ SineFit fit_sine_four(std::span<const double> x, double frequency_guess_hz, doub
   return fit;
 }
 
+SineFit fit_sine_with_drift(std::span<const double> x, double frequency_hz, double sample_rate_hz, int drift_order,
+                            std::vector<double>* residual) {
+  check(x.size(), frequency_hz, sample_rate_hz);
+  if (drift_order < 0 || drift_order > 4) throw NumericalError("a drift polynomial of order 0 to 4 is supported");
+  const std::size_t count = x.size();
+  if (drift_order > 0 && static_cast<double>(count) * frequency_hz / sample_rate_hz < 1.0) {
+    throw NumericalError("a sine fit with drift needs at least one whole cycle");
+  }
+  const double w = omega_per_sample(frequency_hz, sample_rate_hz);
+  const auto columns = static_cast<Eigen::Index>(3 + drift_order);
+  // The polynomial in u = -1 .. 1 over the record, for conditioning.
+  const double half = 0.5 * static_cast<double>(count - 1);
+  const auto column = [&](std::size_t n, Eigen::VectorXd& c) {
+    const double t = static_cast<double>(n);
+    c(0) = std::cos(w * t);
+    c(1) = std::sin(w * t);
+    const double u = half > 0.0 ? (t - half) / half : 0.0;
+    double power = 1.0;
+    for (Eigen::Index k = 2; k < columns; ++k, power *= u) c(k) = power;
+  };
+  Eigen::MatrixXd normal = Eigen::MatrixXd::Zero(columns, columns);
+  Eigen::VectorXd right = Eigen::VectorXd::Zero(columns);
+  Eigen::VectorXd c(columns);
+  for (std::size_t n = 0; n < count; ++n) {
+    column(n, c);
+    normal.selfadjointView<Eigen::Lower>().rankUpdate(c);
+    right += c * x[n];
+  }
+  const Eigen::VectorXd p = normal.selfadjointView<Eigen::Lower>().ldlt().solve(right);
+  SineFit fit{frequency_hz, p(0), p(1), p(2), 0.0, count};
+  if (residual) residual->resize(count);
+  double sum_squares = 0.0;
+  for (std::size_t n = 0; n < count; ++n) {
+    column(n, c);
+    const double e = x[n] - c.dot(p);
+    if (residual) (*residual)[n] = e;
+    sum_squares += e * e;
+  }
+  fit.residual_rms = std::sqrt(sum_squares / static_cast<double>(count));
+  return fit;
+}
+
 std::vector<double> harmonic_amplitudes(std::span<const double> x, double f0_hz, double sample_rate_hz, int highest) {
   std::vector<double> out;
   for (int k = 2; k <= highest; ++k) {

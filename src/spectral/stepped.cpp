@@ -20,6 +20,57 @@ constexpr double kHarmonicOverNoise = 4.0;
 // A dwell's injection further than this from the frequency the schedule or
 // marker states is reported: the schedule and the recording disagree.
 constexpr double kFrequencyMismatch = 0.02;
+// The drift fitted beside each dwell's sine: a slope and a curvature take
+// what slow wander (load changes, thermal drift) would leak into it.
+constexpr int kDriftOrder = 2;
+// How many frequencies beside a dwell's own measure the noise its line
+// carries, and how near and far they lie, in bins of the dwell (fs / N): two
+// bins or more away, so that the fitted sine leaks little into them, and
+// above the two and a half bins the drift polynomial spans. Eight give the
+// margins' jackknife 7 degrees of freedom.
+constexpr std::size_t kBeside = 8;
+constexpr int kNearestBin = 2;
+constexpr int kFarthestBin = 12;
+constexpr double kLowestBin = 2.5;
+
+using Complex = std::complex<double>;
+
+// The errors the line H = Y/X would show from the noise beside the dwell's
+// frequency: at each frequency f' beside it the residuals of x and y give
+// phasors N_x, N_y that the same fit at f' would have taken for signal, and
+// dH = (N_y - H N_x) / X, the first-order error of a ratio whose two
+// channels carry correlated noise (x and y share the loop's disturbance).
+// Fewer than kBeside when the dwell is too short to hold them.
+std::vector<Complex> errors_beside(const std::vector<double>& residual_x, const std::vector<double>& residual_y,
+                                   Complex h, Complex x, double frequency_hz, double sample_rate_hz) {
+  const double bin_hz = sample_rate_hz / static_cast<double>(residual_x.size());
+  std::vector<Complex> errors;
+  for (int j = kNearestBin; j <= kFarthestBin && errors.size() < kBeside; ++j) {
+    for (const int side : {-1, 1}) {
+      const double f = frequency_hz + side * j * bin_hz;
+      if (f < kLowestBin * bin_hz || f > sample_rate_hz / 2.0 - bin_hz || errors.size() == kBeside) continue;
+      const Complex nx = fit_sine_three(residual_x, f, sample_rate_hz).phasor();
+      const Complex ny = fit_sine_three(residual_y, f, sample_rate_hz).phasor();
+      errors.push_back((ny - h * nx) / x);
+    }
+  }
+  return errors;
+}
+
+// Replicates of a line from the errors beside it, centred so that their
+// mean is the line's value: H_(j) = H + c (E_j - mean E) with c = sqrt(G)/(G - 1),
+// so that the jackknife's (G - 1)/G sum (H_(j) - mean)^2 is the unbiased
+// variance of the errors, the line's own.
+std::vector<Complex> replicates_of(Complex h, const std::vector<Complex>& errors) {
+  const double g = static_cast<double>(errors.size());
+  Complex mean = 0.0;
+  for (const Complex& e : errors) mean += e;
+  mean /= g;
+  const double c = std::sqrt(g) / (g - 1.0);
+  std::vector<Complex> out;
+  for (const Complex& e : errors) out.push_back(h + c * (e - mean));
+  return out;
+}
 
 struct Window {
   std::size_t first = 0;  // after settling
@@ -37,6 +88,8 @@ struct SteppedSineEstimator::Impl {
   std::vector<double> too_short_hz;
   std::vector<double> distorted_hz;
   std::vector<double> mismatched_hz;  // dwells whose injection is not at the stated frequency
+  std::vector<double> unmeasured_hz;  // dwells too short to measure the noise beside their line
+  std::vector<std::vector<Complex>> line_replicates;  // per line, in dwell order
 
   explicit Impl(SteppedOptions o) : options(std::move(o)) {
     for (const Dwell& d : options.dwells) {
@@ -56,11 +109,25 @@ struct SteppedSineEstimator::Impl {
     }
     const SineFit z = fit_sine_four(buffer[0], d.frequency_hz, fs);
     if (std::abs(z.frequency_hz / d.frequency_hz - 1.0) > kFrequencyMismatch) mismatched_hz.push_back(d.frequency_hz);
-    const SineFit x = fit_sine_three(buffer[1], z.frequency_hz, fs);
-    const SineFit y = fit_sine_three(buffer[2], z.frequency_hz, fs);
+    std::vector<double> residual_x, residual_y;
+    const SineFit x = fit_sine_with_drift(buffer[1], z.frequency_hz, fs, kDriftOrder, &residual_x);
+    const SineFit y = fit_sine_with_drift(buffer[2], z.frequency_hz, fs, kDriftOrder, &residual_y);
     if (x.amplitude() == 0.0 || y.amplitude() == 0.0) return;
-    const double relative = 4.0 * x.residual_rms * x.residual_rms / (n * std::norm(x.phasor())) +
-                            4.0 * y.residual_rms * y.residual_rms / (n * std::norm(y.phasor()));
+    const Complex h = y.phasor() / x.phasor();
+    const auto errors = errors_beside(residual_x, residual_y, h, x.phasor(), z.frequency_hz, fs);
+    double relative = 0.0;  // var(H) / |H|^2
+    if (errors.size() == kBeside) {
+      for (const Complex& e : errors) relative += std::norm(e);
+      relative /= static_cast<double>(errors.size()) * std::norm(h);
+      line_replicates.push_back(replicates_of(h, errors));
+    } else {
+      // Too short for the noise beside it: the residual as if white (a phasor
+      // fitted to N samples with white residual s has variance 4 s^2 / N).
+      relative = 4.0 * x.residual_rms * x.residual_rms / (n * std::norm(x.phasor())) +
+                 4.0 * y.residual_rms * y.residual_rms / (n * std::norm(y.phasor()));
+      unmeasured_hz.push_back(z.frequency_hz);
+      line_replicates.emplace_back();
+    }
     const auto snr = [](const SineFit& f) {
       return f.residual_rms > 0.0 ? db_from_power(f.amplitude() * f.amplitude() / 2.0 / (f.residual_rms * f.residual_rms))
                                   : 300.0;
@@ -83,7 +150,7 @@ struct SteppedSineEstimator::Impl {
     if (worst > options.max_harmonic_ratio) distorted_hz.push_back(z.frequency_hz);
     const double snr_db = std::min(snr(x), snr(y));
     response.frequency_hz.push_back(z.frequency_hz);
-    response.value.push_back(y.phasor() / x.phasor());
+    response.value.push_back(h);
     response.coherence.push_back(1.0 / (1.0 + std::pow(10.0, -snr_db / 10.0)));
     response.snr_db.push_back(snr_db);
     response.relative_sigma.push_back(std::sqrt(relative / 2.0));
@@ -172,19 +239,30 @@ Response SteppedSineEstimator::finish(Diagnostics& findings) {
                                         "): do the schedule or marker and the recording belong together?"));
   }
   if (s.response.size() == 0) throw NumericalError("no dwell of the stepped sine could be fitted");
+  if (s.unmeasured_hz.empty()) {
+    s.response.replicates.assign(kBeside, {});
+    for (const auto& line : s.line_replicates) {
+      for (std::size_t j = 0; j < kBeside; ++j) s.response.replicates[j].push_back(line[j]);
+    }
+  } else {
+    findings.push_back(make_note("spectral.noise-unmeasured",
+                                 std::to_string(s.unmeasured_hz.size()) + " dwells are too short to measure the noise " +
+                                     "beside their frequency (" + list(s.unmeasured_hz) +
+                                     "): their lines' uncertainty assumes white noise, and the margins' intervals " +
+                                     "are propagated to first order; dwell longer (about 15 cycles after settling)"));
+  }
   // Dwells may come in any order; lines go out ascending.
   std::vector<std::size_t> order(s.response.size());
   for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
   std::sort(order.begin(), order.end(), [&](auto a, auto b) { return s.response.frequency_hz[a] < s.response.frequency_hz[b]; });
-  Response sorted;
-  for (std::size_t i : order) {
-    sorted.frequency_hz.push_back(s.response.frequency_hz[i]);
-    sorted.value.push_back(s.response.value[i]);
-    sorted.coherence.push_back(s.response.coherence[i]);
-    sorted.relative_sigma.push_back(s.response.relative_sigma[i]);
-    sorted.snr_db.push_back(s.response.snr_db[i]);
-  }
+  Response sorted = select_lines(s.response, order);
   sorted.method = {ResponseMethodKind::kSteppedSine, sorted.size(), 1.0};
+  if (!sorted.replicates.empty()) {
+    sorted.method.replicate_kind = ReplicateKind::kNoiseBeside;
+    sorted.method.per_replicate = kBeside;
+  } else {
+    sorted.method.no_replicates_reason = "some dwells are too short to measure the noise beside their frequency";
+  }
   return sorted;
 }
 

@@ -14,6 +14,7 @@
 #include "loopaudit/error.hpp"
 #include "loopaudit/format.hpp"
 #include "fft/fft_plan.hpp"
+#include "spectral/group_sums.hpp"
 
 namespace loopaudit {
 namespace {
@@ -49,6 +50,12 @@ std::size_t WelchOptions::step() const {
 
 const ComplexLines& CrossSpectra::at(std::size_t i, std::size_t j) const {
   return pairs.at(pair_index(i, j, channel_count));
+}
+
+const ComplexLines* CrossSpectra::group_at(std::size_t g, std::size_t i, std::size_t j) const {
+  const auto it = std::find(grouped_pairs.begin(), grouped_pairs.end(), std::pair{i, j});
+  if (it == grouped_pairs.end() || g >= groups.size()) return nullptr;
+  return &groups[g][static_cast<std::size_t>(it - grouped_pairs.begin())];
 }
 
 double CrossSpectra::frequency_hz(std::size_t line) const {
@@ -123,15 +130,47 @@ Diagnostics spectral_findings(const CrossSpectra& spectra, const std::vector<std
 
 namespace {
 
+// The groups of segments that the lanes share, and the lock that guards
+// their sums while lanes add to them.
+struct SharedGroups {
+  detail::GroupSums sums;
+  std::vector<std::size_t> pairs;  // indices into Lane::sums of the grouped pairs
+  std::mutex mutex;
+};
+
 // One worker's share of the averaging: an FFT per channel (each with its own
-// output buffer, so nothing is copied) and its own running sums.
+// output buffer, so nothing is copied) and its own running sums. The sums of
+// grouped pairs hold the current group's segments only and are handed to
+// the shared groups when the group changes and when a batch ends.
 struct Lane {
+  static constexpr std::size_t kNoGroup = static_cast<std::size_t>(-1);
   std::vector<detail::RealFft> ffts;
   std::vector<ComplexLines> sums;  // per pair
   std::size_t segments = 0;
+  std::size_t group = kNoGroup;  // of the segments in the grouped pairs' sums
 
   Lane(std::size_t channels, std::size_t n) : sums(channels * (channels + 1) / 2, ComplexLines(n / 2 + 1)) {
     for (std::size_t c = 0; c < channels; ++c) ffts.emplace_back(n);
+  }
+
+  void flush(SharedGroups& shared) {
+    if (group == kNoGroup) return;
+    std::lock_guard lock(shared.mutex);
+    for (std::size_t a = 0; a < shared.pairs.size(); ++a) {
+      ComplexLines& from = sums[shared.pairs[a]];
+      ComplexLines& to = shared.sums.at(group, a);
+      for (std::size_t k = 0; k < from.size(); ++k) to[k] += from[k];
+      std::fill(from.begin(), from.end(), std::complex<double>{});
+    }
+    group = kNoGroup;
+  }
+
+  // Segment `index` (in order of time) is about to be added.
+  void enter(std::size_t index, SharedGroups& shared) {
+    if (shared.pairs.empty()) return;
+    const std::size_t g = shared.sums.group_of(index);
+    if (g != group) flush(shared);
+    group = g;
   }
 
   void transform(const double* segment, const std::vector<double>& window, bool remove_mean, detail::RealFft& fft) {
@@ -254,6 +293,8 @@ struct WelchAccumulator::Impl {
   std::vector<std::size_t> starts;             // its segment starts
   std::vector<Lane> lanes;                     // one per core
   std::size_t samples = 0;
+  std::size_t segments_started = 0;            // segments handed to the lanes so far
+  SharedGroups groups;
   std::vector<std::unique_ptr<Worker>> workers;  // last: stopped before the data they use goes
 
   Impl(std::size_t channels, const WelchOptions& opts) : options(opts), channel_count(channels), pending(channels) {
@@ -268,6 +309,11 @@ struct WelchAccumulator::Impl {
     if (!lanes.empty()) return;
     window = make_window(options.window, options.segment_length);
     for (std::size_t i = 0; i < workers.size(); ++i) lanes.emplace_back(channel_count, options.segment_length);
+    const std::size_t lines = options.segment_length / 2 + 1;
+    const std::size_t most = detail::groups_within_budget(options.grouped_pairs.size(), lines);
+    if (most == 0) return;
+    for (const auto& [i, j] : options.grouped_pairs) groups.pairs.push_back(pair_index(i, j, channel_count));
+    groups.sums = detail::GroupSums(groups.pairs.size(), lines, most);
   }
 
   void wait() {
@@ -291,14 +337,20 @@ struct WelchAccumulator::Impl {
       pending[c].assign(in_flight[c].begin() + static_cast<std::ptrdiff_t>(keep_from), in_flight[c].end());
     }
     offset -= keep_from;
+    const std::size_t first_index = segments_started;
+    segments_started += starts.size();
+    if (!groups.pairs.empty()) groups.sums.make_room(segments_started - 1);
     const std::size_t share = (starts.size() + lanes.size() - 1) / lanes.size();
     for (std::size_t l = 0; l < lanes.size(); ++l) {
       const std::size_t first = std::min(l * share, starts.size());
       const std::size_t last = std::min(first + share, starts.size());
-      workers[l]->start([this, l, first, last] {
+      workers[l]->start([this, l, first, last, first_index] {
+        Lane& lane = lanes[l];
         for (std::size_t i = first; i < last; ++i) {
-          lanes[l].accumulate(in_flight, starts[i], window, options.remove_segment_mean);
+          lane.enter(first_index + i, groups);
+          lane.accumulate(in_flight, starts[i], window, options.remove_segment_mean);
         }
+        lane.flush(groups);
       });
     }
   }
@@ -333,7 +385,7 @@ std::size_t WelchAccumulator::segments_done() {
 }
 
 CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
-  const Impl& s = *impl_;
+  Impl& s = *impl_;
   const std::size_t segments = segments_done();
   if (segments == 0) {
     std::ostringstream message;
@@ -358,11 +410,33 @@ CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
       for (std::size_t k = 0; k < result.pairs[p].size(); ++k) result.pairs[p][k] += s.lanes[lane].sums[p][k];
     }
   }
-  for (auto& lines : result.pairs) {
+  const auto to_density = [&](ComplexLines& lines) {
     for (std::size_t k = 0; k < lines.size(); ++k) {
       const bool single_sided = (k == 0) || (n % 2 == 0 && k == n / 2);
       lines[k] *= single_sided ? scale : 2.0 * scale;
     }
+  };
+  if (!s.groups.pairs.empty()) {
+    // The lanes' sums of grouped pairs were handed to the groups: the totals are theirs.
+    result.segments_per_group = s.groups.sums.per_group();
+    result.grouped_pairs = s.options.grouped_pairs;
+    result.groups = s.groups.sums.finish(segments);
+    for (std::size_t a = 0; a < s.groups.pairs.size(); ++a) {
+      ComplexLines& total = result.pairs[s.groups.pairs[a]];
+      for (const auto& group : result.groups) {
+        for (std::size_t k = 0; k < total.size(); ++k) total[k] += group[a][k];
+      }
+    }
+  } else if (!s.options.grouped_pairs.empty()) {
+    result.no_groups_reason = "the segments are too long for the jackknife's group sums to fit their memory budget";
+  }
+  for (auto& lines : result.pairs) to_density(lines);
+  for (auto& group : result.groups) {
+    for (auto& lines : group) to_density(lines);
+  }
+  if (result.groups.size() < 2) {
+    result.groups.clear();
+    result.grouped_pairs.clear();
   }
   return result;
 }

@@ -48,13 +48,28 @@ struct Interval {
   double high = 0.0;
 };
 
-// A value and its interval, from the lines' uncertainty propagated through
-// the local fits (first order). The interval is absent for lines without
+// How an interval was made.
+enum class IntervalMethod {
+  kFirstOrder,  // the lines' sigmas propagated through the local fits
+  kJackknife,   // the margin found again on every replicate of the lines
+};
+inline constexpr NameTable<IntervalMethod, 2> kIntervalMethodNames{
+    {{IntervalMethod::kFirstOrder, "first-order"}, {IntervalMethod::kJackknife, "jackknife"}}};
+static_assert(one_to_one(kIntervalMethodNames));
+const char* interval_method_name(IntervalMethod method);
+
+// A value and its interval. The interval is absent for lines without
 // uncertainty (an exact table or a model) and for values read from a file
 // that states none.
 struct Estimate {
   double value = 0.0;
   std::optional<Interval> interval;
+  IntervalMethod method = IntervalMethod::kFirstOrder;
+  // Jackknife only: the first-order interval, kept as a cross-check, and
+  // the value before the bias correction where one was made (the modulus
+  // and disk margins: the extreme of noisy lines is biased).
+  std::optional<Interval> first_order;
+  std::optional<double> uncorrected;
 };
 
 inline constexpr NameTable<GainDirection, 2> kDirectionNames{
@@ -179,6 +194,16 @@ struct SummaryField {
 std::span<const SummaryField> summary_fields();
 inline constexpr const char* kModulusFrequencyKey = "modulus_freq_hz";
 
+// How a result's intervals were made, for the reports.
+struct UncertaintyMethod {
+  IntervalMethod method = IntervalMethod::kFirstOrder;
+  std::size_t replicates = 0;        // jackknife: replicates of the lines
+  double degrees_of_freedom = 0.0;   // jackknife: of its variance, replicates - 1
+  double half_width_factor = 0.0;    // the interval's half-width over the standard error (t or normal quantile)
+  std::string basis;                 // what a replicate leaves out, for people: "one of 20 groups of 12 segments"
+  std::string first_order_reason;    // first order: why not the jackknife ("" for a table)
+};
+
 struct Margins {
   std::vector<GainCrossover> gain_crossovers;    // ascending frequency
   std::vector<PhaseCrossover> phase_crossovers;  // ascending frequency
@@ -191,6 +216,7 @@ struct Margins {
   double band_high_hz = 0.0;
   std::size_t line_count = 0;
   double confidence = 0.95;  // of the intervals
+  UncertaintyMethod uncertainty;
   Diagnostics findings;
 };
 

@@ -5,6 +5,7 @@
 
 #include <complex>
 #include <cstddef>
+#include <span>
 #include <vector>
 
 namespace loopaudit {
@@ -18,6 +19,16 @@ enum class ResponseMethodKind {
   kSteppedSine,  // a sine fit per dwell, one line each
 };
 
+// How a response's replicates (Response::replicates) were made.
+enum class ReplicateKind {
+  kNone,         // no replicates: intervals are propagated to first order
+  kGroups,       // delete-one-group: the averages (segments, periods) in contiguous
+                 // groups, each replicate the response without one group
+  kNoiseBeside,  // stepped sine: each line's error drawn from the noise its
+                 // dwell holds at frequencies beside its own, as a jackknife
+                 // replicate of that line would be
+};
+
 struct ResponseMethod {
   ResponseMethodKind kind = ResponseMethodKind::kTable;
   // What was averaged: Welch segments, whole periods, or dwells fitted.
@@ -25,6 +36,13 @@ struct ResponseMethod {
   // Independent averages behind each line: Welch's overlap-corrected count,
   // the number of periods, 1 for a dwell.
   double effective_averages = 0.0;
+  ReplicateKind replicate_kind = ReplicateKind::kNone;
+  // kGroups: the averages in each group (the last group may hold up to half
+  // as many more); kNoiseBeside: the frequencies beside each dwell's own.
+  std::size_t per_replicate = 0;
+  // Why there are no replicates, when an estimator that makes them could not
+  // ("" otherwise): the reports say it beside the first-order intervals.
+  const char* no_replicates_reason = "";
 };
 
 struct Response {
@@ -42,9 +60,18 @@ struct Response {
   // x and y, in dB. Empty for the other methods.
   std::vector<double> snr_db;
   ResponseMethod method;
+  // Replicates of the values for the jackknife ([replicate][line]; see
+  // method.replicate_kind); empty when there are none. Every later stage
+  // maps them as it maps the values, so that the margins can be found again
+  // on each (record/jackknife.hpp).
+  std::vector<std::vector<std::complex<double>>> replicates;
 
   std::size_t size() const { return frequency_hz.size(); }
 };
+
+// The lines `lines` of a response (ascending indices, or any order for a
+// reordering), with every per-line vector and the replicates.
+Response select_lines(const Response& response, std::span<const std::size_t> lines);
 
 // How L follows from the measured ratio H; L is defined so that the closed
 // loop's characteristic equation is 1 + L = 0.

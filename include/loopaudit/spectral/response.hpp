@@ -15,6 +15,7 @@
 
 #include <complex>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "loopaudit/names.hpp"
@@ -47,6 +48,13 @@ struct ResponseOptions {
   void validate() const;
 };
 
+
+// The pairs of channels whose cross-spectra make the ratio, denominator then
+// numerator: (r, x) and (r, y) for the reference method, (x, x) and (x, y)
+// for the two-channel one. The Welch accumulator keeps these per group of
+// segments (WelchOptions::grouped_pairs), so that estimate_response can give
+// each line its jackknife replicates (Response::replicates).
+std::vector<std::pair<std::size_t, std::size_t>> ratio_pairs(Estimator estimator);
 
 // Throws NumericalError when no line carries injection power.
 Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& options, Diagnostics& findings);

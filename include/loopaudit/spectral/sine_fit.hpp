@@ -38,6 +38,16 @@ SineFit fit_sine_three(std::span<const double> x, double frequency_hz, double sa
 // 1e-12 of the frequency or after `iterations`.
 SineFit fit_sine_four(std::span<const double> x, double frequency_guess_hz, double sample_rate_hz, int iterations = 20);
 
+// A three-parameter fit with a drift beside the sine: columns cos, sin and a
+// polynomial of `drift_order` (0 is the plain three-parameter fit, 2 adds a
+// slope and a curvature), as sine-fit practice extends IEEE 1057 when the
+// record wanders (common practice). The polynomial takes what slow drift
+// would otherwise leak into the sine. When `residual` is given it receives
+// x minus the fit. Throws NumericalError as fit_sine_three does, and for a
+// record too short to tell the sine from the polynomial (under one cycle).
+SineFit fit_sine_with_drift(std::span<const double> x, double frequency_hz, double sample_rate_hz, int drift_order,
+                            std::vector<double>* residual = nullptr);
+
 // Amplitudes of harmonics 2 .. highest of f0 (three-parameter fits at k f0,
 // skipped at or above Nyquist: 0 there).
 std::vector<double> harmonic_amplitudes(std::span<const double> x, double f0_hz, double sample_rate_hz,

@@ -14,6 +14,7 @@
 #include <memory>
 #include <span>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "loopaudit/record/diagnostic.hpp"
@@ -26,6 +27,10 @@ struct WelchOptions {
   std::size_t segment_length = 4096;  // samples per segment (FFT length)
   double overlap = 0.5;               // fraction of a segment shared with the next, 0 <= overlap <= 0.9
   bool remove_segment_mean = true;    // subtract each segment's mean before windowing
+  // Channel pairs (i <= j) whose sums are also kept for contiguous groups of
+  // segments, for the delete-one-group jackknife (CrossSpectra::groups);
+  // empty for none.
+  std::vector<std::pair<std::size_t, std::size_t>> grouped_pairs;
 
   // Throws ConfigError naming the setting that is out of range (called by
   // the accumulator's constructor).
@@ -47,9 +52,20 @@ struct CrossSpectra {
   double effective_averages = 0.0;
   double sample_rate_hz = 0.0;
   std::vector<ComplexLines> pairs;  // pair (i, j), i <= j, in row order
+  // The grouped pairs (WelchOptions::grouped_pairs) summed over contiguous
+  // groups of segments, [group][grouped pair], scaled as `pairs` is: `pairs`
+  // minus one group is the spectrum without that group's segments (up to a
+  // common factor, which cancels in a ratio). Empty when no pair was grouped
+  // or the groups did not fit their memory budget (`no_groups_reason` says).
+  std::vector<std::vector<ComplexLines>> groups;
+  std::vector<std::pair<std::size_t, std::size_t>> grouped_pairs;
+  std::size_t segments_per_group = 0;  // the last group may hold up to half as many more
+  const char* no_groups_reason = "";
 
   // S_ij = E[conj(X_i) X_j]; requires i <= j.
   const ComplexLines& at(std::size_t i, std::size_t j) const;
+  // Group g's sum of pair (i, j), i <= j; null when that pair was not grouped.
+  const ComplexLines* group_at(std::size_t g, std::size_t i, std::size_t j) const;
   double frequency_hz(std::size_t line) const;
   std::size_t line_count() const { return segment_length / 2 + 1; }
 };
