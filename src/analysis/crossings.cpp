@@ -99,10 +99,12 @@ int fit_degree(const std::vector<double>& sigmas, std::size_t first, std::size_t
 }
 
 LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& values,
-                   const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree) {
+                   const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree,
+                   Weighting weighting) {
   const std::size_t count = last - first + 1;
   degree = std::min<int>(degree, static_cast<int>(count) - 1);
-  const bool weighted = std::all_of(sigmas.begin() + first, sigmas.begin() + last + 1, [](double s) { return s > 0.0; });
+  const bool known = std::all_of(sigmas.begin() + first, sigmas.begin() + last + 1, [](double s) { return s > 0.0; });
+  const bool weighted = known && weighting == Weighting::kBySigma;
   LocalFit fit;
   fit.centre = 0.5 * (log_f[first] + log_f[last]);
   Eigen::MatrixXd design(count, degree + 1);
@@ -116,9 +118,17 @@ LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& 
   }
   const Eigen::VectorXd solution = design.colPivHouseholderQr().solve(target);
   fit.coefficients.assign(solution.data(), solution.data() + solution.size());
-  if (weighted && count > static_cast<std::size_t>(degree)) {
-    // Weighted least squares: cov = (A^T W A)^-1 with the rows already scaled by 1/sigma.
-    const Eigen::MatrixXd covariance = (design.transpose() * design).inverse();
+  if (known && count > static_cast<std::size_t>(degree)) {
+    // Weighted least squares: cov = (A^T W A)^-1 with the rows already scaled
+    // by 1/sigma. Equal weights: the sandwich (A^T A)^-1 A^T S A (A^T A)^-1
+    // with S the lines' variances.
+    const Eigen::MatrixXd inverse = (design.transpose() * design).inverse();
+    Eigen::MatrixXd covariance = inverse;
+    if (!weighted) {
+      const Eigen::VectorXd variances =
+          Eigen::Map<const Eigen::VectorXd>(sigmas.data() + first, static_cast<Eigen::Index>(count)).array().square();
+      covariance = inverse * (design.transpose() * variances.asDiagonal() * design) * inverse;
+    }
     fit.covariance.assign(covariance.rows(), std::vector<double>(covariance.cols()));
     for (Eigen::Index i = 0; i < covariance.rows(); ++i) {
       for (Eigen::Index j = 0; j < covariance.cols(); ++j) fit.covariance[i][j] = covariance(i, j);

@@ -55,8 +55,19 @@ struct LocalFit {
   double sigma_at(double log_f) const;
 };
 
+// How a local fit weighs measured lines. By sigma is the least-squares
+// optimum when the sigmas are known; but measured sigmas are estimates from
+// the same data, correlated with the lines' errors, and the jackknife, which
+// finds the fit again on replicates of the values with the sigmas held,
+// cannot see what that correlation adds: fits whose results it measures
+// weigh lines equally (measured on the coverage check's noisy cell: the same
+// scatter of the crossing either way, and jackknife intervals 9 % too narrow
+// with weights against right without). The covariance uses the sigmas either way.
+enum class Weighting { kBySigma, kEqual };
+
 LocalFit fit_local(const std::vector<double>& log_f, const std::vector<double>& values,
-                   const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree);
+                   const std::vector<double>& sigmas, std::size_t first, std::size_t last, int degree,
+                   Weighting weighting = Weighting::kBySigma);
 
 // Lines with no stated uncertainty are exact: an interpolating cubic places
 // crossings between them. Measured lines get a least-squares quadratic,

@@ -123,20 +123,78 @@ std::vector<std::vector<Crossing>> cluster(const std::vector<Crossing>& crossing
 
 }  // namespace
 
+namespace {
+
+// Measured lines are noisy: a crossover is placed by a quadratic over the
+// lines within kPlacementDecades of its brackets on each side, at least
+// options.fit_half_width - 1 and at most options.slope_half_width lines
+// beyond them. Fewer lines make a crossing that follows the noise of the two
+// or three nearest: on a simulated loop with 0.5 dB of line noise (the
+// coverage check's noisy cell, 300 seeds) a quadratic over four lines placed
+// the crossover with a scatter of 0.0117 decades, heavy-tailed, so that its
+// jackknife intervals held the truth 84 % of the time at a nominal 95 %; over
+// up to eight lines each side the scatter is 0.0087 decades and the
+// intervals hold it 93 % of the time (a straight line over the same lines
+// scatters less, 0.0061, but is biased by a third of that by the curve's
+// bend).
+constexpr double kPlacementDecades = 0.03;
+
+bool measured(const Curve& curve, const Window& w) {
+  return std::all_of(curve.sigmas.begin() + w.first, curve.sigmas.begin() + w.last + 1, [](double s) { return s > 0.0; });
+}
+
+Window placement_window(const std::vector<Crossing>& members, const LineTable& table, const MarginOptions& options) {
+  std::size_t first = members.front().bracket.index;
+  std::size_t last = members.back().bracket.index + 1;
+  const std::size_t least = getenv("LEAST") ? atoi(getenv("LEAST")) : options.fit_half_width - 1;
+  const auto within = [&](std::size_t from, std::size_t to) {
+    return std::abs(table.log_f[to] - table.log_f[from]) <= kPlacementDecades;
+  };
+  const std::size_t low_line = first, high_line = last;
+  for (std::size_t n = 0; n < options.slope_half_width && first > 0 && (n < least || within(low_line, first - 1)); ++n) --first;
+  for (std::size_t n = 0; n < options.slope_half_width && last + 1 < table.size() && (n < least || within(high_line, last + 1));
+       ++n) {
+    ++last;
+  }
+  return {first, last};
+}
+
+}  // namespace
+
 LocalFit group_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
                    const MarginOptions& options) {
   const std::size_t first = members.front().bracket.index;
   const std::size_t last = members.back().bracket.index;
-  const Window w = window_around(first, last, options.fit_half_width, table.size());
-  const int degree = first == last ? detail::fit_degree(curve.sigmas, w.first, w.last) : 1;
-  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree);
+  const Window narrow = window_around(first, last, options.fit_half_width, table.size());
+  if (measured(curve, narrow)) {
+    const Window w = placement_window(members, table, options);
+    const int degree = getenv("FEWDEG") && w.last - w.first + 1 <= 4 ? atoi(getenv("FEWDEG")) : 2;
+    return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree, Weighting::kEqual);
+  }
+  const int degree = first == last ? detail::fit_degree(curve.sigmas, narrow.first, narrow.last) : 1;
+  return detail::fit_local(table.log_f, curve.values, curve.sigmas, narrow.first, narrow.last, degree);
 }
 
-// A merged group's crossing lies on a straight line fitted to all the lines
-// it spans, kept between its first and last member.
+LocalFit group_wide_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
+                        const MarginOptions& options) {
+  const Window w = window_around(members.front().bracket.index, members.back().bracket.index, options.slope_half_width,
+                                 table.size());
+  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 2, Weighting::kEqual);
+}
+
+// Measured lines: the root of the group's fit nearest its members. Exact
+// lines: a single crossing solved in its bracket, a merged group's on a
+// straight line over the lines it spans, kept between its first and last
+// member.
 double group_crossing(const std::vector<Crossing>& members, const LineTable& table, const Curve& curve,
                       const MarginOptions& options) {
   const LocalFit fit = group_fit(table, curve, members, options);
+  const double centre = 0.5 * (members.front().log_f + members.back().log_f);
+  if (measured(curve, window_around(members.front().bracket.index, members.back().bracket.index, options.fit_half_width,
+                                    table.size()))) {
+    const double root = group_root(members, table, curve, options, centre);
+    if (std::isfinite(root)) return root;
+  }
   if (members.size() == 1) return detail::solve_in_bracket(fit, table.log_f, curve.values, members.front().bracket);
   const double level = members.front().bracket.level;
   const double root = fit.slope() != 0.0 ? fit.centre + (level - fit.coefficients[0]) / fit.slope() : fit.centre;
@@ -146,8 +204,7 @@ double group_crossing(const std::vector<Crossing>& members, const LineTable& tab
 double group_root(const std::vector<Crossing>& members, const LineTable& table, const Curve& curve,
                   const MarginOptions& options, double start) {
   const LocalFit fit = group_fit(table, curve, members, options);
-  const Window w = window_around(members.front().bracket.index, members.back().bracket.index, options.fit_half_width,
-                                 table.size());
+  const Window w = placement_window(members, table, options);
   const double low = table.log_f[w.first], high = table.log_f[w.last];
   const double level = members.front().bracket.level;
   double u = start;
@@ -201,7 +258,7 @@ std::vector<Group> crossing_groups(const std::vector<Bracket>& brackets, const L
   for (auto& members : cluster(place_crossings(brackets, table, curve, options), table, curve, options.merge_sigmas)) {
     Group g{std::move(members)};
     g.verdict = verdict_of(g, table, curve);
-    g.log_f = g.members.size() == 1 ? g.members.front().log_f : group_crossing(g.members, table, curve, options);
+    g.log_f = group_crossing(g.members, table, curve, options);
     groups.push_back(std::move(g));
   }
   return groups;

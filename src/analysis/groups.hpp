@@ -59,6 +59,12 @@ bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_m
 LocalFit group_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
                    const MarginOptions& options);
 
+// A quadratic over the lines within options.slope_half_width of the group's
+// brackets, weighed equally: the curve's slope at the crossing with less of
+// the lines' noise than the placing fit's.
+LocalFit group_wide_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
+                        const MarginOptions& options);
+
 // Where the group crosses its level on these lines (the table the group was
 // found on, or a replicate of it): a single crossing solved in its bracket,
 // a merged group on a straight line over its lines (Group::log_f).

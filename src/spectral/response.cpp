@@ -143,6 +143,7 @@ Response estimate_response(const CrossSpectra& spectra, const ResponseOptions& o
   if (grouped) {
     response.method.replicate_kind = ReplicateKind::kGroups;
     response.method.per_replicate = spectra.segments_per_group;
+    response.method.replicate_variance_factor = spectra.group_variance_factor;
     response.replicates.resize(spectra.groups.size());
   } else {
     response.method.no_replicates_reason = *spectra.no_groups_reason ? spectra.no_groups_reason

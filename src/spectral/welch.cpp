@@ -420,6 +420,9 @@ CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
     // The lanes' sums of grouped pairs were handed to the groups: the totals are theirs.
     result.segments_per_group = s.groups.sums.per_group();
     result.grouped_pairs = s.options.grouped_pairs;
+    const std::size_t m = result.segments_per_group;
+    result.group_variance_factor = (static_cast<double>(segments) / result.effective_averages) /
+                                   (static_cast<double>(m) / effective_averages(s.window, result.step, m));
     result.groups = s.groups.sums.finish(segments);
     for (std::size_t a = 0; a < s.groups.pairs.size(); ++a) {
       ComplexLines& total = result.pairs[s.groups.pairs[a]];

@@ -1,9 +1,11 @@
 #include "synth/injection_signal.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <numbers>
 
 #include "loopaudit/error.hpp"
+#include "loopaudit/units.hpp"
 
 namespace loopaudit::detail {
 namespace {
@@ -71,16 +73,25 @@ std::vector<double> chirp_period(const Scenario& s) {
   return out;
 }
 
+// Each frequency held for dwell_s or dwell_cycles of it, whichever is
+// longer; the last held to the end of the record.
 std::vector<double> stepped(const Scenario& s, std::size_t warm_up, std::size_t count) {
   const auto frequencies = stepped_frequencies(s.injection, s.sample_rate_hz);
-  const auto dwell = static_cast<std::size_t>(std::llround(s.injection.dwell_s * s.sample_rate_hz));
+  std::vector<std::size_t> ends;  // of each dwell, in samples from the recording's start
+  std::size_t end = 0;
+  for (double f : frequencies) {
+    const double dwell = std::max(s.injection.dwell_s, s.injection.dwell_cycles / f) * s.sample_rate_hz;
+    end += std::max<std::size_t>(1, clamped_samples(dwell, std::size_t{1} << 40));
+    ends.push_back(end);
+  }
   std::vector<double> out(warm_up + count);
   double phase = 0.0;
+  std::size_t dwell = 0;
   for (std::size_t i = 0; i < out.size(); ++i) {
     const std::size_t n = i >= warm_up ? i - warm_up : 0;
-    const double f = frequencies[std::min(n / dwell, frequencies.size() - 1)];
+    while (dwell + 1 < ends.size() && n >= ends[dwell]) ++dwell;
     out[i] = std::sqrt(2.0) * s.injection.rms * std::sin(phase);
-    phase = std::fmod(phase + kTwoPi * f / s.sample_rate_hz, kTwoPi);
+    phase = std::fmod(phase + kTwoPi * frequencies[dwell] / s.sample_rate_hz, kTwoPi);
   }
   return out;
 }

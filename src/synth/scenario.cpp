@@ -67,7 +67,7 @@ Stage read_stage(const toml::table& table, const std::string& where) {
 
 Injection read_injection(const toml::table& table, const std::string& where) {
   check_keys(table, {"kind", "rms", "low_hz", "high_hz", "period_samples", "odd_only", "prbs_order", "samples_per_bit",
-                     "points", "dwell_s", "sweep", "sweep_s"},
+                     "points", "dwell_s", "dwell_cycles", "sweep", "sweep_s"},
              where);
   Injection in;
   in.kind = value_of(kInjectionKindNames, text(table, "kind", where, "noise"), {.what = "kind", .where = where});
@@ -80,6 +80,7 @@ Injection read_injection(const toml::table& table, const std::string& where) {
   in.samples_per_bit = whole<std::size_t>(table, "samples_per_bit", where, 1, {1, 1 << 20});
   in.points = whole<std::size_t>(table, "points", where, 20, {1, 100000});
   in.dwell_s = number(table, "dwell_s", where, 0.1);
+  in.dwell_cycles = number(table, "dwell_cycles", where, 0.0);
   const std::string sweep = text(table, "sweep", where, "log");
   if (sweep != "log" && sweep != "linear") throw ConfigError(where + ": sweep = '" + sweep + "'; choose log or linear");
   in.log_sweep = sweep == "log";
@@ -134,6 +135,8 @@ void Scenario::validate() const {
           where + ": [injection] a stepped sine or chirp needs 0 < low_hz < high_hz < fs/2");
   require(injection.points >= 1 && injection.dwell_s * sample_rate_hz >= 16,
           where + ": [injection] points must be at least 1 and dwell_s at least 16 samples");
+  require(injection.dwell_cycles >= 0.0 && injection.dwell_cycles <= 1e6,
+          where + ": [injection] dwell_cycles must be from 0 to 1e6");
   require(injection.sweep_s * sample_rate_hz >= 16, where + ": [injection] sweep_s must be at least 16 samples");
   require(injection.samples_per_bit >= 1 && injection.prbs_order >= 5 && injection.prbs_order <= 16,
           where + ": [injection] prbs_order must be from 5 to 16 and samples_per_bit at least 1");

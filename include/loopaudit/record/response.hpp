@@ -40,6 +40,10 @@ struct ResponseMethod {
   // kGroups: the averages in each group (the last group may hold up to half
   // as many more); kNoiseBeside: the frequencies beside each dwell's own.
   std::size_t per_replicate = 0;
+  // What the replicates' jackknife variance is to be multiplied by: the
+  // correlation of overlapping segments across groups (CrossSpectra::
+  // group_variance_factor); 1 for independent groups.
+  double replicate_variance_factor = 1.0;
   // Why there are no replicates, when an estimator that makes them could not
   // ("" otherwise): the reports say it beside the first-order intervals.
   const char* no_replicates_reason = "";

@@ -30,7 +30,8 @@ struct Injection {
   int prbs_order = 10;                 // PRBS: a maximum-length sequence of 2^order - 1 bits
   std::size_t samples_per_bit = 1;     // PRBS: bit duration
   std::size_t points = 20;             // stepped sine: log-spaced frequencies
-  double dwell_s = 0.1;                // stepped sine: time at each frequency
+  double dwell_s = 0.1;                // stepped sine: time at each frequency ...
+  double dwell_cycles = 0.0;           // ... or this many cycles of it, whichever is longer
   bool log_sweep = true;               // chirp: logarithmic (else linear) in frequency
   double sweep_s = 1.0;                // chirp: one sweep, repeated
 
