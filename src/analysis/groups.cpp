@@ -146,7 +146,7 @@ bool measured(const Curve& curve, const Window& w) {
 Window placement_window(const std::vector<Crossing>& members, const LineTable& table, const MarginOptions& options) {
   std::size_t first = members.front().bracket.index;
   std::size_t last = members.back().bracket.index + 1;
-  const std::size_t least = getenv("LEAST") ? atoi(getenv("LEAST")) : options.fit_half_width - 1;
+  const std::size_t least = options.fit_half_width - 1;
   const auto within = [&](std::size_t from, std::size_t to) {
     return std::abs(table.log_f[to] - table.log_f[from]) <= kPlacementDecades;
   };
@@ -168,18 +168,10 @@ LocalFit group_fit(const LineTable& table, const Curve& curve, const std::vector
   const Window narrow = window_around(first, last, options.fit_half_width, table.size());
   if (measured(curve, narrow)) {
     const Window w = placement_window(members, table, options);
-    const int degree = getenv("FEWDEG") && w.last - w.first + 1 <= 4 ? atoi(getenv("FEWDEG")) : 2;
-    return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, degree, Weighting::kEqual);
+    return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 2, Weighting::kEqual);
   }
   const int degree = first == last ? detail::fit_degree(curve.sigmas, narrow.first, narrow.last) : 1;
   return detail::fit_local(table.log_f, curve.values, curve.sigmas, narrow.first, narrow.last, degree);
-}
-
-LocalFit group_wide_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
-                        const MarginOptions& options) {
-  const Window w = window_around(members.front().bracket.index, members.back().bracket.index, options.slope_half_width,
-                                 table.size());
-  return detail::fit_local(table.log_f, curve.values, curve.sigmas, w.first, w.last, 2, Weighting::kEqual);
 }
 
 // Measured lines: the root of the group's fit nearest its members. Exact

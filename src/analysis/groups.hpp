@@ -53,17 +53,13 @@ inline constexpr double kMaxPhaseIntervalDeg = 180.0;
 inline constexpr double kMaxGainIntervalDb = 40.0;
 bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_margin_width, double band_decades);
 
-// The local fit of a curve over the lines a group spans: the one that placed
-// a single crossing (degree from fit_degree), a straight line over a merged
-// group.
+// The local fit of a curve that places a group. Measured lines: a quadratic
+// with equal weights over the placement window (the group's brackets, at
+// least fit_half_width - 1 lines beyond them and any further within
+// 0.03 decade). Lines with an exact part: the bracket's own fit (degree from
+// fit_degree) for a single crossing, a straight line over a merged group.
 LocalFit group_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
                    const MarginOptions& options);
-
-// A quadratic over the lines within options.slope_half_width of the group's
-// brackets, weighed equally: the curve's slope at the crossing with less of
-// the lines' noise than the placing fit's.
-LocalFit group_wide_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
-                        const MarginOptions& options);
 
 // Where the group crosses its level on these lines (the table the group was
 // found on, or a replicate of it): a single crossing solved in its bracket,

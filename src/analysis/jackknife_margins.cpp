@@ -36,8 +36,8 @@ LineTable replicate_table(const LineTable& lines, const std::vector<std::complex
 double near(double value, double reference) { return reference + wrap_deg(value - reference); }
 
 // A listed crossing as the replicates move it: its group's fits of both
-// curves at the crossing on the lines themselves, and their slopes there
-// from quadratics over the wider window (group_wide_fit). A replicate moves
+// curves on the lines themselves, their values and slopes at the crossing.
+// A replicate moves
 // the crossing by its change of the crossing curve's fit there over that
 // slope, and reads the other curve there plus its slope times that move.
 // The slope is held: the local fit's own slope over a few sparse lines
@@ -56,10 +56,10 @@ std::vector<Anchor> anchors_of(const std::vector<Group>& groups, const LineTable
                                const Curve& other, const MarginOptions& options) {
   std::vector<Anchor> out;
   for (const Group& g : groups) {
-    out.push_back({g.log_f, group_fit(t, own, g.members, options).at(g.log_f),
-                   group_wide_fit(t, own, g.members, options).derivative_at(g.log_f),
-                   group_fit(t, other, g.members, options).at(g.log_f),
-                   group_wide_fit(t, other, g.members, options).derivative_at(g.log_f)});
+    const LocalFit own_fit = group_fit(t, own, g.members, options);
+    const LocalFit other_fit = group_fit(t, other, g.members, options);
+    out.push_back({g.log_f, own_fit.at(g.log_f), own_fit.derivative_at(g.log_f), other_fit.at(g.log_f),
+                   other_fit.derivative_at(g.log_f)});
   }
   return out;
 }
@@ -113,7 +113,7 @@ struct Jackknifer {
     const JackknifeEstimate jk = jackknife(full, replicates);
     // A correction that would leave a positive quantity at or below zero
     // says the lines are too noisy to correct: the value stays.
-    const bool corrected = !getenv("NOBIAS") && correct_bias && (logarithmic || full <= 0.0 || full - jk.bias > 0.0);
+    const bool corrected = correct_bias && (logarithmic || full <= 0.0 || full - jk.bias > 0.0);
     const double centre = corrected ? full - jk.bias : full;
     const double half = factor * std::sqrt(jk.variance);
     const auto back = [&](double u) { return logarithmic ? std::pow(10.0, u) : u; };
@@ -199,7 +199,9 @@ void jackknife_margins(const Response& lines, const LineTable& table, const List
   if (lines.replicates.size() < 2) {
     u.method = IntervalMethod::kFirstOrder;
     u.half_width_factor = two_sided_z(options.confidence);
-    u.first_order_reason = lines.method.no_replicates_reason;
+    u.first_order_reason = *lines.method.no_replicates_reason
+                               ? lines.method.no_replicates_reason
+                               : "the lines carry their sigmas but no replicates (a table, or a single average)";
     return;
   }
   const std::size_t modulus_k = modulus_line(table);
@@ -237,7 +239,6 @@ void jackknife_margins(const Response& lines, const LineTable& table, const List
   if (margins.modulus && !margins.modulus->at_band_edge) {
     jk.apply(margins.modulus->modulus_margin, scalar(&Values::modulus_margin), false, true);
     set_peak_sensitivity(*margins.modulus);
-    margins.modulus->peak_sensitivity_db.method = margins.modulus->modulus_margin.method;
   }
   if (margins.disk && !margins.disk->at_band_edge) {
     Estimate alpha = margins.disk->alpha;

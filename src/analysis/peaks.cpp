@@ -60,7 +60,7 @@ LocalLoop local_loop(const LineTable& table, std::size_t k, const MarginOptions&
     im[i] = table.value[i].imag();
     sigmas[i] = line_sigma(table, i);
   }
-  const int degree = getenv("PEAKDEG") ? atoi(getenv("PEAKDEG")) : detail::fit_degree(table.relative_sigma, w.first, w.last);
+  const int degree = detail::fit_degree(table.relative_sigma, w.first, w.last);
   return {detail::fit_local(table.log_f, re, sigmas, w.first, w.last, degree, Weighting::kEqual),
           detail::fit_local(table.log_f, im, sigmas, w.first, w.last, degree, Weighting::kEqual)};
 }
@@ -140,9 +140,13 @@ ModulusPoint modulus_point(const LineTable& table, const MarginOptions& options)
 }
 
 void set_peak_sensitivity(ModulusPoint& point) {
-  point.peak_sensitivity_db = {-db_from_ratio(point.modulus_margin.value), std::nullopt};
-  const auto& ci = point.modulus_margin.interval;
-  if (ci && ci->low > 0.0) point.peak_sensitivity_db.interval = Interval{-db_from_ratio(ci->high), -db_from_ratio(ci->low)};
+  const Estimate& m = point.modulus_margin;
+  const auto in_db = [](const std::optional<Interval>& ci) {
+    return ci && ci->low > 0.0 ? std::optional<Interval>(Interval{-db_from_ratio(ci->high), -db_from_ratio(ci->low)})
+                               : std::nullopt;
+  };
+  point.peak_sensitivity_db = {-db_from_ratio(m.value), in_db(m.interval), m.method, in_db(m.first_order)};
+  if (m.uncorrected) point.peak_sensitivity_db.uncorrected = -db_from_ratio(*m.uncorrected);
 }
 
 // The largest |S - T| = |(1 - L)/(1 + L)| over the band.

@@ -17,7 +17,31 @@ Json interval_json(const std::optional<Interval>& i) {
 
 Json estimate_value(const std::optional<Estimate>& e) { return e ? Json(e->value) : Json(nullptr); }
 
-Json estimate_interval(const std::optional<Estimate>& e) { return interval_json(e ? e->interval : std::nullopt); }
+// An estimate's interval, the method that made it and, for the jackknife,
+// the first-order interval beside it and the value before a bias correction.
+Json estimate_interval(const Estimate& e) {
+  Json out = interval_json(e.interval);
+  if (out.is_null()) return out;
+  out["method"] = interval_method_name(e.method);
+  if (e.first_order) out["first_order"] = interval_json(e.first_order);
+  if (e.uncorrected) out["value_before_bias_correction"] = *e.uncorrected;
+  return out;
+}
+
+Json estimate_interval(const std::optional<Estimate>& e) { return e ? estimate_interval(*e) : Json(nullptr); }
+
+Json uncertainty_json(const UncertaintyMethod& u) {
+  Json out{{"method", interval_method_name(u.method)}};
+  if (u.method == IntervalMethod::kJackknife) {
+    out["replicates"] = u.replicates;
+    out["degrees_of_freedom"] = u.degrees_of_freedom;
+    out["basis"] = u.basis;
+  } else {
+    out["reason"] = u.first_order_reason;
+  }
+  out["half_width_factor"] = u.half_width_factor;
+  return out;
+}
 
 Json summary_json(const MarginSummary& s) {
   Json out = Json::object();
@@ -55,6 +79,7 @@ Json unresolved_json(const std::vector<UnresolvedStretch>& stretches) {
 void put_margins(Json& out, const Margins& m) {
   out["band"] = {{"low_hz", m.band_low_hz}, {"high_hz", m.band_high_hz}, {"lines", m.line_count}};
   out["confidence"] = m.confidence;
+  out["uncertainty"] = uncertainty_json(m.uncertainty);
   out["gain_crossovers"] = Json::array();
   for (const auto& c : m.gain_crossovers) {
     out["gain_crossovers"].push_back({{"freq_hz", c.frequency_hz.value},
@@ -62,9 +87,9 @@ void put_margins(Json& out, const Margins& m) {
                                       {"delay_margin_s", c.delay_margin_s.value},
                                       {"merged_crossings", c.merged_crossings},
                                       {"intervals",
-                                       {{"freq_hz", interval_json(c.frequency_hz.interval)},
-                                        {"phase_margin_deg", interval_json(c.phase_margin_deg.interval)},
-                                        {"delay_margin_s", interval_json(c.delay_margin_s.interval)}}},
+                                       {{"freq_hz", estimate_interval(c.frequency_hz)},
+                                        {"phase_margin_deg", estimate_interval(c.phase_margin_deg)},
+                                        {"delay_margin_s", estimate_interval(c.delay_margin_s)}}},
                                       {"trust_flags", c.trust_flags}});
   }
   out["phase_crossovers"] = Json::array();
@@ -74,8 +99,8 @@ void put_margins(Json& out, const Margins& m) {
                                        {"limits", direction_name(c.limits)},
                                        {"merged_crossings", c.merged_crossings},
                                        {"intervals",
-                                        {{"freq_hz", interval_json(c.frequency_hz.interval)},
-                                         {"gain_margin_db", interval_json(c.gain_margin_db.interval)}}},
+                                        {{"freq_hz", estimate_interval(c.frequency_hz)},
+                                         {"gain_margin_db", estimate_interval(c.gain_margin_db)}}},
                                        {"trust_flags", c.trust_flags}});
   }
   out["modulus"] = m.modulus ? Json{{"freq_hz", m.modulus->frequency_hz},
@@ -83,8 +108,8 @@ void put_margins(Json& out, const Margins& m) {
                                     {"peak_sensitivity_db", m.modulus->peak_sensitivity_db.value},
                                     {"at_band_edge", m.modulus->at_band_edge},
                                     {"intervals",
-                                     {{"modulus_margin", interval_json(m.modulus->modulus_margin.interval)},
-                                      {"peak_sensitivity_db", interval_json(m.modulus->peak_sensitivity_db.interval)}}}}
+                                     {{"modulus_margin", estimate_interval(m.modulus->modulus_margin)},
+                                      {"peak_sensitivity_db", estimate_interval(m.modulus->peak_sensitivity_db)}}}}
                              : Json(nullptr);
   out["disk"] = m.disk ? Json{{"alpha", m.disk->alpha.value},
                               {"freq_hz", m.disk->frequency_hz},
@@ -93,9 +118,9 @@ void put_margins(Json& out, const Margins& m) {
                               {"phase_deg", m.disk->phase_deg.value},
                               {"at_band_edge", m.disk->at_band_edge},
                               {"intervals",
-                               {{"alpha", interval_json(m.disk->alpha.interval)},
-                                {"gain_high_db", interval_json(m.disk->gain_high_db.interval)},
-                                {"phase_deg", interval_json(m.disk->phase_deg.interval)}}}}
+                               {{"alpha", estimate_interval(m.disk->alpha)},
+                                {"gain_high_db", estimate_interval(m.disk->gain_high_db)},
+                                {"phase_deg", estimate_interval(m.disk->phase_deg)}}}}
                        : Json(nullptr);
   out["unresolved"] = unresolved_json(m.unresolved);
   const auto& st = m.stability;

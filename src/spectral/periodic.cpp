@@ -112,6 +112,28 @@ void PeriodicAccumulator::push(std::span<const std::span<const double>> channels
   for (auto& v : s.pending) v.erase(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(offset));
 }
 
+namespace {
+
+// The jackknife's groups of periods, set on the response (its replicates
+// sized, its method told) when there are at least two.
+std::vector<std::vector<detail::GroupLines>> take_groups(detail::GroupSums& sums, std::size_t periods, Response& r) {
+  const std::size_t per_group = sums.per_group();
+  auto groups = sums.finish(periods);
+  if (groups.size() >= 2) {
+    r.method.replicate_kind = ReplicateKind::kGroups;
+    r.method.per_replicate = per_group;
+    r.replicates.resize(groups.size());
+  }
+  return groups;
+}
+
+Diagnostic partial_period_note(std::size_t left_over, std::size_t period_samples) {
+  return make_note("spectral.partial-period", "the record ends " + std::to_string(left_over) + " samples into a period of " +
+                                                  std::to_string(period_samples) + "; those samples are not used");
+}
+
+}  // namespace
+
 Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& findings) {
   Impl& s = *impl_;
   const double n = static_cast<double>(s.periods_used);
@@ -133,15 +155,8 @@ Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& finding
   const std::size_t last = (s.options.period_samples - 1) / 2;  // never DC or Nyquist
   Response r;
   r.method = {ResponseMethodKind::kPeriodic, s.periods_used, n};
-  const std::size_t per_group = s.grouped ? s.groups.per_group() : 0;
-  const auto groups = s.grouped ? s.groups.finish(s.periods_used) : std::vector<std::vector<detail::GroupLines>>{};
-  if (groups.size() >= 2) {
-    r.method.replicate_kind = ReplicateKind::kGroups;
-    r.method.per_replicate = per_group;
-    r.replicates.resize(groups.size());
-  } else {
-    r.method.no_replicates_reason = "the period is too long for the jackknife's group sums to fit their memory budget";
-  }
+  const auto groups = s.grouped ? take_groups(s.groups, s.periods_used, r) : std::vector<std::vector<detail::GroupLines>>{};
+  if (!s.grouped) r.method.no_replicates_reason = "the period is too long for the jackknife's group sums to fit their memory budget";
   double excited_power = 0.0, other_power = 0.0;
   std::size_t excited = 0, others = 0;
   for (std::size_t k = 1; k <= last; ++k) {
@@ -168,11 +183,7 @@ Response PeriodicAccumulator::finish(double sample_rate_hz, Diagnostics& finding
     }
   }
   if (r.size() == 0) throw NumericalError("no line of the period carries injection power above the floor");
-  if (!s.pending[0].empty()) {
-    findings.push_back(make_note("spectral.partial-period",
-                                 "the record ends " + std::to_string(s.pending[0].size()) + " samples into a period of " +
-                                     std::to_string(s.options.period_samples) + "; those samples are not used"));
-  }
+  if (!s.pending[0].empty()) findings.push_back(partial_period_note(s.pending[0].size(), s.options.period_samples));
   if (others > 0 && excited > 0) {
     std::ostringstream message;
     message << "lines the injection does not excite hold, in y, " << std::lround(db_from_power((other_power / others) / (excited_power / excited)))

@@ -22,13 +22,16 @@ constexpr double kHarmonicOverNoise = 4.0;
 constexpr double kFrequencyMismatch = 0.02;
 // The drift fitted beside each dwell's sine: a slope and a curvature take
 // what slow wander (load changes, thermal drift) would leak into it.
-static int kDriftOrder = getenv("DRIFTORD") ? atoi(getenv("DRIFTORD")) : 2;
+constexpr int kDriftOrder = 2;
 // How many frequencies beside a dwell's own measure the noise its line
 // carries, and how near and far they lie, in bins of the dwell (fs / N): two
 // bins or more away, so that the fitted sine leaks little into them, and
-// above the two and a half bins the drift polynomial spans. Eight give the
-// margins' jackknife 7 degrees of freedom.
-constexpr std::size_t kBeside = 8;
+// above the two and a half bins the drift polynomial spans. Sixteen give the
+// margins' jackknife 15 degrees of freedom (eight, with 7, left the
+// variance of a margin too uncertain from run to run: on the calibration
+// check's resonant loop its phase crossover was held by the interval 86 % of
+// the time).
+constexpr std::size_t kBeside = 16;
 constexpr int kNearestBin = 2;
 constexpr int kFarthestBin = 12;
 constexpr double kLowestBin = 2.5;
@@ -72,14 +75,16 @@ std::vector<Complex> errors_beside(const std::vector<double>& residual_x, const 
   if (errors.size() < 2) return errors;
   double mean_t = 0.0, mean_y = 0.0;
   const double n = static_cast<double>(errors.size());
+  std::vector<double> log_power;
+  for (const Complex& e : errors) log_power.push_back(std::log(std::max(std::norm(e), 1e-300)));
   for (std::size_t j = 0; j < errors.size(); ++j) {
     mean_t += log_ratio[j] / n;
-    mean_y += std::log(std::max(std::norm(errors[j]), 1e-300)) / n;
+    mean_y += log_power[j] / n;
   }
   double sxy = 0.0, sxx = 0.0;
   for (std::size_t j = 0; j < errors.size(); ++j) {
     sxx += (log_ratio[j] - mean_t) * (log_ratio[j] - mean_t);
-    sxy += (log_ratio[j] - mean_t) * (std::log(std::max(std::norm(errors[j]), 1e-300)) - mean_y);
+    sxy += (log_ratio[j] - mean_t) * (log_power[j] - mean_y);
   }
   const double slope = sxx > 0.0 ? sxy / sxx : 0.0;
   for (std::size_t j = 0; j < errors.size(); ++j) errors[j] *= std::exp(-0.5 * slope * log_ratio[j]);
@@ -92,17 +97,19 @@ std::vector<Complex> errors_beside(const std::vector<double>& residual_x, const 
 // variance of the errors, the line's own.
 // Replicates of a line whose noise beside it could not be measured, from its
 // first-order relative sigma: H_(j) = H (1 + c sigma (h_a[j] + i h_b[j]))
-// with h_a, h_b two balanced rows of the 8-point Hadamard matrix (+-1, each
+// with h_a, h_b two balanced rows of the Sylvester Hadamard matrix of order
+// kBeside (+-1, each
 // orthogonal to the others and to a constant) and c = 1/sqrt(G - 1), so that
 // the jackknife gives ln|H| and arg H each the variance sigma^2. The rows
 // turn with the line's index, so that neighbouring lines' pseudo-errors are
 // uncorrelated, as their dwells' noise is.
 std::vector<Complex> first_order_replicates(Complex h, double relative_sigma, std::size_t line) {
-  static_assert(kBeside == 8, "the Hadamard rows below have 8 entries");
+  static_assert((kBeside & (kBeside - 1)) == 0, "Sylvester's Hadamard matrices have an order that is a power of two");
   const auto hadamard = [](std::size_t row, std::size_t column) {
     return __builtin_popcountll(row & column) % 2 == 0 ? 1.0 : -1.0;
   };
-  const std::size_t a = 1 + line % 7, b = 1 + (line + 3) % 7;
+  const std::size_t rows = kBeside - 1;  // the balanced ones: all but the first
+  const std::size_t a = 1 + line % rows, b = 1 + (line + rows / 2) % rows;
   const double c = relative_sigma / std::sqrt(static_cast<double>(kBeside) - 1.0);
   std::vector<Complex> out;
   for (std::size_t j = 0; j < kBeside; ++j) out.push_back(h * (1.0 + c * Complex(hadamard(a, j), hadamard(b, j))));

@@ -122,7 +122,11 @@ class DemoScenarios(unittest.TestCase):
         self.assertEqual(measured["method"]["formula"], "L = -Y/X")
 
     def test_response_csv_feeds_the_margins_command(self):
-        # Round trip: the lines written by analyze give the same margins.
+        # Round trip: the lines written by analyze give the same margins. The
+        # table carries the lines' sigmas but not their replicates, so its
+        # intervals are the first-order ones analyze keeps beside its
+        # jackknife intervals, and its modulus margin the value before the
+        # jackknife's bias correction.
         stem = os.path.join(self.folder, "servo_velocity")
         # The CSV holds every line; analyze read margins from the excited band only.
         band = self.results["servo_velocity"][0]["band"]
@@ -131,6 +135,12 @@ class DemoScenarios(unittest.TestCase):
         again = load(stem + ".again.json")["summary"]
         first = dict(self.results["servo_velocity"][0]["summary"])
         intervals = first.pop("intervals")
+        self.assertEqual(self.results["servo_velocity"][0]["uncertainty"]["method"], "jackknife")
+        self.assertEqual(load(stem + ".again.json")["uncertainty"]["method"], "first-order")
+        for key, interval in intervals.items():
+            if interval is not None and "value_before_bias_correction" in interval:
+                self.assertNotEqual(first[key], interval["value_before_bias_correction"], key)
+                first[key] = interval["value_before_bias_correction"]
         self.assertEqual(again.pop("possible"), first.pop("possible"))
         self.assertEqual(again.pop("status"), first.pop("status"))
         for key, value in first.items():
@@ -143,8 +153,10 @@ class DemoScenarios(unittest.TestCase):
             if interval is None:
                 self.assertIsNone(again["intervals"][key], key)
                 continue
+            self.assertEqual(interval["method"], "jackknife", key)
+            self.assertEqual(again["intervals"][key]["method"], "first-order", key)
             for end in ("ci_low", "ci_high"):
-                self.assertAlmostEqual(again["intervals"][key][end], interval[end],
+                self.assertAlmostEqual(again["intervals"][key][end], interval["first_order"][end],
                                        delta=1e-6 * max(1.0, abs(interval[end])), msg=key)
 
     def test_text_report_prints_truth_beside_measurement(self):
