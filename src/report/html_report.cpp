@@ -141,7 +141,6 @@ void write_method(std::ostream& out, const AnalysisResult& r, const ReportContex
   row("input", "<code>" + escape(r.origin) + "</code>");
   if (!c.recording_modified.empty()) row("file date", escape(c.recording_modified) + " (last modified)");
   for (const auto& [label, text] : describe_method(r)) row(label, escape(text));
-  row("intervals", fixed(100.0 * r.margins.confidence, 0) + " %, two-sided, from each line's standard deviation");
   if (c.settings_path.empty()) {
     row("settings", "none given (defaults and command-line options)");
   } else {
@@ -266,9 +265,10 @@ void write_cautions(std::ostream& out) {
   out << "<h2>Cautions</h2>\n<div class=\"caution\"><p>Loop injection is done on live power hardware, often at "
          "hazardous voltages. Follow your local electrical-safety codes and your organisation's licensed practice "
          "for such work.</p><p>This report analyses a recording; it does not make a design safe. A margin or "
-         "verdict in it is an engineering aid, not a certification. Its intervals cover random noise only: not "
-         "bias from a too-large injection (nonlinearity), a wrong sign convention or channel role, or behaviour "
-         "outside the measured band.</p></div>\n";
+         "verdict in it is an engineering aid, not a certification. Its intervals cover the random noise the "
+         "recording's own scatter shows: not bias from a too-large injection (nonlinearity), leakage across a "
+         "segment, drift slower than a segment or a dwell, a dwell's unsettled start, a wrong sign convention "
+         "or channel role, or behaviour outside the measured band.</p></div>\n";
 }
 
 }  // namespace

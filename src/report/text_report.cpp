@@ -251,6 +251,18 @@ void write_findings(std::ostream& out, const Diagnostics& findings, const FullLi
       << " under \"diagnostics\"\n";
 }
 
+// How the intervals were made: the jackknife's replicates and degrees of
+// freedom, or why the lines' sigmas were propagated instead.
+std::string describe_intervals(const Margins& m) {
+  const UncertaintyMethod& u = m.uncertainty;
+  const std::string level = printf_string("%.0f %%, two-sided, ", 100.0 * m.confidence);
+  if (u.method == IntervalMethod::kFirstOrder) {
+    return level + "first order from each line's sigma" + (u.first_order_reason.empty() ? "" : " (" + u.first_order_reason + ")");
+  }
+  return level + "jackknife: " + u.basis + ", t = " + printf_string("%.2f", u.half_width_factor) + " (" +
+         printf_string("%.1f", u.degrees_of_freedom) + " degrees of freedom); modulus and disk margins bias-corrected";
+}
+
 }  // namespace
 
 std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisResult& r) {
@@ -309,6 +321,7 @@ std::vector<std::pair<std::string, std::string>> describe_method(const AnalysisR
                                       format_frequency(r.margins.band_high_hz) + " (" +
                                       r.options.margins.band_source + ")");
   }
+  lines.emplace_back("intervals", describe_intervals(r.margins));
   return lines;
 }
 
