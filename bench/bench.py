@@ -2,8 +2,11 @@
 text recording, beside the same Welch computation in numpy + scipy.signal and
 beside the one-core FFT floor, all measured in this one run.
 
-Usage (from scripts/bench): bench.py BUILD_DIR DATA_DIR [--runs N] [--skip-scipy]
+Usage (from scripts/bench): bench.py BUILD_DIR DATA_DIR [--runs N] [--skip-scipy] [--against REV]
 Prints medians of N runs (default 3) and ratios against the references.
+--against REV also builds git revision REV (a worktree under DATA_DIR) and
+times its analysis of the same recordings in the same run, the two programs'
+runs alternating, so that a change's cost is a ratio measured side by side.
 """
 import argparse
 import os
@@ -35,6 +38,33 @@ def run_measured(args):
 def median_run(args, runs):
     results = [run_measured(args) for _ in range(runs)]
     return statistics.median(r[0] for r in results), max(r[1] for r in results)
+
+
+def build_revision(root, revision, data):
+    """The loopaudit program of git revision `revision`, built (Release) in a
+    worktree under `data`; built once per commit."""
+    commit = subprocess.run(["git", "-C", root, "rev-parse", "--verify", revision + "^{commit}"], check=True,
+                            capture_output=True, text=True).stdout.strip()
+    tree = os.path.join(os.path.abspath(data), "against-" + commit[:12])
+    if not os.path.isdir(tree):
+        subprocess.run(["git", "-C", root, "worktree", "add", "--detach", tree, commit], check=True,
+                       stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    build = os.path.join(tree, "build")
+    subprocess.run(["cmake", "-S", tree, "-B", build, "-DCMAKE_BUILD_TYPE=Release"], check=True,
+                   stdout=subprocess.DEVNULL)
+    subprocess.run(["cmake", "--build", build, "--target", "loopaudit_cli", "-j", str(os.cpu_count() or 1)],
+                   check=True, stdout=subprocess.DEVNULL)
+    return os.path.join(build, "loopaudit"), commit[:12]
+
+
+def paired_runs(first, second, runs):
+    """Medians (wall s) and peak RSS (MiB) of two commands, their runs alternating."""
+    a, b = [], []
+    for _ in range(runs):
+        a.append(run_measured(first))
+        b.append(run_measured(second))
+    return ((statistics.median(r[0] for r in a), max(r[1] for r in a)),
+            (statistics.median(r[0] for r in b), max(r[1] for r in b)))
 
 
 def make_binary(path):
@@ -85,6 +115,7 @@ def main():
     parser.add_argument("data")
     parser.add_argument("--runs", type=int, default=3)
     parser.add_argument("--skip-scipy", action="store_true")
+    parser.add_argument("--against", metavar="REV", help="also time git revision REV, side by side")
     a = parser.parse_args()
     tool = os.path.join(a.build, "loopaudit")
     floor_tool = os.path.join(a.build, "fft_floor")
@@ -110,8 +141,17 @@ def main():
     floor = float(out[1])
 
     print(f"measuring ({a.runs} runs each; medians)", file=sys.stderr)
-    bin_wall, bin_rss = median_run([tool, "analyze", binary, "--config", settings, "--quiet"], a.runs)
-    txt_wall, txt_rss = median_run([tool, "analyze", text, "--quiet"], a.runs)
+    bin_args = ["analyze", binary, "--config", settings, "--quiet"]
+    txt_args = ["analyze", text, "--quiet"]
+    against = None
+    if a.against:
+        other, commit = build_revision(root, a.against, a.data)
+        (bin_wall, bin_rss), other_bin = paired_runs([tool, *bin_args], [other, *bin_args], a.runs)
+        (txt_wall, txt_rss), other_txt = paired_runs([tool, *txt_args], [other, *txt_args], a.runs)
+        against = (commit, other_bin, other_txt)
+    else:
+        bin_wall, bin_rss = median_run([tool, *bin_args], a.runs)
+        txt_wall, txt_rss = median_run([tool, *txt_args], a.runs)
     python = "/usr/bin/python3"
     scipy_bin = scipy_txt = None
     if not a.skip_scipy:
@@ -124,6 +164,9 @@ def main():
           f"{segments} segments of {SEGMENT}, Hann, 50 % overlap")
     print(f"  {'':34} {'wall s':>8} {'samples/s':>10} {'peak RSS MiB':>13} {'ratio':>8}")
     print(f"  {'loopaudit analyze':34} {bin_wall:8.3f} {samples / bin_wall:10.3g} {bin_rss:13.1f} {'1':>8}")
+    if against:
+        print(f"  {'loopaudit analyze at ' + against[0]:34} {against[1][0]:8.3f} {samples / against[1][0]:10.3g} "
+              f"{against[1][1]:13.1f} {bin_wall / against[1][0]:7.2f}x")
     print(f"  {'FFTs alone, one core (floor)':34} {floor:8.3f} {samples / floor:10.3g} {'':>13} "
           f"{bin_wall / floor:7.2f}x")
     if scipy_bin:
@@ -131,6 +174,9 @@ def main():
               f"{scipy_bin[1]:13.1f} {scipy_bin[0] / bin_wall:7.1f}x")
     print(f"text record: {text_rows:.0e} rows, 4 columns ({text_bytes / 1e6:.0f} MB)")
     print(f"  {'loopaudit analyze':34} {txt_wall:8.3f} {text_bytes / 1e6 / txt_wall:7.0f} MB/s {txt_rss:10.1f}")
+    if against:
+        print(f"  {'loopaudit analyze at ' + against[0]:34} {against[2][0]:8.3f} {text_bytes / 1e6 / against[2][0]:7.0f} MB/s "
+              f"{against[2][1]:10.1f} {txt_wall / against[2][0]:6.2f}x")
     if scipy_txt:
         print(f"  {'numpy.loadtxt + scipy.signal':34} {scipy_txt[0]:8.3f} {text_bytes / 1e6 / scipy_txt[0]:7.0f} MB/s "
               f"{scipy_txt[1]:10.1f} {scipy_txt[0] / txt_wall:6.1f}x")
@@ -144,6 +190,9 @@ def main():
     if scipy_bin:
         checks.insert(0, ("binary >= 10 x faster than numpy + scipy", scipy_bin[0] >= 10 * bin_wall,
                           f"{scipy_bin[0] / bin_wall:.1f}x"))
+    if against:
+        checks.append((f"binary at most 1.10 x the time of {against[0]}", bin_wall <= 1.10 * against[1][0],
+                       f"{bin_wall / against[1][0]:.2f}x"))
     for name, ok, figure in checks:
         print(f"  {'met ' if ok else 'MISS'}  {name}: {figure}")
 

@@ -44,7 +44,7 @@ TEST_CASE("the jackknife of the sample mean is s^2/n with no bias", "[record][ja
 TEST_CASE("the jackknife removes the bias of the plug-in variance", "[record][jackknife]") {
   // The plug-in variance (1/n) sum (x - mean)^2 has bias -sigma^2/n; its
   // jackknife correction gives the unbiased s^2 exactly (Efron and
-  // Tibshirani 1993, ch. 10, the jackknife estimate of bias).
+  // Tibshirani 1993, ch. 11, the jackknife estimate of bias).
   const std::vector<double> x{1.0, 4.0, 2.5, -3.0, 7.25, 0.5};
   const auto plug_in = [](const std::vector<double>& v) {
     double m = 0.0;
