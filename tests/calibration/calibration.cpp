@@ -19,7 +19,7 @@
 // and y and a disturbance inside the loop that drifts slowly (red, with a
 // 2 Hz corner). Every recording has its own seed.
 //
-//   calibration_check [--per-cell N] [--limits slow|ci] [--cells LOOP/EXCITATION,...]
+//   calibration_check [--per-cell N] [--limits slow|ci] [--cells LOOP/EXCITATION,...] [--markdown yes]
 //
 // prints, per cell and quantity, the count, the mean and the scatter of z and
 // the coverage, and for the lines themselves the rms of z (magnitude and
@@ -338,6 +338,51 @@ constexpr double kMostMissed = 0.05;
 constexpr double kLinesLow = 0.75;
 constexpr double kLinesHigh = 1.3;
 
+bool within(const Scores& s, const Limits& l, int runs) {
+  return s.z.size() >= 2 && s.scatter() >= l.scatter_low && s.scatter() <= l.scatter_high &&
+         std::abs(s.mean()) <= l.mean && s.coverage() >= l.coverage_low && s.coverage() <= l.coverage_high &&
+         s.missed <= kMostMissed * runs;
+}
+
+// The cells as a Markdown table (README.md, "Uncertainty"): a row per cell
+// and crossover number, a column per quantity, each entry the scatter of z
+// and the coverage, in bold when a limit is missed, and the mean of z where
+// it passes 0.2 in size.
+void print_markdown(const std::vector<Cell>& cells, bool slow) {
+  const char* columns[][2] = {{"gain crossover", "frequency"}, {"gain crossover", "phase margin"},
+                              {"gain crossover", "delay margin"}, {"phase crossover", "frequency"},
+                              {"phase crossover", "gain margin"}};
+  std::printf("\n| cell | crossover | gain crossover | phase margin | delay margin | phase crossover | gain margin | "
+              "modulus margin | disk margin |\n| --- | --- | --- | --- | --- | --- | --- | --- | --- |\n");
+  const auto entry = [&](const Cell& cell, const std::string& q) {
+    if (!cell.scores.count(q)) return std::string();
+    const Scores& s = cell.scores.at(q);
+    const bool ok = within(s, limits_for(slow, s), cell.runs);
+    char text[80];
+    std::snprintf(text, sizeof text, "%s%.2f / %.1f %%%s", ok ? "" : "**", s.scatter(), 100.0 * s.coverage(), ok ? "" : "**");
+    std::string out = text;
+    if (std::abs(s.mean()) > 0.2) {
+      std::snprintf(text, sizeof text, " (mean %+.2f)", s.mean());
+      out += text;
+    }
+    return out;
+  };
+  for (const Cell& cell : cells) {
+    for (int n = 1; n <= 3; ++n) {
+      std::string row = "| " + cell.name() + " | " + std::to_string(n);
+      bool any = false;
+      for (const auto& [what, quantity] : columns) {
+        const std::string e = entry(cell, std::string(what) + " " + std::to_string(n) + " " + quantity);
+        any = any || !e.empty();
+        row += " | " + e;
+      }
+      if (!any) break;
+      row += " | " + (n == 1 ? entry(cell, "modulus margin") : "") + " | " + (n == 1 ? entry(cell, "disk margin alpha") : "") + " |";
+      std::printf("%s\n", row.c_str());
+    }
+  }
+}
+
 bool report(const Cell& cell, bool slow) {
   bool ok = true;
   std::printf("%s (%d recordings%s)\n", cell.name().c_str(), cell.runs,
@@ -345,10 +390,7 @@ bool report(const Cell& cell, bool slow) {
   ok = ok && cell.failed == 0;
   for (const std::string& q : cell.order) {
     const Scores& s = cell.scores.at(q);
-    const Limits l = limits_for(slow, s);
-    const bool pass = s.z.size() >= 2 && s.scatter() >= l.scatter_low && s.scatter() <= l.scatter_high &&
-                      std::abs(s.mean()) <= l.mean && s.coverage() >= l.coverage_low &&
-                      s.coverage() <= l.coverage_high && s.missed <= kMostMissed * cell.runs;
+    const bool pass = within(s, limits_for(slow, s), cell.runs);
     ok = ok && pass;
     std::printf("  %-34s n %4zu  missed %3d  mean z %+5.2f  scatter %4.2f  coverage %5.1f %%  %s\n", q.c_str(),
                 s.z.size(), s.missed, s.mean(), s.scatter(), 100.0 * s.coverage(), pass ? "ok" : "MISS");
@@ -371,10 +413,12 @@ int main(int argc, char** argv) {
   int per_cell = 40;
   bool slow = false;
   std::string only;
+  bool markdown = false;
   for (int i = 1; i + 1 < argc; i += 2) {
     if (!std::strcmp(argv[i], "--per-cell")) per_cell = std::max(2, std::atoi(argv[i + 1]));
     else if (!std::strcmp(argv[i], "--limits")) slow = !std::strcmp(argv[i + 1], "slow");
     else if (!std::strcmp(argv[i], "--cells")) only = argv[i + 1];
+    else if (!std::strcmp(argv[i], "--markdown")) markdown = !std::strcmp(argv[i + 1], "yes");
     else {
       std::fprintf(stderr, "calibration_check: unknown option %s\n", argv[i]);
       return 2;
@@ -418,5 +462,6 @@ int main(int argc, char** argv) {
   bool ok = true;
   for (const Cell& c : cells) ok = report(c, slow) && ok;
   std::printf("%s\n", ok ? "pass: every cell within its limits" : "FAIL: a cell is outside its limits");
+  if (markdown) print_markdown(cells, slow);
   return ok ? 0 : 1;
 }
