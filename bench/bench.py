@@ -58,11 +58,18 @@ def build_revision(root, revision, data):
 
 
 def paired_runs(first, second, runs):
-    """Medians (wall s) and peak RSS (MiB) of two commands, their runs alternating."""
+    """Medians (wall s) and peak RSS (MiB) of two commands, their runs
+    alternating and each going first in every other round (a run right after
+    another of the same file was measured faster or slower by its place
+    alone)."""
     a, b = [], []
-    for _ in range(runs):
-        a.append(run_measured(first))
-        b.append(run_measured(second))
+    for round_ in range(runs):
+        if round_ % 2 == 0:
+            a.append(run_measured(first))
+            b.append(run_measured(second))
+        else:
+            b.append(run_measured(second))
+            a.append(run_measured(first))
     return ((statistics.median(r[0] for r in a), max(r[1] for r in a)),
             (statistics.median(r[0] for r in b), max(r[1] for r in b)))
 
