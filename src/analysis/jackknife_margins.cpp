@@ -37,9 +37,9 @@ double near(double value, double reference) { return reference + wrap_deg(value 
 
 // A listed crossing as the replicates move it: its group's fits of both
 // curves on the lines themselves, their values and slopes at the crossing.
-// A replicate moves
-// the crossing by its change of the crossing curve's fit there over that
-// slope, and reads the other curve there plus its slope times that move.
+// A replicate moves the crossing by its change of the crossing curve's fit
+// there over that slope, and reads the other curve there plus its slope
+// times that move.
 // The slope is held: the local fit's own slope over a few sparse lines
 // (a stepped sine's) is noisy, and a replicate that divides by it makes the
 // jackknife's variance scatter from run to run with the slope, not with the

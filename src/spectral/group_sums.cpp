@@ -43,9 +43,9 @@ std::vector<std::vector<GroupLines>> GroupSums::finish(std::size_t averages) {
   return std::move(groups_);
 }
 
-std::size_t groups_within_budget(std::size_t arrays, std::size_t lines) {
+std::size_t groups_within_budget(std::size_t arrays, std::size_t lines, std::size_t sets) {
   const std::size_t per_group = std::max<std::size_t>(arrays * lines * sizeof(std::complex<double>), 1);
-  const std::size_t fit = std::min(kMostGroups, kGroupBudgetBytes / per_group);
+  const std::size_t fit = std::min(kMostGroups, kGroupBudgetBytes / std::max<std::size_t>(sets, 1) / per_group);
   // Merging halves the groups: at least twice the fewest must fit.
   return fit >= 2 * kFewestGroups ? fit : 0;
 }

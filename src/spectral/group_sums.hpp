@@ -45,15 +45,17 @@ class GroupSums {
   std::vector<std::vector<GroupLines>> groups_;  // [group][array]
 };
 
-// The most groups that fit a memory budget for `arrays` arrays of `lines`
-// lines, at most kMostGroups; 0 when fewer than twice kFewestGroups would
-// fit (a merge halves them).
-std::size_t groups_within_budget(std::size_t arrays, std::size_t lines);
+// The most groups that fit a memory budget for `sets` sets of groups (one
+// a Welch lane) of `arrays` arrays of `lines` lines, at most kMostGroups; 0
+// when fewer than twice kFewestGroups would fit (a merge halves them).
+std::size_t groups_within_budget(std::size_t arrays, std::size_t lines, std::size_t sets = 1);
 // Bounds of the jackknife's groups: fewer than 6 give a variance with
 // too few degrees of freedom to be worth it (the t quantile at 5 is 2.57),
 // more than 32 add nothing a bench engineer would see (2.04 against 1.96
-// for 95 %); 8 MiB holds 32 groups of the two cross-spectra of a 4096-line
-// segment four times over.
+// for 95 %); 8 MiB holds 32 groups of the two cross-spectra of a
+// 4096-sample segment four times over, and split between two Welch lanes it
+// keeps at least 12 groups for segments of up to 21842 samples (longer ones
+// get first-order intervals, and the method says why).
 inline constexpr std::size_t kMostGroups = 32;
 inline constexpr std::size_t kFewestGroups = 6;
 inline constexpr std::size_t kGroupBudgetBytes = std::size_t{8} << 20;

@@ -130,52 +130,28 @@ Diagnostics spectral_findings(const CrossSpectra& spectra, const std::vector<std
 
 namespace {
 
-// The groups of segments that the lanes share, and the lock that guards
-// their sums while lanes add to them.
-struct SharedGroups {
-  detail::GroupSums sums;
-  std::vector<std::size_t> pairs;  // indices into Lane::sums of the grouped pairs
-  std::mutex mutex;
-};
-
 // One worker's share of the averaging: an FFT per channel (each with its own
-// output buffer, so nothing is copied) and its own running sums. The sums of
-// grouped pairs hold the current group's segments only and are handed to
-// the shared groups when the lane moves on to another group, and at the end
-// (not at every batch's end: a batch may hold only a few segments, and
-// handing over two arrays of lines each time cost a tenth of the analysis's
-// time on the benchmark's recording).
+// output buffer, so nothing is copied) and its own running sums. The pairs
+// the jackknife needs (`grouped`) go into the lane's own group sums instead
+// of its totals: each lane keeps its own, so that the sums, added up in lane
+// order at the end, do not depend on which lane finished first (one shared
+// set, added to under a lock, gave results that differed in their last bits
+// from run to run).
 struct Lane {
-  static constexpr std::size_t kNoGroup = static_cast<std::size_t>(-1);
   std::vector<detail::RealFft> ffts;
   std::vector<ComplexLines> sums;  // per pair
+  detail::GroupSums groups;        // per group, per grouped pair
   std::size_t segments = 0;
-  std::size_t held = kNoGroup;  // a segment in the grouped pairs' sums: their group is its group
 
   Lane(std::size_t channels, std::size_t n) : sums(channels * (channels + 1) / 2, ComplexLines(n / 2 + 1)) {
     for (std::size_t c = 0; c < channels; ++c) ffts.emplace_back(n);
   }
 
-  // The group is found from a segment's index when the sums are handed
-  // over, so groups merged since (GroupSums::make_room, between batches)
-  // are followed.
-  void flush(SharedGroups& shared) {
-    if (held == kNoGroup) return;
-    std::lock_guard lock(shared.mutex);
-    for (std::size_t a = 0; a < shared.pairs.size(); ++a) {
-      ComplexLines& from = sums[shared.pairs[a]];
-      ComplexLines& to = shared.sums.at(shared.sums.group_of(held), a);
-      for (std::size_t k = 0; k < from.size(); ++k) to[k] += from[k];
-      std::fill(from.begin(), from.end(), std::complex<double>{});
-    }
-    held = kNoGroup;
-  }
-
-  // Segment `index` (in order of time) is about to be added.
-  void enter(std::size_t index, SharedGroups& shared) {
-    if (shared.pairs.empty()) return;
-    if (held != kNoGroup && shared.sums.group_of(index) != shared.sums.group_of(held)) flush(shared);
-    held = index;
+  // Where pair `pair` of segment `index` is summed.
+  ComplexLines& target(std::size_t pair, std::size_t index, const std::vector<std::size_t>& grouped) {
+    const auto it = std::find(grouped.begin(), grouped.end(), pair);
+    if (it == grouped.end()) return sums[pair];
+    return groups.at(groups.group_of(index), static_cast<std::size_t>(it - grouped.begin()));
   }
 
   void transform(const double* segment, const std::vector<double>& window, bool remove_mean, detail::RealFft& fft) {
@@ -217,13 +193,17 @@ struct Lane {
     }
   }
 
-  void accumulate(const std::vector<std::vector<double>>& pending, std::size_t offset, const std::vector<double>& window,
-                  bool remove_mean) {
+  // Segment `index` (in order of time) of the record, at `offset` in `pending`.
+  void accumulate(const std::vector<std::vector<double>>& pending, std::size_t offset, std::size_t index,
+                  const std::vector<std::size_t>& grouped, const std::vector<double>& window, bool remove_mean) {
     for (std::size_t c = 0; c < ffts.size(); ++c) transform(pending[c].data() + offset, window, remove_mean, ffts[c]);
     std::size_t pair = 0;
     for (std::size_t i = 0; i < ffts.size(); ++i) {
-      add_power(sums[pair++], ffts[i].output());
-      for (std::size_t j = i + 1; j < ffts.size(); ++j, ++pair) add_cross(sums[pair], ffts[i].output(), ffts[j].output());
+      add_power(target(pair, index, grouped), ffts[i].output());
+      ++pair;
+      for (std::size_t j = i + 1; j < ffts.size(); ++j, ++pair) {
+        add_cross(target(pair, index, grouped), ffts[i].output(), ffts[j].output());
+      }
     }
     ++segments;
   }
@@ -299,7 +279,7 @@ struct WelchAccumulator::Impl {
   std::vector<Lane> lanes;                     // one per core
   std::size_t samples = 0;
   std::size_t segments_started = 0;            // segments handed to the lanes so far
-  SharedGroups groups;
+  std::vector<std::size_t> grouped;            // pair indices of options.grouped_pairs, when they are kept in groups
   std::vector<std::unique_ptr<Worker>> workers;  // last: stopped before the data they use goes
 
   Impl(std::size_t channels, const WelchOptions& opts) : options(opts), channel_count(channels), pending(channels) {
@@ -315,15 +295,17 @@ struct WelchAccumulator::Impl {
     window = make_window(options.window, options.segment_length);
     for (std::size_t i = 0; i < workers.size(); ++i) lanes.emplace_back(channel_count, options.segment_length);
     const std::size_t lines = options.segment_length / 2 + 1;
-    const std::size_t most = detail::groups_within_budget(options.grouped_pairs.size(), lines);
+    const std::size_t most = detail::groups_within_budget(options.grouped_pairs.size(), lines, lanes.size());
     if (most == 0) return;
-    for (const auto& [i, j] : options.grouped_pairs) groups.pairs.push_back(pair_index(i, j, channel_count));
-    groups.sums = detail::GroupSums(groups.pairs.size(), lines, most);
+    for (const auto& [i, j] : options.grouped_pairs) grouped.push_back(pair_index(i, j, channel_count));
+    for (Lane& lane : lanes) lane.groups = detail::GroupSums(grouped.size(), lines, most);
   }
 
   void wait() {
     for (auto& w : workers) w->wait();
   }
+
+  void take_groups(std::size_t segments, CrossSpectra& result);
 
   // Hands the complete segments of `pending` to the lanes, each a share, and
   // keeps the samples from the next segment start on for the next batch.
@@ -344,7 +326,9 @@ struct WelchAccumulator::Impl {
     offset -= keep_from;
     const std::size_t first_index = segments_started;
     segments_started += starts.size();
-    if (!groups.pairs.empty()) groups.sums.make_room(segments_started - 1);
+    if (!grouped.empty()) {
+      for (Lane& lane : lanes) lane.groups.make_room(segments_started - 1);
+    }
     const std::size_t share = (starts.size() + lanes.size() - 1) / lanes.size();
     for (std::size_t l = 0; l < lanes.size(); ++l) {
       const std::size_t first = std::min(l * share, starts.size());
@@ -352,8 +336,7 @@ struct WelchAccumulator::Impl {
       workers[l]->start([this, l, first, last, first_index] {
         Lane& lane = lanes[l];
         for (std::size_t i = first; i < last; ++i) {
-          lane.enter(first_index + i, groups);
-          lane.accumulate(in_flight, starts[i], window, options.remove_segment_mean);
+          lane.accumulate(in_flight, starts[i], first_index + i, grouped, window, options.remove_segment_mean);
         }
       });
     }
@@ -388,10 +371,35 @@ std::size_t WelchAccumulator::segments_done() {
   return total;
 }
 
+// The grouped pairs were summed in the lanes' groups only: the groups,
+// added up in lane order, and their totals, into `result`.
+void WelchAccumulator::Impl::take_groups(std::size_t segments, CrossSpectra& result) {
+  Impl& s = *this;
+  result.segments_per_group = s.lanes[0].groups.per_group();
+  result.grouped_pairs = s.options.grouped_pairs;
+  const std::size_t m = result.segments_per_group;
+  result.group_variance_factor = (static_cast<double>(segments) / result.effective_averages) /
+                                 (static_cast<double>(m) / effective_averages(s.window, result.step, m));
+  result.groups = s.lanes[0].groups.finish(segments);
+  for (std::size_t lane = 1; lane < s.lanes.size(); ++lane) {
+    const auto more = s.lanes[lane].groups.finish(segments);
+    for (std::size_t g = 0; g < result.groups.size(); ++g) {
+      for (std::size_t a = 0; a < s.grouped.size(); ++a) {
+        for (std::size_t k = 0; k < result.groups[g][a].size(); ++k) result.groups[g][a][k] += more[g][a][k];
+      }
+    }
+  }
+  for (std::size_t a = 0; a < s.grouped.size(); ++a) {
+    ComplexLines& total = result.pairs[s.grouped[a]];
+    for (const auto& group : result.groups) {
+      for (std::size_t k = 0; k < total.size(); ++k) total[k] += group[a][k];
+    }
+  }
+}
+
 CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
   Impl& s = *impl_;
   const std::size_t segments = segments_done();
-  for (Lane& lane : s.lanes) lane.flush(s.groups);
   if (segments == 0) {
     std::ostringstream message;
     message << "the record has " << s.samples << " samples, fewer than one segment of " << s.options.segment_length
@@ -421,20 +429,8 @@ CrossSpectra WelchAccumulator::finish(double sample_rate_hz) {
       lines[k] *= single_sided ? scale : 2.0 * scale;
     }
   };
-  if (!s.groups.pairs.empty()) {
-    // The lanes' sums of grouped pairs were handed to the groups: the totals are theirs.
-    result.segments_per_group = s.groups.sums.per_group();
-    result.grouped_pairs = s.options.grouped_pairs;
-    const std::size_t m = result.segments_per_group;
-    result.group_variance_factor = (static_cast<double>(segments) / result.effective_averages) /
-                                   (static_cast<double>(m) / effective_averages(s.window, result.step, m));
-    result.groups = s.groups.sums.finish(segments);
-    for (std::size_t a = 0; a < s.groups.pairs.size(); ++a) {
-      ComplexLines& total = result.pairs[s.groups.pairs[a]];
-      for (const auto& group : result.groups) {
-        for (std::size_t k = 0; k < total.size(); ++k) total[k] += group[a][k];
-      }
-    }
+  if (!s.grouped.empty()) {
+    s.take_groups(segments, result);
   } else if (!s.options.grouped_pairs.empty()) {
     result.no_groups_reason = "the segments are too long for the jackknife's group sums to fit their memory budget";
   }
