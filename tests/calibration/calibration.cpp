@@ -19,7 +19,7 @@
 // and y and a disturbance inside the loop that drifts slowly (red, with a
 // 2 Hz corner). Every recording has its own seed.
 //
-//   calibration_check [--per-cell N] [--limits slow|ci] [--cells LOOP/EXCITATION,...] [--markdown yes]
+//   calibration_check [--per-cell N] [--limits slow|ci|none] [--cells LOOP/EXCITATION,...] [--markdown yes]
 //
 // prints, per cell and quantity, the count, the mean and the scatter of z and
 // the coverage, and for the lines themselves the rms of z (magnitude and
@@ -31,7 +31,9 @@
 // own standard errors at N recordings (sqrt((kappa - 1)/N)/2 for the scatter,
 // kappa the kurtosis of z, 1/sqrt(2N) when z is normal; 1/sqrt(N) for the
 // mean, sqrt(0.95 * 0.05 / N) for the coverage). Exits 1 when a limit is
-// missed.
+// missed. --limits none prints the same and fails only when a recording
+// could not be analysed (the sanitizer build's run: too few recordings for
+// statistics, enough to take every path of the analysis).
 #include <algorithm>
 #include <atomic>
 #include <cmath>
@@ -414,9 +416,13 @@ int main(int argc, char** argv) {
   bool slow = false;
   std::string only;
   bool markdown = false;
+  bool statistics = true;  // --limits none: only a recording that could not be analysed fails
   for (int i = 1; i + 1 < argc; i += 2) {
     if (!std::strcmp(argv[i], "--per-cell")) per_cell = std::max(2, std::atoi(argv[i + 1]));
-    else if (!std::strcmp(argv[i], "--limits")) slow = !std::strcmp(argv[i + 1], "slow");
+    else if (!std::strcmp(argv[i], "--limits")) {
+      slow = !std::strcmp(argv[i + 1], "slow");
+      statistics = std::strcmp(argv[i + 1], "none") != 0;
+    }
     else if (!std::strcmp(argv[i], "--cells")) only = argv[i + 1];
     else if (!std::strcmp(argv[i], "--markdown")) markdown = !std::strcmp(argv[i + 1], "yes");
     else {
@@ -460,7 +466,7 @@ int main(int argc, char** argv) {
   std::printf("calibration of the nominal 95 %% intervals, %d recordings a cell, %s limits\n", per_cell,
               slow ? "slow-run" : "widened");
   bool ok = true;
-  for (const Cell& c : cells) ok = report(c, slow) && ok;
+  for (const Cell& c : cells) ok = (report(c, slow) || (!statistics && c.failed == 0)) && ok;
   std::printf("%s\n", ok ? "pass: every cell within its limits" : "FAIL: a cell is outside its limits");
   if (markdown) print_markdown(cells, slow);
   return ok ? 0 : 1;
