@@ -54,9 +54,9 @@ inline constexpr double kMaxGainIntervalDb = 40.0;
 bool too_wide(const Estimate& frequency_hz, const Estimate& margin, double max_margin_width, double band_decades);
 
 // The local fit of a curve that places a group. Measured lines: a quadratic
-// with equal weights over the placement window (the group's brackets, at
-// least fit_half_width - 1 lines beyond them and any further within
-// 0.03 decade). Lines with an exact part: the bracket's own fit (degree from
+// (a cubic over a window of 7 lines or more spanning 0.04 decade) with equal
+// weights over the placement window (the group's brackets, at least
+// fit_half_width - 1 lines beyond them and any further within 0.03 decade). Lines with an exact part: the bracket's own fit (degree from
 // fit_degree) for a single crossing, a straight line over a merged group.
 LocalFit group_fit(const LineTable& table, const Curve& curve, const std::vector<Crossing>& members,
                    const MarginOptions& options);

@@ -98,8 +98,8 @@ std::vector<Complex> errors_beside(const std::vector<double>& residual_x, const 
 // Replicates of a line whose noise beside it could not be measured, from its
 // first-order relative sigma: H_(j) = H (1 + c sigma (h_a[j] + i h_b[j]))
 // with h_a, h_b two balanced rows of the Sylvester Hadamard matrix of order
-// kBeside (+-1, each
-// orthogonal to the others and to a constant) and c = 1/sqrt(G - 1), so that
+// kBeside (+-1, each orthogonal to the others and to a constant) and
+// c = 1/sqrt(G - 1), so that
 // the jackknife gives ln|H| and arg H each the variance sigma^2. The rows
 // turn with the line's index, so that neighbouring lines' pseudo-errors are
 // uncorrelated, as their dwells' noise is.

@@ -374,23 +374,22 @@ std::size_t WelchAccumulator::segments_done() {
 // The grouped pairs were summed in the lanes' groups only: the groups,
 // added up in lane order, and their totals, into `result`.
 void WelchAccumulator::Impl::take_groups(std::size_t segments, CrossSpectra& result) {
-  Impl& s = *this;
-  result.segments_per_group = s.lanes[0].groups.per_group();
-  result.grouped_pairs = s.options.grouped_pairs;
+  result.segments_per_group = lanes[0].groups.per_group();
+  result.grouped_pairs = options.grouped_pairs;
   const std::size_t m = result.segments_per_group;
   result.group_variance_factor = (static_cast<double>(segments) / result.effective_averages) /
-                                 (static_cast<double>(m) / effective_averages(s.window, result.step, m));
-  result.groups = s.lanes[0].groups.finish(segments);
-  for (std::size_t lane = 1; lane < s.lanes.size(); ++lane) {
-    const auto more = s.lanes[lane].groups.finish(segments);
+                                 (static_cast<double>(m) / effective_averages(window, result.step, m));
+  result.groups = lanes[0].groups.finish(segments);
+  for (std::size_t lane = 1; lane < lanes.size(); ++lane) {
+    const auto more = lanes[lane].groups.finish(segments);
     for (std::size_t g = 0; g < result.groups.size(); ++g) {
-      for (std::size_t a = 0; a < s.grouped.size(); ++a) {
+      for (std::size_t a = 0; a < grouped.size(); ++a) {
         for (std::size_t k = 0; k < result.groups[g][a].size(); ++k) result.groups[g][a][k] += more[g][a][k];
       }
     }
   }
-  for (std::size_t a = 0; a < s.grouped.size(); ++a) {
-    ComplexLines& total = result.pairs[s.grouped[a]];
+  for (std::size_t a = 0; a < grouped.size(); ++a) {
+    ComplexLines& total = result.pairs[grouped[a]];
     for (const auto& group : result.groups) {
       for (std::size_t k = 0; k < total.size(); ++k) total[k] += group[a][k];
     }
