@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <numbers>
 #include <sstream>
 
 #include "loopaudit/error.hpp"
@@ -44,33 +45,54 @@ constexpr double kFewestCyclesBeside = 12.0;
 
 using Complex = std::complex<double>;
 
-// The errors the line H = Y/X would show from the noise beside the dwell's
-// frequency: at each frequency f' beside it the residuals of x and y give
-// phasors N_x, N_y that the same fit at f' would have taken for signal, and
-// dH = (N_y - H N_x) / X, the first-order error of a ratio whose two
-// channels carry correlated noise (x and y share the loop's disturbance).
-// The noise need not be white: its power is taken to follow a power of
+// The noise beside a dwell's frequency: at each frequency f' beside it the
+// residuals of x and y (after the sine and the drift) give phasors N_x, N_y
+// that the same fit at f' would have taken for signal. Fewer than kBeside
+// when the dwell is too short to hold them.
+struct NoiseBeside {
+  std::vector<double> frequency_hz;
+  std::vector<Complex> x, y;
+};
+
+NoiseBeside noise_beside(const std::vector<double>& residual_x, const std::vector<double>& residual_y,
+                         double frequency_hz, double sample_rate_hz) {
+  const double bin_hz = sample_rate_hz / static_cast<double>(residual_x.size());
+  NoiseBeside out;
+  for (int j = kNearestBin; j <= kFarthestBin && out.x.size() < kBeside; ++j) {
+    for (const int side : {-1, 1}) {
+      const double f = frequency_hz + side * j * bin_hz;
+      if (f < kLowestBin * bin_hz || f > sample_rate_hz / 2.0 - bin_hz || out.x.size() == kBeside) continue;
+      out.frequency_hz.push_back(f);
+      out.x.push_back(fit_sine_three(residual_x, f, sample_rate_hz).phasor());
+      out.y.push_back(fit_sine_three(residual_y, f, sample_rate_hz).phasor());
+    }
+  }
+  return out;
+}
+
+// The errors the line H = Y/X at f would show from that noise: at each f'
+// beside it E = N_y - H(f') N_x, the noise that the ratio's own estimate
+// would take in at f' (x and y share the loop's disturbance, so their noise
+// is correlated and the combination, not either channel, is what a line
+// carries), and dH = E / X. H(f') is the response read off the lines
+// (`response_at`), not H(f): at the loop's sensitivity peak a disturbance
+// inside the loop cancels in N_y - H(f) N_x at f alone, and the frequencies
+// beside it showed the lines there too little noise (on the calibration
+// check's resonant loop, rms z 1.5 for the lines within 10 % of the peak).
+// The noise need not be white: the power of E is taken to follow a power of
 // frequency across the neighbours (a straight line through ln |dH|^2
 // against ln f'), and each error is brought to that line's level at the
 // dwell's own frequency. Without this, a dwell of few cycles, whose
 // neighbours lie mostly above it, took the noise of higher frequencies for
 // its own (measured on the calibration check's conditional loop: the lines
-// below 110 Hz claimed 1.6 times their real error). Fewer than kBeside
-// errors when the dwell is too short to hold them.
-std::vector<Complex> errors_beside(const std::vector<double>& residual_x, const std::vector<double>& residual_y,
-                                   Complex h, Complex x, double frequency_hz, double sample_rate_hz) {
-  const double bin_hz = sample_rate_hz / static_cast<double>(residual_x.size());
+// below 110 Hz claimed 1.6 times their real error).
+template <typename ResponseAt>
+std::vector<Complex> errors_of(const NoiseBeside& noise, Complex x, double frequency_hz, ResponseAt response_at) {
   std::vector<Complex> errors;
   std::vector<double> log_ratio;
-  for (int j = kNearestBin; j <= kFarthestBin && errors.size() < kBeside; ++j) {
-    for (const int side : {-1, 1}) {
-      const double f = frequency_hz + side * j * bin_hz;
-      if (f < kLowestBin * bin_hz || f > sample_rate_hz / 2.0 - bin_hz || errors.size() == kBeside) continue;
-      const Complex nx = fit_sine_three(residual_x, f, sample_rate_hz).phasor();
-      const Complex ny = fit_sine_three(residual_y, f, sample_rate_hz).phasor();
-      errors.push_back((ny - h * nx) / x);
-      log_ratio.push_back(std::log(f / frequency_hz));
-    }
+  for (std::size_t j = 0; j < noise.x.size(); ++j) {
+    errors.push_back((noise.y[j] - response_at(noise.frequency_hz[j]) * noise.x[j]) / x);
+    log_ratio.push_back(std::log(noise.frequency_hz[j] / frequency_hz));
   }
   if (errors.size() < 2) return errors;
   double mean_t = 0.0, mean_y = 0.0;
@@ -91,39 +113,85 @@ std::vector<Complex> errors_beside(const std::vector<double>& residual_x, const 
   return errors;
 }
 
-// Replicates of a line from the errors beside it, centred so that their
-// mean is the line's value: H_(j) = H + c (E_j - mean E) with c = sqrt(G)/(G - 1),
-// so that the jackknife's (G - 1)/G sum (H_(j) - mean)^2 is the unbiased
-// variance of the errors, the line's own.
-// Replicates of a line whose noise beside it could not be measured, from its
-// first-order relative sigma: H_(j) = H (1 + c sigma (h_a[j] + i h_b[j]))
-// with h_a, h_b two balanced rows of the Sylvester Hadamard matrix of order
-// kBeside (+-1, each orthogonal to the others and to a constant) and
-// c = 1/sqrt(G - 1), so that
-// the jackknife gives ln|H| and arg H each the variance sigma^2. The rows
-// turn with the line's index, so that neighbouring lines' pseudo-errors are
-// uncorrelated, as their dwells' noise is.
-std::vector<Complex> first_order_replicates(Complex h, double relative_sigma, std::size_t line) {
+// The response between lines sorted by frequency: linear in log frequency
+// for log |H| and the phase unwrapped along the lines, the end lines' value
+// beyond them.
+class LineInterpolation {
+ public:
+  explicit LineInterpolation(const Response& sorted) {
+    double previous = 0.0;
+    for (std::size_t k = 0; k < sorted.size(); ++k) {
+      const double phase = std::arg(sorted.value[k]);
+      const double unwrapped = k == 0 ? phase : previous + std::remainder(phase - previous, 2.0 * std::numbers::pi);
+      log_f_.push_back(std::log(sorted.frequency_hz[k]));
+      log_value_.push_back({std::log(std::abs(sorted.value[k])), unwrapped});
+      previous = unwrapped;
+    }
+  }
+  Complex operator()(double frequency_hz) const {
+    const double u = std::log(frequency_hz);
+    const auto above = std::upper_bound(log_f_.begin(), log_f_.end(), u);
+    if (above == log_f_.begin()) return std::exp(log_value_.front());
+    if (above == log_f_.end()) return std::exp(log_value_.back());
+    const std::size_t k = static_cast<std::size_t>(above - log_f_.begin());
+    const double t = (u - log_f_[k - 1]) / (log_f_[k] - log_f_[k - 1]);
+    return std::exp(log_value_[k - 1] + t * (log_value_[k] - log_value_[k - 1]));
+  }
+
+ private:
+  std::vector<double> log_f_;
+  std::vector<Complex> log_value_;  // ln |H| + i arg H, unwrapped
+};
+
+// Two balanced rows of the Sylvester Hadamard matrix of order kBeside (+-1,
+// each orthogonal to the others and to a constant), turning with the line's
+// index so that neighbouring lines' pseudo-errors are uncorrelated, as their
+// dwells' noise is.
+struct SignRows {
   static_assert((kBeside & (kBeside - 1)) == 0, "Sylvester's Hadamard matrices have an order that is a power of two");
-  const auto hadamard = [](std::size_t row, std::size_t column) {
+  std::size_t a, b;
+  explicit SignRows(std::size_t line) {
+    const std::size_t rows = kBeside - 1;  // the balanced ones: all but the first
+    a = 1 + line % rows;
+    b = 1 + (line + rows / 2) % rows;
+  }
+  static double sign(std::size_t row, std::size_t column) {
     return __builtin_popcountll(row & column) % 2 == 0 ? 1.0 : -1.0;
-  };
-  const std::size_t rows = kBeside - 1;  // the balanced ones: all but the first
-  const std::size_t a = 1 + line % rows, b = 1 + (line + rows / 2) % rows;
-  const double c = relative_sigma / std::sqrt(static_cast<double>(kBeside) - 1.0);
+  }
+};
+
+// Replicates of a line from the errors beside it: H_(j) = H + c (s_j E_j -
+// mean(s E)), s_j the signs of a balanced Hadamard row and
+// c = sqrt(G)/(G - 1), so that the jackknife's (G - 1)/G sum (H_(j) - mean)^2
+// is the errors' mean square, the line's own variance, and each error keeps
+// its direction (a line's error need not be circular). The signs matter:
+// the errors beside a dwell share part of their value (on the calibration
+// check's conditional loop, below 70 Hz, centring them without signs left
+// the replicates 0.76 of the line's variance, and its lower phase crossover's
+// interval 1.5 times too narrow).
+std::vector<Complex> replicates_of(Complex h, const std::vector<Complex>& errors, std::size_t line) {
+  const double g = static_cast<double>(errors.size());
+  const SignRows rows(line);
+  Complex mean = 0.0;
+  for (std::size_t j = 0; j < errors.size(); ++j) mean += SignRows::sign(rows.a, j) * errors[j] / g;
+  const double c = std::sqrt(g) / (g - 1.0);
   std::vector<Complex> out;
-  for (std::size_t j = 0; j < kBeside; ++j) out.push_back(h * (1.0 + c * Complex(hadamard(a, j), hadamard(b, j))));
+  for (std::size_t j = 0; j < errors.size(); ++j) out.push_back(h + c * (SignRows::sign(rows.a, j) * errors[j] - mean));
   return out;
 }
 
-std::vector<Complex> replicates_of(Complex h, const std::vector<Complex>& errors) {
-  const double g = static_cast<double>(errors.size());
-  Complex mean = 0.0;
-  for (const Complex& e : errors) mean += e;
-  mean /= g;
-  const double c = std::sqrt(g) / (g - 1.0);
+// Replicates of a line whose noise beside it could not be measured, from its
+// first-order relative sigma: H_(j) = H (1 + c sigma (h_a[j] + i h_b[j]))
+// with h_a, h_b the signs of two balanced Hadamard rows and
+// c = 1/sqrt(G - 1), so that the jackknife gives ln|H| and arg H each the
+// variance sigma^2.
+std::vector<Complex> first_order_replicates(Complex h, double relative_sigma, std::size_t line) {
+  const SignRows rows(line);
+  const double c = relative_sigma / std::sqrt(static_cast<double>(kBeside) - 1.0);
   std::vector<Complex> out;
-  for (const Complex& e : errors) out.push_back(h + c * (e - mean));
+  for (std::size_t j = 0; j < kBeside; ++j) {
+    out.push_back(h * (1.0 + c * Complex(SignRows::sign(rows.a, j), SignRows::sign(rows.b, j))));
+  }
   return out;
 }
 
@@ -144,7 +212,12 @@ struct SteppedSineEstimator::Impl {
   std::vector<double> distorted_hz;
   std::vector<double> mismatched_hz;  // dwells whose injection is not at the stated frequency
   std::vector<double> unmeasured_hz;  // dwells too short to measure the noise beside their line
-  std::vector<std::vector<Complex>> line_replicates;  // per line, in dwell order
+  // Per line, in dwell order: its replicates (left empty until finish()
+  // for a line whose noise beside it was measured), the noise beside it and
+  // the line's X.
+  std::vector<std::vector<Complex>> line_replicates;
+  std::vector<NoiseBeside> beside;
+  std::vector<Complex> line_x;
 
   explicit Impl(SteppedOptions o) : options(std::move(o)) {
     for (const Dwell& d : options.dwells) {
@@ -170,14 +243,11 @@ struct SteppedSineEstimator::Impl {
     if (x.amplitude() == 0.0 || y.amplitude() == 0.0) return;
     const Complex h = y.phasor() / x.phasor();
     const double cycles = static_cast<double>(n) * z.frequency_hz / fs;
-    const auto errors = cycles >= kFewestCyclesBeside
-                            ? errors_beside(residual_x, residual_y, h, x.phasor(), z.frequency_hz, fs)
-                            : std::vector<Complex>{};
-    double relative = 0.0;  // var(H) / |H|^2
-    if (errors.size() == kBeside) {
-      for (const Complex& e : errors) relative += std::norm(e);
-      relative /= static_cast<double>(errors.size()) * std::norm(h);
-      line_replicates.push_back(replicates_of(h, errors));
+    NoiseBeside noise = cycles >= kFewestCyclesBeside ? noise_beside(residual_x, residual_y, z.frequency_hz, fs)
+                                                      : NoiseBeside{};
+    double relative = 0.0;  // var(H) / |H|^2; set in finish() from the noise beside the line when measured
+    if (noise.x.size() == kBeside) {
+      line_replicates.emplace_back();
     } else {
       // Too short for the noise beside it: the residual as if white (a phasor
       // fitted to N samples with white residual s has variance 4 s^2 / N).
@@ -185,7 +255,10 @@ struct SteppedSineEstimator::Impl {
                  4.0 * y.residual_rms * y.residual_rms / (n * std::norm(y.phasor()));
       unmeasured_hz.push_back(z.frequency_hz);
       line_replicates.push_back(first_order_replicates(h, std::sqrt(relative / 2.0), line_replicates.size()));
+      noise = NoiseBeside{};
     }
+    beside.push_back(std::move(noise));
+    line_x.push_back(x.phasor());
     const auto snr = [](const SineFit& f) {
       return f.residual_rms > 0.0 ? db_from_power(f.amplitude() * f.amplitude() / 2.0 / (f.residual_rms * f.residual_rms))
                                   : 300.0;
@@ -212,6 +285,21 @@ struct SteppedSineEstimator::Impl {
     response.coherence.push_back(1.0 / (1.0 + std::pow(10.0, -snr_db / 10.0)));
     response.snr_db.push_back(snr_db);
     response.relative_sigma.push_back(std::sqrt(relative / 2.0));
+  }
+
+  // Each line's sigma and replicates from the noise measured beside it,
+  // once every line is known (the errors need the response beside each).
+  void measure_noise(const LineInterpolation& response_at) {
+    for (std::size_t k = 0; k < response.size(); ++k) {
+      if (beside[k].x.empty()) continue;
+      const Complex h = response.value[k];
+      const auto errors = errors_of(beside[k], line_x[k], response.frequency_hz[k], response_at);
+      double relative = 0.0;
+      for (const Complex& e : errors) relative += std::norm(e);
+      relative /= static_cast<double>(errors.size()) * std::norm(h);
+      response.relative_sigma[k] = std::sqrt(relative / 2.0);
+      line_replicates[k] = replicates_of(h, errors, k);
+    }
   }
 
   void next_dwell() {
@@ -297,6 +385,11 @@ Response SteppedSineEstimator::finish(Diagnostics& findings) {
                                         "): do the schedule or marker and the recording belong together?"));
   }
   if (s.response.size() == 0) throw NumericalError("no dwell of the stepped sine could be fitted");
+  // Dwells may come in any order; lines go out ascending.
+  std::vector<std::size_t> order(s.response.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::sort(order.begin(), order.end(), [&](auto a, auto b) { return s.response.frequency_hz[a] < s.response.frequency_hz[b]; });
+  s.measure_noise(LineInterpolation(select_lines(s.response, order)));
   s.response.replicates.assign(kBeside, {});
   for (const auto& line : s.line_replicates) {
     for (std::size_t j = 0; j < kBeside; ++j) s.response.replicates[j].push_back(line[j]);
@@ -310,10 +403,6 @@ Response SteppedSineEstimator::finish(Diagnostics& findings) {
                                      "lines' uncertainty takes the fit's residual as white noise; dwell longer for "
                                      "an uncertainty measured at the line's own frequency"));
   }
-  // Dwells may come in any order; lines go out ascending.
-  std::vector<std::size_t> order(s.response.size());
-  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
-  std::sort(order.begin(), order.end(), [&](auto a, auto b) { return s.response.frequency_hz[a] < s.response.frequency_hz[b]; });
   Response sorted = select_lines(s.response, order);
   sorted.method = {ResponseMethodKind::kSteppedSine, sorted.size(), 1.0};
   sorted.method.replicate_kind = ReplicateKind::kNoiseBeside;
